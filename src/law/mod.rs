@@ -1,0 +1,102 @@
+//! Switching laws: what the gate should do next.
+//!
+//! A law turns fast-path events into a [`Command`]. Three events reach it,
+//! each from its own interrupt:
+//!
+//! - [`Law::on_sample`]: an ADC conversion of the sensed output finished;
+//! - [`Law::on_edge`]: an analog comparator's output changed level;
+//! - [`Law::on_timer`]: the one-shot timer armed from an earlier
+//!   [`Command::wake`] expired.
+//!
+//! [`Law::on_gate`] tells the law when the gate really switched (a guard or a
+//! supervisor may delay or veto what it asked for), so a law that times its
+//! on-time from the turn-on starts counting at the right tick.
+//!
+//! All methods are fast-path code: integer compares and adds only, no
+//! division, no float, no panic, bounded time.
+
+pub mod hysteretic;
+pub mod passthrough;
+
+pub use hysteretic::{Hysteretic, HystereticConfig, Threshold};
+pub use passthrough::ComparatorPassThrough;
+
+use crate::tick::Instant;
+
+/// State of the power switch's gate drive.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Gate {
+    /// High-side switch off (freewheeling through the diode or low side).
+    Off,
+    /// High-side switch on.
+    On,
+}
+
+impl Gate {
+    /// `On` when `on` is true.
+    #[inline(always)]
+    pub const fn from_bool(on: bool) -> Self {
+        if on {
+            Gate::On
+        } else {
+            Gate::Off
+        }
+    }
+
+    /// True for [`Gate::On`].
+    #[inline(always)]
+    pub const fn is_on(self) -> bool {
+        matches!(self, Gate::On)
+    }
+}
+
+/// What a law or guard asks of the firmware after an event.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Command {
+    /// Drive the gate to this state now.
+    pub gate: Gate,
+    /// Call [`Law::on_timer`] at this instant, even if no other event comes
+    /// first (arm a one-shot compare). `None`: no deadline.
+    pub wake: Option<Instant>,
+}
+
+impl Command {
+    /// A command without a deadline.
+    #[inline(always)]
+    pub const fn hold(gate: Gate) -> Self {
+        Self { gate, wake: None }
+    }
+
+    /// A command with a deadline.
+    #[inline(always)]
+    pub const fn until(gate: Gate, wake: Instant) -> Self {
+        Self { gate, wake: Some(wake) }
+    }
+}
+
+/// A switching law, or anything wrapping one (guard, supervisor).
+pub trait Law {
+    /// An ADC conversion of the sensed output finished.
+    ///
+    /// `code`: raw ADC result (format of the configured
+    /// [`AdcChannel`](crate::scale::AdcChannel)); `now`: timer reading of the
+    /// sampling instant.
+    fn on_sample(&mut self, code: u16, now: Instant) -> Command;
+
+    /// The analog comparator's output is now `level` (true: sensed signal
+    /// above the armed threshold). Level-based: calling it twice with the
+    /// same level is harmless, so firmware may also call it after arming a
+    /// threshold to report the current level.
+    fn on_edge(&mut self, level: bool, now: Instant) -> Command;
+
+    /// The deadline of an earlier [`Command::wake`] was reached.
+    fn on_timer(&mut self, now: Instant) -> Command;
+
+    /// The gate actually switched to `gate` at `at`. Default: ignored.
+    #[inline(always)]
+    fn on_gate(&mut self, gate: Gate, at: Instant) {
+        let _ = (gate, at);
+    }
+}

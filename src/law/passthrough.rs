@@ -1,0 +1,50 @@
+//! Pass-through law for boards that keep their analog comparator loop.
+//!
+//! The existing comparator (Schmitt trigger, Zener reference) still decides
+//! when to switch; its output is routed to a capture or pin-change interrupt
+//! instead of straight to the gate driver. Each edge becomes the law's demand,
+//! and a [`FrequencyGuard`](crate::guard::FrequencyGuard) wrapped around this
+//! law clamps the timing before the gate is driven.
+
+use super::{Command, Gate, Law};
+use crate::tick::Instant;
+
+/// Forwards the comparator's level as the gate demand.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct ComparatorPassThrough {
+    active_high: bool,
+    demand: Gate,
+}
+
+impl ComparatorPassThrough {
+    /// `active_high`: true when a high comparator output means "gate on"
+    /// (false for an inverting stage driving an active-low enable).
+    pub const fn new(active_high: bool) -> Self {
+        Self { active_high, demand: Gate::Off }
+    }
+
+    /// What the comparator asks for now.
+    pub const fn demand(&self) -> Gate {
+        self.demand
+    }
+}
+
+impl Law for ComparatorPassThrough {
+    /// ADC samples do not steer this law; the demand is held.
+    #[inline]
+    fn on_sample(&mut self, _code: u16, _now: Instant) -> Command {
+        Command::hold(self.demand)
+    }
+
+    #[inline]
+    fn on_edge(&mut self, level: bool, _now: Instant) -> Command {
+        self.demand = Gate::from_bool(level == self.active_high);
+        Command::hold(self.demand)
+    }
+
+    #[inline]
+    fn on_timer(&mut self, _now: Instant) -> Command {
+        Command::hold(self.demand)
+    }
+}

@@ -1,0 +1,55 @@
+//! # ripplectl
+//!
+//! Ripple-based control of step-down (buck) converters from a
+//! microcontroller: fixed-point laws that run in an interrupt on a Cortex-M0+
+//! without an FPU, a guard that keeps the switching frequency inside a chosen
+//! window, and (with the default `std` feature) a host simulator that runs the
+//! same code against a switched converter model.
+//!
+//! ## Where things live
+//!
+//! | module | what |
+//! |---|---|
+//! | [`scale`] | volts ⇄ ADC codes, seconds ⇄ timer ticks, at configuration |
+//! | [`tick`] | wrapping timer readings |
+//! | [`law`] | the [`Law`] trait and the switching laws |
+//! | [`guard`] | the frequency-window guard around any law |
+//! | [`reference`](mod@reference) | `f64` models in SI units: the oracle for tests |
+//! | [`error`] | configuration errors |
+//!
+//! ## Fast path and slow path
+//!
+//! Methods marked *fast path* run in the switching interrupt: integer
+//! arithmetic only, no division, no float, no panic, no loop. Everything
+//! else (constructors, retuning) is *slow path* and may divide and use
+//! floats. Configuration is checked once; invalid values give a named
+//! [`ConfigError`], never a panic or a silent clamp.
+//!
+//! ## Safety
+//!
+//! Firmware control of a power stage can burn, shock and destroy loads. Power
+//! a new board first from a current-limited bench supply, keep a hardware
+//! current limit that does not depend on this firmware, and defer to local
+//! codes and licensed practice for anything mains-connected or
+//! safety-relevant.
+#![cfg_attr(not(feature = "std"), no_std)]
+#![deny(missing_docs)]
+#![forbid(unsafe_code)]
+
+pub mod error;
+pub mod guard;
+pub mod law;
+pub mod reference;
+pub mod scale;
+pub mod tick;
+
+pub use error::ConfigError;
+pub use guard::{ClampCounts, FrequencyGuard, LightLoad, Window, WindowConfig};
+pub use law::{Command, Gate, Law};
+pub use scale::{AdcChannel, Quantized, TimerClock};
+pub use tick::Instant;
+
+/// The README's code blocks, compiled and run as doctests.
+#[cfg(doctest)]
+#[doc = include_str!("../README.md")]
+struct ReadmeDoctests;
