@@ -51,6 +51,8 @@ pub enum LightLoad {
 /// Guard limits in SI units.
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "std", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "std", serde(deny_unknown_fields))]
 pub struct WindowConfig {
     /// Lowest switching frequency, Hz (> 0); sets the maximum period.
     pub f_min_hz: f32,
@@ -149,6 +151,7 @@ impl Window {
 /// Counters wrap at 2³².
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "std", derive(serde::Serialize))]
 pub struct ClampCounts {
     /// Turn-offs delayed to the minimum on-time.
     pub min_on: u32,

@@ -16,6 +16,8 @@
 //! | [`guard`] | the frequency-window guard around any law |
 //! | [`reference`](mod@reference) | `f64` models in SI units: the oracle for tests |
 //! | [`error`] | configuration errors |
+//! | [`design`] | closed-form predictions: frequency, ripple, CCM/DCM, peak current |
+//! | `sim` | (feature `std`) switched plant, MCU model, scenarios, reports, plots |
 //!
 //! ## Fast path and slow path
 //!
@@ -36,12 +38,16 @@
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
 
+pub mod design;
 pub mod error;
 pub mod guard;
 pub mod law;
 pub mod reference;
 pub mod scale;
 pub mod tick;
+
+#[cfg(feature = "std")]
+pub mod sim;
 
 pub use error::ConfigError;
 pub use guard::{ClampCounts, FrequencyGuard, LightLoad, Window, WindowConfig};

@@ -20,6 +20,8 @@ use crate::tick::Instant;
 /// the divider).
 #[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[cfg_attr(feature = "std", derive(serde::Serialize, serde::Deserialize))]
+#[cfg_attr(feature = "std", serde(deny_unknown_fields))]
 pub struct HystereticConfig {
     /// Output setpoint, volts; the centre of the band.
     pub setpoint_v: f32,

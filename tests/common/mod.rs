@@ -1,6 +1,8 @@
 //! Helpers shared by the integration tests.
 #![allow(dead_code)]
 
+pub mod plants;
+
 use ripplectl::{AdcChannel, Command, Instant, Law};
 
 /// Proptest settings: the foundation asks for at least 10 000 cases.

@@ -1,0 +1,169 @@
+//! The summary of a run: the figures a designer checks, and the stable JSON
+//! contract (`ripplectl simulate --json`).
+
+use super::engine::RunOutput;
+use super::plant::EnergyLedger;
+use super::record::Cycle;
+use crate::guard::ClampCounts;
+use serde::Serialize;
+
+/// A fault the firmware reported.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct FaultEntry {
+    /// Fault kind, kebab-case.
+    pub kind: String,
+    /// Simulated time, s.
+    pub t_s: f64,
+}
+
+/// Loss breakdown over the steady windows, W.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
+pub struct LossesW {
+    /// Source resistance.
+    pub source: f64,
+    /// High-side switch conduction.
+    pub high_side: f64,
+    /// Diode conduction.
+    pub diode: f64,
+    /// Low-side switch conduction.
+    pub low_side: f64,
+    /// Inductor DCR.
+    pub dcr: f64,
+    /// Capacitor ESR.
+    pub esr: f64,
+    /// Switching transitions.
+    pub switching: f64,
+    /// Gate charge.
+    pub gate: f64,
+    /// Core.
+    pub core: f64,
+}
+
+/// The summary. Field names are the JSON keys; the first sixteen are the
+/// stable contract.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Summary {
+    /// Regulation setpoint, V.
+    pub vout_setpoint_v: f64,
+    /// Mean output voltage over the steady windows, V.
+    pub vout_mean_v: f64,
+    /// Output ripple, peak to peak, mean over steady cycles, V.
+    pub vout_ripple_pp_v: f64,
+    /// Lowest steady switching frequency, Hz.
+    pub fsw_min_hz: f64,
+    /// Mean steady switching frequency (cycles / time), Hz.
+    pub fsw_mean_hz: f64,
+    /// Highest steady switching frequency, Hz.
+    pub fsw_max_hz: f64,
+    /// Shortest on-time over the run, s.
+    pub on_time_min_s: f64,
+    /// Shortest off-time over the run, s.
+    pub off_time_min_s: f64,
+    /// Largest inductor current magnitude over the run, A.
+    pub il_peak_a: f64,
+    /// RMS error of the inductor-current estimate over the steady windows,
+    /// A (null without an estimator).
+    pub il_est_error_rms_a: Option<f64>,
+    /// Output over input energy in the steady windows.
+    pub efficiency_true: f64,
+    /// The firmware's efficiency estimate (null without an estimator).
+    pub efficiency_estimated: Option<f64>,
+    /// Faults the firmware logged.
+    pub faults: Vec<FaultEntry>,
+    /// Completed switching cycles over the run.
+    pub switching_cycles: u64,
+    /// Simulated time, s.
+    pub simulated_s: f64,
+    /// Wall-clock time of the run, s.
+    pub wall_s: f64,
+    /// Scenario name.
+    pub scenario: String,
+    /// Guard clamp counters.
+    pub clamps: ClampCounts,
+    /// Loss breakdown over the steady windows, W.
+    pub losses_w: LossesW,
+    /// Steady-window time, s.
+    pub steady_s: f64,
+}
+
+/// `a / b`, or NaN when `b` is zero.
+fn ratio(a: f64, b: f64) -> f64 {
+    if b == 0.0 {
+        f64::NAN
+    } else {
+        a / b
+    }
+}
+
+fn steady_cycles<'a>(out: &'a RunOutput) -> impl Iterator<Item = &'a Cycle> + 'a {
+    out.recorder.cycles.iter().filter(|c| c.period_s.is_finite() && out.recorder.is_steady(c.t_s))
+}
+
+/// Frequency statistics `(min, mean, max)` over steady cycles, Hz.
+pub fn frequency_stats(out: &RunOutput) -> (f64, f64, f64) {
+    let (mut n, mut total, mut lo, mut hi) = (0u64, 0.0, f64::INFINITY, 0.0f64);
+    for c in steady_cycles(out) {
+        n += 1;
+        total += c.period_s;
+        lo = lo.min(c.period_s);
+        hi = hi.max(c.period_s);
+    }
+    if n == 0 {
+        return (f64::NAN, f64::NAN, f64::NAN);
+    }
+    (1.0 / hi, n as f64 / total, 1.0 / lo)
+}
+
+/// Energies summed over the steady windows.
+pub fn steady_energy(out: &RunOutput) -> EnergyLedger {
+    out.recorder
+        .windows
+        .iter()
+        .fold(EnergyLedger::default(), |sum, w| sum.plus(&w.energy_to.since(&w.energy_from)))
+}
+
+impl Summary {
+    /// Summarise a run that took `wall_s` seconds.
+    pub fn of(out: &RunOutput, scenario: &str, wall_s: f64) -> Self {
+        let windows = &out.recorder.windows;
+        let steady_s: f64 = windows.iter().map(|w| w.to_s - w.from_s).sum();
+        let vo_integral: f64 = windows.iter().map(|w| w.vo_integral).sum();
+        let (ripple_sum, ripple_n) = steady_cycles(out)
+            .fold((0.0, 0u32), |(s, n), c| (s + (c.vo_max_v - c.vo_min_v), n + 1));
+        let (fsw_min_hz, fsw_mean_hz, fsw_max_hz) = frequency_stats(out);
+        let e = steady_energy(out);
+        let per_s = |j: f64| ratio(j, steady_s);
+        Self {
+            vout_setpoint_v: out.setpoint_v,
+            vout_mean_v: ratio(vo_integral, steady_s),
+            vout_ripple_pp_v: ratio(ripple_sum, f64::from(ripple_n)),
+            fsw_min_hz,
+            fsw_mean_hz,
+            fsw_max_hz,
+            on_time_min_s: out.recorder.on_min_s,
+            off_time_min_s: out.recorder.off_min_s,
+            il_peak_a: out.recorder.il_peak_a,
+            il_est_error_rms_a: None,
+            efficiency_true: ratio(e.output_j, e.input_j),
+            efficiency_estimated: None,
+            faults: Vec::new(),
+            switching_cycles: out.recorder.cycles.len() as u64,
+            simulated_s: out.simulated_s,
+            wall_s,
+            scenario: scenario.to_string(),
+            clamps: out.clamps,
+            losses_w: LossesW {
+                source: per_s(e.source_j),
+                high_side: per_s(e.high_side_j),
+                diode: per_s(e.diode_j),
+                low_side: per_s(e.low_side_j),
+                dcr: per_s(e.dcr_j),
+                esr: per_s(e.esr_j),
+                switching: per_s(e.switching_j),
+                gate: per_s(e.gate_j),
+                core: per_s(e.core_j),
+            },
+            steady_s,
+        }
+    }
+}

@@ -1,0 +1,287 @@
+//! What a run records: switching cycles, a waveform envelope for plots, and
+//! integrals over the steady-state windows.
+//!
+//! Steady state: the run is split at every disturbance (each input or load
+//! breakpoint after t = 0); the second half of each piece is taken as
+//! steady. Frequency, ripple, mean output and efficiency figures use those
+//! windows only; extremes (peak current, minimum on/off-times) use the whole
+//! run.
+
+use super::plant::EnergyLedger;
+
+/// One switching cycle, from a turn-on to the next.
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+pub struct Cycle {
+    /// Turn-on time, s.
+    pub t_s: f64,
+    /// Time to the next turn-on, s.
+    pub period_s: f64,
+    /// Gate on-time, s.
+    pub on_s: f64,
+    /// Highest inductor current in the cycle, A.
+    pub il_max_a: f64,
+    /// Lowest inductor current in the cycle, A.
+    pub il_min_a: f64,
+    /// Highest output voltage in the cycle, V.
+    pub vo_max_v: f64,
+    /// Lowest output voltage in the cycle, V.
+    pub vo_min_v: f64,
+    /// Highest estimated inductor current in the cycle, A (NaN: none).
+    pub il_est_max_a: f64,
+}
+
+/// Waveform envelope over one slice of time, for plots and CSV.
+#[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
+pub struct Slice {
+    /// Slice start, s.
+    pub t_s: f64,
+    /// Output voltage range, V.
+    pub vo_min_v: f64,
+    /// Output voltage range, V.
+    pub vo_max_v: f64,
+    /// True inductor current range, A.
+    pub il_min_a: f64,
+    /// True inductor current range, A.
+    pub il_max_a: f64,
+    /// Estimated inductor current range, A (NaN: no estimate).
+    pub il_est_min_a: f64,
+    /// Estimated inductor current range, A (NaN: no estimate).
+    pub il_est_max_a: f64,
+    /// Fraction of the slice with the gate on.
+    pub duty: f64,
+}
+
+impl Slice {
+    fn empty(t_s: f64) -> Self {
+        Self {
+            t_s,
+            vo_min_v: f64::INFINITY,
+            vo_max_v: f64::NEG_INFINITY,
+            il_min_a: f64::INFINITY,
+            il_max_a: f64::NEG_INFINITY,
+            il_est_min_a: f64::NAN,
+            il_est_max_a: f64::NAN,
+            duty: 0.0,
+        }
+    }
+}
+
+/// One observation of the circuit.
+#[derive(Clone, Copy, Debug)]
+pub struct Observation {
+    /// Time, s.
+    pub t_s: f64,
+    /// Output voltage, V.
+    pub vo_v: f64,
+    /// Inductor current, A.
+    pub il_a: f64,
+    /// Estimated inductor current, A (NaN: none).
+    pub il_est_a: f64,
+    /// Gate on.
+    pub gate_on: bool,
+}
+
+/// A steady-state window and its integrals.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct Window {
+    /// Start, s.
+    pub from_s: f64,
+    /// End, s.
+    pub to_s: f64,
+    /// ∫ v_o dt, V·s.
+    pub vo_integral: f64,
+    /// ∫ (i_est − i)² dt, A²·s.
+    pub est_err_sq_integral: f64,
+    /// Energies at the start and end.
+    pub energy_from: EnergyLedger,
+    /// Energies at the end.
+    pub energy_to: EnergyLedger,
+    /// Output voltage range within, V.
+    pub vo_min_v: f64,
+    /// Output voltage range within, V.
+    pub vo_max_v: f64,
+}
+
+/// Collects a run.
+#[derive(Clone, Debug)]
+pub struct Recorder {
+    /// Completed cycles.
+    pub cycles: Vec<Cycle>,
+    /// Envelope slices.
+    pub slices: Vec<Slice>,
+    /// Steady windows.
+    pub windows: Vec<Window>,
+    slice_s: f64,
+    rise: Option<f64>,
+    fall: Option<f64>,
+    current: Option<Cycle>,
+    /// Shortest completed on-time, s.
+    pub on_min_s: f64,
+    /// Shortest completed off-time, s.
+    pub off_min_s: f64,
+    /// Largest inductor current magnitude, A.
+    pub il_peak_a: f64,
+    last: Option<Observation>,
+}
+
+impl Recorder {
+    /// A recorder for a run of `duration_s` with the given disturbance
+    /// times, keeping `slices` envelope slices.
+    pub fn new(duration_s: f64, disturbances: &[f64], slices: usize) -> Self {
+        let mut edges = vec![0.0];
+        edges.extend(disturbances.iter().copied().filter(|&t| t > 0.0 && t < duration_s));
+        edges.push(duration_s);
+        let windows = edges
+            .windows(2)
+            .filter(|w| w[1] > w[0])
+            .map(|w| Window {
+                from_s: 0.5 * (w[0] + w[1]),
+                to_s: w[1],
+                vo_min_v: f64::INFINITY,
+                vo_max_v: f64::NEG_INFINITY,
+                ..Window::default()
+            })
+            .collect();
+        let slice_s = duration_s / slices.max(1) as f64;
+        Self {
+            cycles: Vec::new(),
+            slices: (0..slices.max(1)).map(|k| Slice::empty(k as f64 * slice_s)).collect(),
+            windows,
+            slice_s,
+            rise: None,
+            fall: None,
+            current: None,
+            on_min_s: f64::INFINITY,
+            off_min_s: f64::INFINITY,
+            il_peak_a: 0.0,
+            last: None,
+        }
+    }
+
+    /// Window boundaries, in time order, as `(time, window index, is_start)`.
+    pub fn window_edges(&self) -> Vec<(f64, usize, bool)> {
+        let mut e: Vec<_> = self
+            .windows
+            .iter()
+            .enumerate()
+            .flat_map(|(k, w)| [(w.from_s, k, true), (w.to_s, k, false)])
+            .collect();
+        e.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.2.cmp(&b.2)));
+        e
+    }
+
+    /// Record the energies at a window boundary.
+    pub fn window_edge(&mut self, index: usize, is_start: bool, energy: &EnergyLedger) {
+        if let Some(w) = self.windows.get_mut(index) {
+            if is_start {
+                w.energy_from = *energy;
+            } else {
+                w.energy_to = *energy;
+            }
+        }
+    }
+
+    /// The circuit at one instant (called at every simulation event).
+    pub fn observe(&mut self, o: Observation) {
+        self.il_peak_a = self.il_peak_a.max(o.il_a.abs());
+        if let Some(c) = self.current.as_mut() {
+            c.il_max_a = c.il_max_a.max(o.il_a);
+            c.il_min_a = c.il_min_a.min(o.il_a);
+            c.vo_max_v = c.vo_max_v.max(o.vo_v);
+            c.vo_min_v = c.vo_min_v.min(o.vo_v);
+            if o.il_est_a.is_finite() {
+                c.il_est_max_a = if c.il_est_max_a.is_nan() {
+                    o.il_est_a
+                } else {
+                    c.il_est_max_a.max(o.il_est_a)
+                };
+            }
+        }
+        if let Some(prev) = self.last {
+            self.integrate(&prev, &o);
+        }
+        self.envelope(&o);
+        self.last = Some(o);
+    }
+
+    /// Trapezoid integrals over the part of `[prev, o]` inside a window.
+    fn integrate(&mut self, prev: &Observation, o: &Observation) {
+        let dt = o.t_s - prev.t_s;
+        if dt <= 0.0 {
+            return;
+        }
+        let mid = 0.5 * (prev.t_s + o.t_s);
+        let Some(w) = self.windows.iter_mut().find(|w| mid >= w.from_s && mid < w.to_s) else {
+            return;
+        };
+        w.vo_integral += 0.5 * (prev.vo_v + o.vo_v) * dt;
+        w.vo_min_v = w.vo_min_v.min(o.vo_v);
+        w.vo_max_v = w.vo_max_v.max(o.vo_v);
+        if prev.il_est_a.is_finite() && o.il_est_a.is_finite() {
+            let (e0, e1) = (prev.il_est_a - prev.il_a, o.il_est_a - o.il_a);
+            w.est_err_sq_integral += 0.5 * (e0 * e0 + e1 * e1) * dt;
+        }
+    }
+
+    fn envelope(&mut self, o: &Observation) {
+        let k = ((o.t_s / self.slice_s) as usize).min(self.slices.len() - 1);
+        let s = &mut self.slices[k];
+        s.vo_min_v = s.vo_min_v.min(o.vo_v);
+        s.vo_max_v = s.vo_max_v.max(o.vo_v);
+        s.il_min_a = s.il_min_a.min(o.il_a);
+        s.il_max_a = s.il_max_a.max(o.il_a);
+        if o.il_est_a.is_finite() {
+            s.il_est_min_a =
+                if s.il_est_min_a.is_nan() { o.il_est_a } else { s.il_est_min_a.min(o.il_est_a) };
+            s.il_est_max_a =
+                if s.il_est_max_a.is_nan() { o.il_est_a } else { s.il_est_max_a.max(o.il_est_a) };
+        }
+        if let Some(prev) = self.last {
+            if prev.gate_on {
+                s.duty += (o.t_s - prev.t_s) / self.slice_s;
+            }
+        }
+    }
+
+    /// The gate turned on; returns the cycle this edge completed.
+    pub fn rise(&mut self, t_s: f64, o: Observation) -> Option<Cycle> {
+        if let Some(f) = self.fall {
+            self.off_min_s = self.off_min_s.min(t_s - f);
+        }
+        let done = self.current.take().map(|mut c| {
+            c.period_s = t_s - c.t_s;
+            c
+        });
+        if let Some(c) = done {
+            self.cycles.push(c);
+        }
+        self.rise = Some(t_s);
+        self.current = Some(Cycle {
+            t_s,
+            period_s: f64::NAN,
+            on_s: f64::NAN,
+            il_max_a: o.il_a,
+            il_min_a: o.il_a,
+            vo_max_v: o.vo_v,
+            vo_min_v: o.vo_v,
+            il_est_max_a: o.il_est_a,
+        });
+        done
+    }
+
+    /// The gate turned off.
+    pub fn fall(&mut self, t_s: f64) {
+        if let Some(r) = self.rise {
+            self.on_min_s = self.on_min_s.min(t_s - r);
+            if let Some(c) = self.current.as_mut() {
+                c.on_s = t_s - r;
+            }
+        }
+        self.fall = Some(t_s);
+    }
+
+    /// Whether `t_s` lies in a steady window.
+    pub fn is_steady(&self, t_s: f64) -> bool {
+        self.windows.iter().any(|w| t_s >= w.from_s && t_s < w.to_s)
+    }
+}

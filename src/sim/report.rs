@@ -1,0 +1,216 @@
+//! The terminal report and the CSV files of a run.
+
+use super::metrics::Summary;
+use super::record::{Cycle, Slice};
+use crate::guard::WindowConfig;
+use std::fmt::Write as _;
+
+/// Engineering format: `value` scaled to a prefix, 3 significant digits.
+pub fn eng(value: f64, unit: &str) -> String {
+    if !value.is_finite() {
+        return "n/a".to_string();
+    }
+    let prefixes = [(1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n")];
+    let magnitude = value.abs();
+    if magnitude == 0.0 {
+        return format!("0 {unit}");
+    }
+    let (scale, prefix) =
+        prefixes.iter().copied().find(|(s, _)| magnitude >= *s).unwrap_or((1e-9, "n"));
+    let scaled = value / scale;
+    let digits = if scaled.abs() >= 100.0 {
+        1
+    } else if scaled.abs() >= 10.0 {
+        2
+    } else {
+        3
+    };
+    format!("{scaled:.digits$} {prefix}{unit}")
+}
+
+fn percent(x: Option<f64>) -> String {
+    match x {
+        Some(v) if v.is_finite() => format!("{:.1} %", 100.0 * v),
+        _ => "n/a".to_string(),
+    }
+}
+
+/// The human-readable report.
+pub fn table(s: &Summary, window: &WindowConfig) -> String {
+    let mut out = String::new();
+    let rule = "─".repeat(72);
+    let error_pct = 100.0 * (s.vout_mean_v - s.vout_setpoint_v) / s.vout_setpoint_v;
+    let mut row = |label: &str, text: String| {
+        let _ = writeln!(out, "  {label:<14}{text}");
+    };
+    row("scenario", s.scenario.clone());
+    row(
+        "regulation",
+        format!(
+            "setpoint {}   mean {}   error {error_pct:+.2} %",
+            eng(s.vout_setpoint_v, "V"),
+            eng(s.vout_mean_v, "V")
+        ),
+    );
+    row("ripple", format!("{} peak to peak (mean of steady cycles)", eng(s.vout_ripple_pp_v, "V")));
+    row(
+        "frequency",
+        format!(
+            "min {}   mean {}   max {}   (window {} to {})",
+            eng(s.fsw_min_hz, "Hz"),
+            eng(s.fsw_mean_hz, "Hz"),
+            eng(s.fsw_max_hz, "Hz"),
+            eng(f64::from(window.f_min_hz), "Hz"),
+            eng(f64::from(window.f_max_hz), "Hz")
+        ),
+    );
+    row(
+        "timing",
+        format!(
+            "shortest on-time {}   shortest off-time {}",
+            eng(s.on_time_min_s, "s"),
+            eng(s.off_time_min_s, "s")
+        ),
+    );
+    row(
+        "inductor",
+        format!(
+            "peak {}   estimate error {}",
+            eng(s.il_peak_a, "A"),
+            s.il_est_error_rms_a.map_or("n/a".to_string(), |e| format!("{} rms", eng(e, "A")))
+        ),
+    );
+    row(
+        "efficiency",
+        format!(
+            "true {}   estimated {}",
+            percent(Some(s.efficiency_true)),
+            percent(s.efficiency_estimated)
+        ),
+    );
+    let l = &s.losses_w;
+    row(
+        "losses",
+        format!(
+            "switch {}  diode {}  low side {}  DCR {}  ESR {}",
+            eng(l.high_side, "W"),
+            eng(l.diode, "W"),
+            eng(l.low_side, "W"),
+            eng(l.dcr, "W"),
+            eng(l.esr, "W")
+        ),
+    );
+    row(
+        "",
+        format!(
+            "switching {}  gate {}  core {}  source {}",
+            eng(l.switching, "W"),
+            eng(l.gate, "W"),
+            eng(l.core, "W"),
+            eng(l.source, "W")
+        ),
+    );
+    let c = &s.clamps;
+    row(
+        "guard acted",
+        format!(
+            "min-on {}  min-off {}  max-on {}  f-max {}  below f-min {}  forced {}",
+            c.min_on, c.min_off, c.max_on, c.min_period, c.slow_periods, c.forced_pulses
+        ),
+    );
+    let faults = if s.faults.is_empty() {
+        "none".to_string()
+    } else {
+        s.faults
+            .iter()
+            .map(|f| format!("{} at {}", f.kind, eng(f.t_s, "s")))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    row("faults", faults);
+    row(
+        "run",
+        format!(
+            "{} simulated ({} steady), {} cycles, {} wall",
+            eng(s.simulated_s, "s"),
+            eng(s.steady_s, "s"),
+            s.switching_cycles,
+            eng(s.wall_s, "s")
+        ),
+    );
+    format!("{rule}\n{out}{rule}\n")
+}
+
+/// The envelope slices as CSV.
+pub fn slices_csv(slices: &[Slice]) -> String {
+    let mut out =
+        String::from("t_s,vo_min_v,vo_max_v,il_min_a,il_max_a,il_est_min_a,il_est_max_a,duty\n");
+    for s in slices.iter().filter(|s| s.vo_min_v.is_finite()) {
+        let _ = writeln!(
+            out,
+            "{:e},{},{},{},{},{},{},{}",
+            s.t_s,
+            s.vo_min_v,
+            s.vo_max_v,
+            s.il_min_a,
+            s.il_max_a,
+            s.il_est_min_a,
+            s.il_est_max_a,
+            s.duty
+        );
+    }
+    out
+}
+
+/// The switching cycles as CSV.
+pub fn cycles_csv(cycles: &[Cycle]) -> String {
+    let mut out =
+        String::from("t_s,period_s,on_s,f_hz,il_max_a,il_min_a,vo_max_v,vo_min_v,il_est_max_a\n");
+    for c in cycles {
+        let _ = writeln!(
+            out,
+            "{:e},{:e},{:e},{},{},{},{},{},{}",
+            c.t_s,
+            c.period_s,
+            c.on_s,
+            1.0 / c.period_s,
+            c.il_max_a,
+            c.il_min_a,
+            c.vo_max_v,
+            c.vo_min_v,
+            c.il_est_max_a
+        );
+    }
+    out
+}
+
+/// Files to write together: each goes to a temporary file in the target
+/// directory first and is renamed into place only when all were written.
+pub fn write_all(dir: &std::path::Path, files: &[(&str, Vec<u8>)]) -> std::io::Result<()> {
+    use std::io::Write;
+    std::fs::create_dir_all(dir)?;
+    let mut staged = Vec::new();
+    for (name, bytes) in files {
+        let mut tmp = tempfile::Builder::new().prefix(".ripplectl-").tempfile_in(dir)?;
+        tmp.write_all(bytes)?;
+        tmp.flush()?;
+        staged.push((tmp, dir.join(name)));
+    }
+    for (tmp, path) in staged {
+        tmp.persist(&path).map_err(|e| e.error)?;
+    }
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::eng;
+
+    #[test]
+    fn engineering_prefixes() {
+        assert_eq!(eng(84_321.0, "Hz"), "84.32 kHz");
+        assert_eq!(eng(0.0234, "V"), "23.40 mV");
+        assert_eq!(eng(1.5e-7, "s"), "150.0 ns");
+        assert_eq!(eng(f64::NAN, "A"), "n/a");
+    }
+}

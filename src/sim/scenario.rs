@@ -1,0 +1,372 @@
+//! Scenarios: everything one simulation run needs, loadable from TOML.
+//!
+//! The schema is documented in the README ("Scenario files"). Parsing errors
+//! come from the TOML reader with the line and key; the checks here add
+//! physical consistency (a negative inductance, an output the input can
+//! never reach), and [`ScenarioError`] names the key and its line.
+
+use super::plant::{PlantParams, Stage};
+use super::profile::{InputProfile, Load, LoadChange, Profile};
+use crate::guard::WindowConfig;
+use crate::law::HystereticConfig;
+use serde::{Deserialize, Serialize};
+use std::fmt;
+
+/// The microcontroller around the firmware.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct McuParams {
+    /// Timer clock, Hz: gate edges and ISR times are quantized to it.
+    pub clock_hz: u32,
+    /// ADC resolution, bits.
+    pub adc_bits: u8,
+    /// ADC reference, V.
+    pub adc_reference_v: f64,
+    /// Output divider ratio (ADC-pin volts per output volt).
+    pub divider_ratio: f64,
+    /// ADC offset at the pin, V.
+    #[serde(default)]
+    pub adc_offset_v: f64,
+    /// Output-voltage sample rate, Hz (sampled laws).
+    pub sample_rate_hz: f64,
+    /// Conversion time from sampling instant to result, s.
+    pub conversion_s: f64,
+    /// Noise at the ADC input, RMS, in LSB.
+    #[serde(default)]
+    pub noise_lsb_rms: f64,
+    /// Seed of the noise generator.
+    #[serde(default)]
+    pub seed: u64,
+    /// Interrupt entry latency, s.
+    pub isr_latency_s: f64,
+    /// Analog comparator propagation delay, s (edge and retrofit modes).
+    #[serde(default)]
+    pub comparator_delay_s: f64,
+    /// Timer reading at t = 0 (set near `u32::MAX` to exercise the wrap).
+    #[serde(default)]
+    pub start_tick: u32,
+}
+
+/// How the hysteretic law gets its input.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum HystereticInput {
+    /// Every ADC result.
+    Sampled,
+    /// An analog comparator against a DAC threshold the law arms.
+    Edge,
+}
+
+/// Which switching law runs.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "kebab-case", deny_unknown_fields)]
+pub enum LawParams {
+    /// The crate's hysteretic law.
+    Hysteretic {
+        /// Output setpoint, V.
+        setpoint_v: f32,
+        /// Hysteresis band at the output, V.
+        band_v: f32,
+        /// Sampled or comparator-edge input.
+        input: HystereticInput,
+    },
+    /// A board's existing analog comparator loop (Schmitt trigger on the
+    /// output) whose edges pass through the firmware guard.
+    AnalogRetrofit {
+        /// Comparator turns the gate on below this output voltage, V.
+        lower_v: f64,
+        /// ... and off above this one, V.
+        upper_v: f64,
+    },
+}
+
+impl LawParams {
+    /// The hysteretic law's configuration, if this is it.
+    pub fn hysteretic(&self) -> Option<HystereticConfig> {
+        match *self {
+            Self::Hysteretic { setpoint_v, band_v, .. } => {
+                Some(HystereticConfig { setpoint_v, band_v })
+            }
+            _ => None,
+        }
+    }
+
+    /// The output voltage the law regulates to, V.
+    pub fn setpoint_v(&self) -> f64 {
+        match self {
+            Self::Hysteretic { setpoint_v, .. } => f64::from(*setpoint_v),
+            Self::AnalogRetrofit { lower_v, upper_v } => 0.5 * (lower_v + upper_v),
+        }
+    }
+
+    /// The hysteresis band at the output, V.
+    pub fn band_v(&self) -> f64 {
+        match self {
+            Self::Hysteretic { band_v, .. } => f64::from(*band_v),
+            Self::AnalogRetrofit { lower_v, upper_v } => upper_v - lower_v,
+        }
+    }
+}
+
+/// The firmware configuration.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ControlParams {
+    /// The law.
+    pub law: LawParams,
+    /// The frequency window.
+    pub window: WindowConfig,
+}
+
+/// One simulation run.
+#[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct Scenario {
+    /// Name shown in reports.
+    pub name: String,
+    /// Simulated time, s.
+    pub duration_s: f64,
+    /// Output capacitor voltage at t = 0, V.
+    #[serde(default)]
+    pub initial_output_v: f64,
+    /// Power stage.
+    pub plant: PlantParams,
+    /// Microcontroller.
+    pub mcu: McuParams,
+    /// Firmware.
+    pub control: ControlParams,
+    /// Source voltage over time.
+    pub input: InputProfile,
+    /// Load changes over time.
+    pub load: Vec<LoadChange>,
+}
+
+/// The built-in default scenario's file.
+pub const DEFAULT_SCENARIO_TOML: &str = include_str!("../../examples/scenarios/hysteretic.toml");
+
+/// A scenario that cannot run, with the key and (when read from a file) its
+/// line.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ScenarioError {
+    /// Dotted key, e.g. `plant.l_h`.
+    pub key: String,
+    /// 1-based line of the key in the file, when known.
+    pub line: Option<usize>,
+    /// What is wrong.
+    pub message: String,
+}
+
+impl fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if let Some(line) = self.line {
+            write!(f, "line {line}: ")?;
+        }
+        if !self.key.is_empty() {
+            write!(f, "`{}`: ", self.key)?;
+        }
+        f.write_str(&self.message)
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+fn invalid(key: &str, message: impl Into<String>) -> ScenarioError {
+    ScenarioError { key: key.to_string(), line: None, message: message.into() }
+}
+
+/// Require `x > 0` (and finite).
+fn positive(key: &str, x: f64) -> Result<(), ScenarioError> {
+    if x.is_finite() && x > 0.0 {
+        Ok(())
+    } else {
+        Err(invalid(key, format!("must be a positive number, got {x}")))
+    }
+}
+
+/// Require `x ≥ 0` (and finite).
+fn non_negative(key: &str, x: f64) -> Result<(), ScenarioError> {
+    if x.is_finite() && x >= 0.0 {
+        Ok(())
+    } else {
+        Err(invalid(key, format!("must not be negative, got {x}")))
+    }
+}
+
+impl Scenario {
+    /// The built-in default scenario (the shipped `hysteretic.toml`).
+    pub fn default_demo() -> Self {
+        Self::from_toml(DEFAULT_SCENARIO_TOML).expect("the shipped default scenario is valid")
+    }
+
+    /// Parse and check a TOML scenario.
+    pub fn from_toml(text: &str) -> Result<Self, ScenarioError> {
+        let scenario: Scenario = toml::from_str(text).map_err(|e| parse_error(text, &e))?;
+        scenario.validate().map_err(|mut e| {
+            e.line = locate_key(text, &e.key);
+            e
+        })?;
+        Ok(scenario)
+    }
+
+    /// The input and load profile.
+    pub fn profile(&self) -> Profile {
+        Profile::new(self.input.clone(), self.load.clone())
+    }
+
+    /// Check physical consistency.
+    pub fn validate(&self) -> Result<(), ScenarioError> {
+        positive("duration_s", self.duration_s)?;
+        non_negative("initial_output_v", self.initial_output_v)?;
+        self.validate_plant()?;
+        self.validate_mcu()?;
+        self.validate_profile()?;
+        self.validate_control()
+    }
+
+    fn validate_plant(&self) -> Result<(), ScenarioError> {
+        let p = &self.plant;
+        positive("plant.l_h", p.l_h)?;
+        positive("plant.c_f", p.c_f)?;
+        for (key, x) in [
+            ("plant.dcr_ohm", p.dcr_ohm),
+            ("plant.esr_ohm", p.esr_ohm),
+            ("plant.r_on_ohm", p.r_on_ohm),
+            ("plant.r_source_ohm", p.r_source_ohm),
+            ("plant.diode_vf_v", p.diode_vf_v),
+            ("plant.diode_rd_ohm", p.diode_rd_ohm),
+            ("plant.t_rise_s", p.t_rise_s),
+            ("plant.t_fall_s", p.t_fall_s),
+            ("plant.gate_charge_c", p.gate_charge_c),
+            ("plant.gate_drive_v", p.gate_drive_v),
+        ] {
+            non_negative(key, x)?;
+        }
+        if let Stage::Synchronous { r_on_low_ohm, dead_time_s } = p.stage {
+            non_negative("plant.stage.r_on_low_ohm", r_on_low_ohm)?;
+            non_negative("plant.stage.dead_time_s", dead_time_s)?;
+        }
+        if let Some(s) = p.saturation {
+            positive("plant.saturation.i_sat_a", s.i_sat_a)?;
+            positive("plant.saturation.roll_off_a", s.roll_off_a)?;
+            if !(s.floor > 0.0 && s.floor <= 1.0) {
+                return Err(invalid("plant.saturation.floor", "must be in (0, 1]"));
+            }
+        }
+        if let Some(c) = p.core {
+            for (key, x) in [
+                ("plant.core.k", c.k),
+                ("plant.core.turns", c.turns),
+                ("plant.core.area_m2", c.area_m2),
+                ("plant.core.volume_m3", c.volume_m3),
+            ] {
+                positive(key, x)?;
+            }
+        }
+        Ok(())
+    }
+
+    fn validate_mcu(&self) -> Result<(), ScenarioError> {
+        let m = &self.mcu;
+        if m.clock_hz == 0 {
+            return Err(invalid("mcu.clock_hz", "must be above 0"));
+        }
+        positive("mcu.sample_rate_hz", m.sample_rate_hz)?;
+        if m.sample_rate_hz > f64::from(m.clock_hz) {
+            return Err(invalid("mcu.sample_rate_hz", "exceeds the timer clock"));
+        }
+        non_negative("mcu.conversion_s", m.conversion_s)?;
+        non_negative("mcu.noise_lsb_rms", m.noise_lsb_rms)?;
+        non_negative("mcu.isr_latency_s", m.isr_latency_s)?;
+        non_negative("mcu.comparator_delay_s", m.comparator_delay_s)?;
+        crate::scale::AdcChannel::new(
+            m.adc_bits,
+            m.adc_reference_v as f32,
+            m.divider_ratio as f32,
+            m.adc_offset_v as f32,
+        )
+        .map_err(|e| invalid("mcu.adc_bits", e.message()))?;
+        Ok(())
+    }
+
+    fn validate_profile(&self) -> Result<(), ScenarioError> {
+        if self.input.points.is_empty() {
+            return Err(invalid("input.points", "needs at least one [t_s, volts] point"));
+        }
+        for w in self.input.points.windows(2) {
+            if w[1][0] < w[0][0] {
+                return Err(invalid("input.points", "times must not decrease"));
+            }
+        }
+        for q in &self.input.points {
+            non_negative("input.points", q[0])?;
+            positive("input.points", q[1])?;
+        }
+        for change in &self.load {
+            non_negative("load.at_s", change.at_s)?;
+            match change.load {
+                Load::Resistive { ohms } => positive("load.ohms", ohms)?,
+                Load::Current { amps } => non_negative("load.amps", amps)?,
+                Load::Ramp { from_a, to_a, over_s } => {
+                    non_negative("load.from_a", from_a)?;
+                    non_negative("load.to_a", to_a)?;
+                    positive("load.over_s", over_s)?;
+                }
+                Load::Short => {}
+            }
+        }
+        Ok(())
+    }
+
+    fn validate_control(&self) -> Result<(), ScenarioError> {
+        let setpoint = self.control.law.setpoint_v();
+        let (_, vin_max) = self.profile().input_range();
+        if vin_max <= setpoint {
+            return Err(invalid(
+                "control.law.setpoint_v",
+                format!("output {setpoint} V is at or above the input (at most {vin_max} V) for the whole run: a buck cannot reach it"),
+            ));
+        }
+        match self.control.law {
+            LawParams::Hysteretic { .. } => {}
+            LawParams::AnalogRetrofit { lower_v, upper_v } => {
+                positive("control.law.lower_v", lower_v)?;
+                if upper_v <= lower_v {
+                    return Err(invalid("control.law.upper_v", "must be above lower_v"));
+                }
+            }
+        }
+        Ok(())
+    }
+}
+
+/// A TOML error as one line with its line number.
+fn parse_error(text: &str, e: &toml::de::Error) -> ScenarioError {
+    let line = e.span().map(|s| text[..s.start.min(text.len())].lines().count().max(1));
+    let message = e.message().trim().replace('\n', " ");
+    ScenarioError { key: String::new(), line, message }
+}
+
+/// The 1-based line where a dotted key (`table.key`) is set, if found.
+pub fn locate_key(text: &str, dotted: &str) -> Option<usize> {
+    let (table, key) = match dotted.rsplit_once('.') {
+        Some((t, k)) => (t, k),
+        None => ("", dotted),
+    };
+    let mut current = String::new();
+    let mut fallback = None;
+    for (n, raw) in text.lines().enumerate() {
+        let line = raw.trim();
+        if let Some(header) = line.strip_prefix('[') {
+            current = header.trim_matches(|c| c == '[' || c == ']').trim().to_string();
+            continue;
+        }
+        let Some((k, _)) = line.split_once('=') else { continue };
+        if k.trim() == key {
+            if current == table {
+                return Some(n + 1);
+            }
+            fallback.get_or_insert(n + 1);
+        }
+    }
+    fallback
+}

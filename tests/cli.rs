@@ -1,0 +1,148 @@
+//! The `ripplectl` program: exit codes, error lines, the JSON contract and
+//! output files.
+
+use std::path::Path;
+use std::process::{Command, Output};
+
+fn ripplectl(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_ripplectl")).args(args).output().unwrap()
+}
+
+fn default_toml() -> String {
+    std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/scenarios/hysteretic.toml"),
+    )
+    .unwrap()
+}
+
+/// Write `text` as a scenario, run `simulate` on it, return (exit code, stderr).
+fn simulate_text(text: &str) -> (i32, String) {
+    let dir = tempfile::tempdir().unwrap();
+    let file = dir.path().join("s.toml");
+    std::fs::write(&file, text).unwrap();
+    let out_dir = dir.path().join("out");
+    let out = ripplectl(&[
+        "simulate",
+        "--scenario",
+        file.to_str().unwrap(),
+        "--out",
+        out_dir.to_str().unwrap(),
+    ]);
+    assert!(!out_dir.exists(), "nothing may be written on bad input");
+    (out.status.code().unwrap(), String::from_utf8(out.stderr).unwrap())
+}
+
+fn assert_one_line_error(text: &str, expect: &[&str]) {
+    let (code, err) = simulate_text(text);
+    assert_eq!(code, 2, "exit code; stderr: {err}");
+    assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
+    for e in expect {
+        assert!(err.contains(e), "{err:?} should mention {e:?}");
+    }
+}
+
+#[test]
+fn simulate_json_has_the_contract_keys() {
+    let out = ripplectl(&["simulate", "--json"]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    for key in [
+        "vout_setpoint_v",
+        "vout_mean_v",
+        "vout_ripple_pp_v",
+        "fsw_min_hz",
+        "fsw_mean_hz",
+        "fsw_max_hz",
+        "on_time_min_s",
+        "off_time_min_s",
+        "il_peak_a",
+        "il_est_error_rms_a",
+        "efficiency_true",
+        "efficiency_estimated",
+        "faults",
+        "switching_cycles",
+        "simulated_s",
+        "wall_s",
+    ] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    assert!(v["faults"].is_array());
+    assert_eq!(v["vout_setpoint_v"], 5.0);
+    assert!(v["switching_cycles"].as_u64().unwrap() > 100);
+}
+
+#[test]
+fn simulate_prints_the_report_and_writes_outputs() {
+    let dir = tempfile::tempdir().unwrap();
+    let out_dir = dir.path().join("run");
+    let out = ripplectl(&["simulate", "--out", out_dir.to_str().unwrap()]);
+    assert!(out.status.success());
+    let text = String::from_utf8(out.stdout).unwrap();
+    for label in ["regulation", "ripple", "frequency", "efficiency", "faults"] {
+        assert!(text.contains(label), "report lacks {label}");
+    }
+    for file in ["waveforms.csv", "cycles.csv", "run.svg", "report.txt", "summary.json"] {
+        let bytes = std::fs::read(out_dir.join(file)).unwrap();
+        assert!(bytes.len() > 100, "{file} is nearly empty");
+    }
+    let leftovers: Vec<_> = std::fs::read_dir(&out_dir)
+        .unwrap()
+        .filter_map(|e| e.ok())
+        .filter(|e| e.file_name().to_string_lossy().starts_with('.'))
+        .collect();
+    assert!(leftovers.is_empty(), "temporary files left: {leftovers:?}");
+}
+
+#[test]
+fn missing_key_is_named_with_its_line() {
+    let text = default_toml().replace("c_f = 220e-6           # polymer output capacitor\n", "");
+    assert_one_line_error(&text, &["c_f", "line"]);
+}
+
+#[test]
+fn negative_inductance_is_named_with_its_line() {
+    let text = default_toml().replace("l_h = 47e-6", "l_h = -47e-6");
+    let line = text.lines().position(|l| l.starts_with("l_h")).unwrap() + 1;
+    assert_one_line_error(&text, &["plant.l_h", &format!("line {line}")]);
+}
+
+#[test]
+fn output_above_input_for_the_whole_run_is_refused() {
+    let text = default_toml().replace("setpoint_v = 5.0", "setpoint_v = 40.0");
+    assert_one_line_error(&text, &["setpoint_v", "cannot reach"]);
+}
+
+#[test]
+fn unknown_law_is_refused() {
+    let text = default_toml().replace("kind = \"hysteretic\"", "kind = \"fuzzy\"");
+    assert_one_line_error(&text, &["fuzzy", "line"]);
+}
+
+#[test]
+fn unreadable_file_exits_2() {
+    let out = ripplectl(&["simulate", "--scenario", "/nonexistent/s.toml"]);
+    assert_eq!(out.status.code(), Some(2));
+}
+
+#[test]
+fn sweep_json_covers_the_grid() {
+    let out =
+        ripplectl(&["sweep", "--vin", "18,32", "--load", "1,2", "--duration", "0.002", "--json"]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let points = v.as_array().unwrap();
+    assert_eq!(points.len(), 4);
+    for p in points {
+        let (pred, sim) =
+            (p["fsw_predicted_hz"].as_f64().unwrap(), p["fsw_simulated_hz"].as_f64().unwrap());
+        // CCM points: prediction and simulation within 10 % (the closed form
+        // neglects noise and capacitor ripple).
+        assert!((sim - pred).abs() / pred < 0.10, "{p}");
+    }
+}
+
+#[test]
+fn sweep_rejects_a_vin_below_the_setpoint() {
+    let out = ripplectl(&["sweep", "--vin", "3"]);
+    assert_eq!(out.status.code(), Some(2));
+}
