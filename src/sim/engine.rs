@@ -21,8 +21,8 @@ use crate::scale::AdcChannel;
 use crate::tick::Instant;
 use crate::ConfigError;
 use rand::SeedableRng;
-use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, Normal};
+use rand_xoshiro::Xoshiro256PlusPlus;
 
 /// Envelope slices kept for plots and CSV (20 µs each over a 10 ms run,
 /// about one switching cycle of the demo).
@@ -86,20 +86,19 @@ struct Schedule {
 
 impl Schedule {
     fn next_event(&self) -> u64 {
-        [
-            Some(self.next_sample),
-            self.conversion.map(|c| c.0),
-            self.timer,
-            self.edge.map(|e| e.0),
-            self.dead_time_end,
-            self.breaks.get(self.next_break).copied(),
-            self.window_edges.get(self.next_window_edge).map(|w| w.0),
-            Some(self.end),
-        ]
-        .into_iter()
-        .flatten()
-        .min()
-        .unwrap_or(self.end)
+        let mut next = self.end.min(self.next_sample);
+        let mut consider = |t: Option<u64>| {
+            if let Some(t) = t {
+                next = next.min(t);
+            }
+        };
+        consider(self.conversion.map(|c| c.0));
+        consider(self.timer);
+        consider(self.edge.map(|e| e.0));
+        consider(self.dead_time_end);
+        consider(self.breaks.get(self.next_break).copied());
+        consider(self.window_edges.get(self.next_window_edge).map(|w| w.0));
+        next
     }
 }
 
@@ -109,11 +108,16 @@ struct Engine {
     comparator: Comparator,
     profile: Profile,
     adc: AdcChannel,
-    rng: ChaCha8Rng,
+    rng: Xoshiro256PlusPlus,
     noise: Option<Normal<f64>>,
     tick_s: f64,
     start: u32,
+    /// Microcontroller time: the tick being dispatched.
     tick: u64,
+    /// Plant time: `plant_tick` ticks plus `frac` seconds. The plant lags
+    /// the microcontroller when nothing needed it (sampled mode), and is
+    /// caught up before it is read or switched.
+    plant_tick: u64,
     frac: f64,
     gate: bool,
     sample_period: u64,
@@ -157,10 +161,15 @@ pub fn run(scenario: &Scenario) -> Result<RunOutput, RunError> {
     engine.start_up();
     while engine.tick < engine.schedule.end {
         let target = engine.schedule.next_event();
-        engine.advance_to(target);
+        engine.tick = if engine.comparator.source == ComparatorSource::None {
+            target
+        } else {
+            // A comparator may fire inside the interval: solve eagerly.
+            engine.advance_plant(target)
+        };
         engine.dispatch();
     }
-    engine.observe();
+    engine.catch_up();
     Ok(RunOutput {
         energy: *engine.plant.energy(),
         clamps: engine.firmware.clamps(),
@@ -198,11 +207,12 @@ impl Engine {
             comparator: Comparator { source, level: false, threshold_v: 0.0 },
             profile,
             adc: output_channel(&sc.mcu)?,
-            rng: ChaCha8Rng::seed_from_u64(sc.mcu.seed),
+            rng: Xoshiro256PlusPlus::seed_from_u64(sc.mcu.seed),
             noise,
             tick_s: 1.0 / hz,
             start: sc.mcu.start_tick,
             tick: 0,
+            plant_tick: 0,
             frac: 0.0,
             gate: false,
             sample_period: ticks(1.0 / sc.mcu.sample_rate_hz, hz).max(1),
@@ -232,8 +242,16 @@ impl Engine {
         Instant(self.start.wrapping_add(self.tick as u32))
     }
 
+    /// Plant time, s.
     fn t_s(&self) -> f64 {
-        self.tick as f64 * self.tick_s + self.frac
+        self.plant_tick as f64 * self.tick_s + self.frac
+    }
+
+    /// Bring the plant up to the microcontroller's tick.
+    fn catch_up(&mut self) {
+        if self.plant_tick < self.tick {
+            self.advance_plant(self.tick);
+        }
     }
 
     fn observation(&self) -> Observation {
@@ -293,18 +311,19 @@ impl Engine {
 
     fn schedule_edge_interrupt(&mut self) {
         let ready = ((self.t_s() + self.comparator_delay_s) / self.tick_s).ceil() as u64;
-        let at = ready.max(self.tick + 1) + self.latency_ticks;
+        let at = ready.max(self.plant_tick + 1) + self.latency_ticks;
         self.schedule.edge = Some((at, self.comparator.level));
     }
 
-    /// Solve the plant up to `target` (or an earlier comparator interrupt).
-    fn advance_to(&mut self, mut target: u64) {
-        while self.tick < target {
-            let dt = (target - self.tick) as f64 * self.tick_s - self.frac;
-            let key = (self.frac == 0.0).then_some(target - self.tick);
+    /// Solve the plant up to `target`, or up to an earlier comparator
+    /// interrupt; returns the tick reached.
+    fn advance_plant(&mut self, mut target: u64) -> u64 {
+        while self.plant_tick < target {
+            let dt = (target - self.plant_tick) as f64 * self.tick_s - self.frac;
+            let key = (self.frac == 0.0).then_some(target - self.plant_tick);
             match self.plant.advance(dt, key, self.comparator.watch()) {
                 Stop::Reached => {
-                    self.tick = target;
+                    self.plant_tick = target;
                     self.frac = 0.0;
                 }
                 Stop::CurrentZero(tau) | Stop::BandEdge(tau) => self.frac += tau,
@@ -319,12 +338,14 @@ impl Engine {
             }
             self.observe();
         }
+        target
     }
 
     /// Handle every event due at the current tick.
     fn dispatch(&mut self) {
         let tick = self.tick;
         while self.schedule.breaks.get(self.schedule.next_break).is_some_and(|&b| b <= tick) {
+            self.catch_up();
             self.schedule.next_break += 1;
             self.plant.set_environment(self.profile.environment_at(self.t_s()));
         }
@@ -334,10 +355,12 @@ impl Engine {
             if t > tick {
                 break;
             }
+            self.catch_up();
             self.recorder.window_edge(k, is_start, self.plant.energy());
             self.schedule.next_window_edge += 1;
         }
         if self.schedule.dead_time_end.is_some_and(|t| t <= tick) {
+            self.catch_up();
             self.schedule.dead_time_end = None;
             self.plant.set_mode(if self.gate { Conduction::HighSide } else { Conduction::LowSide });
         }
@@ -364,6 +387,7 @@ impl Engine {
         if self.schedule.next_sample <= tick {
             self.schedule.next_sample += self.sample_period;
             if self.comparator.source == ComparatorSource::None {
+                self.catch_up();
                 let code = self.convert(self.plant.v_out());
                 self.schedule.conversion =
                     Some((tick + self.conversion_ticks + self.latency_ticks, code));
@@ -386,6 +410,7 @@ impl Engine {
             (self.tick + u64::from(w.ticks_since(now)) + self.latency_ticks).max(self.tick + 1)
         });
         if cmd.gate.is_on() != self.gate {
+            self.catch_up();
             self.switch_gate(cmd.gate.is_on());
         }
     }

@@ -36,6 +36,15 @@ fn norm_inf(m: &Mat4) -> f64 {
     m.iter().map(|row| row.iter().map(|x| x.abs()).sum::<f64>()).fold(0.0, f64::max)
 }
 
+/// `e^{m·t}·z` for an augmented state `z = [x₀, x₁, 1, τ]` and the
+/// exponential of an augmented matrix: only the first two rows carry
+/// information (`1` stays 1, `τ` advances by `dt`).
+#[inline]
+pub fn propagate(e: &Mat4, z: &Vec4, dt: f64) -> Vec4 {
+    let row = |r: &[f64; 4]| r[0] * z[0] + r[1] * z[1] + r[2] * z[2] + r[3] * z[3];
+    [row(&e[0]), row(&e[1]), z[2], z[3] + dt]
+}
+
 /// `e^{m·t}`.
 pub fn expm(m: &Mat4, t: f64) -> Mat4 {
     let norm = norm_inf(m) * t.abs();

@@ -33,7 +33,7 @@
 //! of the circuit's state; they are drawn from the source as energy per edge
 //! or per cycle so the true efficiency includes them.
 
-use super::linear::{expm, mul_vec, Mat4, Vec4};
+use super::linear::{expm, mul_vec, propagate, Mat4, Vec4};
 use rustc_hash::FxHashMap;
 use serde::{Deserialize, Serialize};
 
@@ -291,14 +291,14 @@ pub enum Stop {
     Crossing(f64),
 }
 
-#[derive(Clone, Copy)]
+#[derive(Clone, Copy, Debug)]
 struct Propagators {
     full: Mat4,
     half: Mat4,
 }
 
 /// Instantaneous powers at one state, watts.
-#[derive(Clone, Copy, Default)]
+#[derive(Clone, Copy, Debug, Default)]
 struct Powers {
     input: f64,
     output: f64,
@@ -322,12 +322,14 @@ pub struct Plant {
     env: Environment,
     cache: FxHashMap<(Conduction, u16, u64), Propagators>,
     energy: EnergyLedger,
-}
-
-impl std::fmt::Debug for Propagators {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.write_str("Propagators")
-    }
+    /// Powers at the end of the last segment: the next segment's start,
+    /// unless a setter changed mode, environment or state in between (each
+    /// clears it).
+    end_powers: Option<Powers>,
+    /// `1/(1 + ESR·G)` for the current environment.
+    alpha: f64,
+    /// Current-magnitude range `[lo, hi)` of the current saturation band.
+    band_range: (f64, f64),
 }
 
 impl Plant {
@@ -343,11 +345,22 @@ impl Plant {
             env: Environment::default(),
             cache: FxHashMap::default(),
             energy: EnergyLedger::default(),
+            end_powers: None,
+            alpha: 1.0,
+            band_range: (f64::NEG_INFINITY, f64::INFINITY),
         }
+        .with_band(0)
+    }
+
+    /// Enter saturation band `band`.
+    fn with_band(mut self, band: u16) -> Self {
+        self.set_band(band);
+        self
     }
 
     /// Set the state: inductor current (A) and capacitor voltage (V).
     pub fn set_state(&mut self, i_l: f64, v_c: f64) {
+        self.end_powers = None;
         self.i_l = i_l;
         self.v_c = v_c;
     }
@@ -387,9 +400,9 @@ impl Plant {
         self.env.load_i_a + self.env.load_i_slope * tau
     }
 
-    /// `α = 1/(1 + ESR·G)`.
+    /// `α = 1/(1 + ESR·G)`, cached per environment.
     fn alpha(&self) -> f64 {
-        1.0 / (1.0 + self.params.esr_ohm * self.env.load_g_s)
+        self.alpha
     }
 
     /// Output voltage for a state, V.
@@ -447,12 +460,15 @@ impl Plant {
             self.cache.clear();
         }
         self.env = env;
+        self.alpha = 1.0 / (1.0 + self.params.esr_ohm * env.load_g_s);
         self.tau = 0.0;
+        self.end_powers = None;
     }
 
     /// Put the stage into `mode` (the engine decides it from gate and dead
     /// time); a diode mode against the current's sign becomes idle.
     pub fn set_mode(&mut self, mode: Conduction) {
+        self.end_powers = None;
         self.mode = match mode {
             Conduction::Diode if self.i_l <= 0.0 => Conduction::Idle,
             Conduction::HighBody if self.i_l >= 0.0 => Conduction::Idle,
@@ -539,22 +555,25 @@ impl Plant {
         [ind_row, cap_row, [0.0; 4], [0.0, 0.0, 1.0, 0.0]]
     }
 
-    fn propagators(&mut self, dt: f64, key: Option<u64>) -> Propagators {
+    /// The state at the end and at the middle of a step of `dt` from `z0`.
+    fn step_states(&mut self, dt: f64, key: Option<u64>, z0: &Vec4) -> (Vec4, Vec4) {
         let build = |plant: &Self| {
             let m = plant.system(plant.mode, plant.band);
             Propagators { full: expm(&m, dt), half: expm(&m, dt / 2.0) }
         };
+        let eval = |p: &Propagators| (propagate(&p.full, z0, dt), propagate(&p.half, z0, dt / 2.0));
         match key {
             Some(k) => {
                 let id = (self.mode, self.band, k);
                 if let Some(p) = self.cache.get(&id) {
-                    return *p;
+                    return eval(p);
                 }
                 let p = build(self);
+                let states = eval(&p);
                 self.cache.insert(id, p);
-                p
+                states
             }
-            None => build(self),
+            None => eval(&build(self)),
         }
     }
 
@@ -598,8 +617,16 @@ impl Plant {
     }
 
     fn accumulate(&mut self, dt: f64, z0: &Vec4, zm: &Vec4, z1: &Vec4) {
-        let (a, m, b) = (self.powers(z0), self.powers(zm), self.powers(z1));
-        let simpson = |f: fn(&Powers) -> f64| dt / 6.0 * (f(&a) + 4.0 * f(&m) + f(&b));
+        // The previous segment's end is this one's start unless the mode,
+        // environment or state was changed in between.
+        let a = match self.end_powers.take() {
+            Some(p) => p,
+            None => self.powers(z0),
+        };
+        let (m, b) = (self.powers(zm), self.powers(z1));
+        self.end_powers = Some(b);
+        let w = dt / 6.0;
+        let simpson = |f: fn(&Powers) -> f64| w * (f(&a) + 4.0 * f(&m) + f(&b));
         let e = &mut self.energy;
         e.input_j += simpson(|p| p.input);
         e.output_j += simpson(|p| p.output);
@@ -627,9 +654,7 @@ impl Plant {
             return Stop::Reached;
         }
         let z0 = self.state();
-        let prop = self.propagators(dt, key);
-        let z1 = mul_vec(&prop.full, &z0);
-        let zm = mul_vec(&prop.half, &z0);
+        let (z1, zm) = self.step_states(dt, key, &z0);
         if let Some((tau, stop)) = self.first_event(dt, &z0, &zm, &z1, watch) {
             self.advance_exact(tau);
             match stop {
@@ -647,9 +672,7 @@ impl Plant {
     /// Advance exactly `tau` (< the checked interval), no event checks.
     fn advance_exact(&mut self, tau: f64) {
         let z0 = self.state();
-        let m = self.system(self.mode, self.band);
-        let z1 = mul_vec(&expm(&m, tau), &z0);
-        let zm = mul_vec(&expm(&m, tau / 2.0), &z0);
+        let (z1, zm) = self.step_states(tau, None, &z0);
         self.accumulate(tau, &z0, &zm, &z1);
         self.commit(&z1);
     }
@@ -659,12 +682,31 @@ impl Plant {
     fn enter_band_at_edge(&mut self, i_end: f64) {
         if self.params.saturation.is_some() {
             let rising = i_end.abs() > self.i_l.abs();
-            self.band = if rising {
+            let band = if rising {
                 (self.band + 1).min(ROLL_OFF_BANDS + 1)
             } else {
                 self.band.saturating_sub(1)
             };
+            self.set_band(band);
         }
+    }
+
+    fn set_band(&mut self, band: u16) {
+        self.band = band;
+        self.band_range = match self.params.saturation {
+            None => (f64::NEG_INFINITY, f64::INFINITY),
+            Some(sat) => {
+                let lo = if band == 0 { f64::NEG_INFINITY } else { sat.lower_edge(band) };
+                let hi =
+                    if band > ROLL_OFF_BANDS { f64::INFINITY } else { sat.lower_edge(band + 1) };
+                (lo, hi)
+            }
+        };
+    }
+
+    fn outside_band(&self, i: f64) -> bool {
+        let a = i.abs();
+        a < self.band_range.0 || a >= self.band_range.1
     }
 
     /// The earliest event inside `(0, dt]`, if any, found on the closed form.
@@ -693,8 +735,10 @@ impl Plant {
         if ends_wrong_sign {
             consider(self.root(dt, z0, &current, 0.0), Stop::CurrentZero);
         }
-        if let Some(sat) = self.params.saturation {
-            if sat.band(z1[0].abs()) != self.band || sat.band(zm[0].abs()) != self.band {
+        if let (Some(sat), true) =
+            (self.params.saturation, self.outside_band(z1[0]) || self.outside_band(zm[0]))
+        {
+            {
                 let rising = sat.band(z1[0].abs().max(zm[0].abs())) > self.band;
                 let edge =
                     if rising { sat.lower_edge(self.band + 1) } else { sat.lower_edge(self.band) };

@@ -112,6 +112,10 @@ pub struct Recorder {
     /// Steady windows.
     pub windows: Vec<Window>,
     slice_s: f64,
+    slices_per_s: f64,
+    /// Index of the first window not yet ended (observations come in time
+    /// order).
+    window_cursor: usize,
     rise: Option<f64>,
     fall: Option<f64>,
     current: Option<Cycle>,
@@ -148,6 +152,8 @@ impl Recorder {
             slices: (0..slices.max(1)).map(|k| Slice::empty(k as f64 * slice_s)).collect(),
             windows,
             slice_s,
+            slices_per_s: 1.0 / slice_s,
+            window_cursor: 0,
             rise: None,
             fall: None,
             current: None,
@@ -211,9 +217,13 @@ impl Recorder {
             return;
         }
         let mid = 0.5 * (prev.t_s + o.t_s);
-        let Some(w) = self.windows.iter_mut().find(|w| mid >= w.from_s && mid < w.to_s) else {
+        while self.windows.get(self.window_cursor).is_some_and(|w| mid >= w.to_s) {
+            self.window_cursor += 1;
+        }
+        let Some(w) = self.windows.get_mut(self.window_cursor) else { return };
+        if mid < w.from_s {
             return;
-        };
+        }
         w.vo_integral += 0.5 * (prev.vo_v + o.vo_v) * dt;
         w.vo_min_v = w.vo_min_v.min(o.vo_v);
         w.vo_max_v = w.vo_max_v.max(o.vo_v);
@@ -224,7 +234,7 @@ impl Recorder {
     }
 
     fn envelope(&mut self, o: &Observation) {
-        let k = ((o.t_s / self.slice_s) as usize).min(self.slices.len() - 1);
+        let k = ((o.t_s * self.slices_per_s) as usize).min(self.slices.len() - 1);
         let s = &mut self.slices[k];
         s.vo_min_v = s.vo_min_v.min(o.vo_v);
         s.vo_max_v = s.vo_max_v.max(o.vo_v);
