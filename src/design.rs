@@ -97,13 +97,32 @@ pub fn peak_current(iout: f64, delta_i: f64) -> f64 {
 
 /// Hysteretic frequency in DCM, Hz.
 ///
-/// Each pulse ramps the current from zero to `i_pk` and back: on for
-/// `L·i_pk/(V_in − V_out)`, falling for `L·i_pk/V_out`, carrying
-/// `i_pk·(T_on + T_fall)/2` of charge. Pulses repeat as often as the load
-/// draws that charge: `f = 2·I_out·V_out·(V_in − V_out) / (L·i_pk²·V_in)`.
-/// At the boundary `I_out = i_pk/2` this equals [`frequency_for_ripple`].
-pub fn hysteretic_frequency_dcm(vin: f64, vout: f64, l_h: f64, i_pk: f64, iout: f64) -> f64 {
-    2.0 * iout * vout * (vin - vout) / (l_h * i_pk * i_pk * vin)
+/// Derived here. A pulse starts from zero current when the output reaches
+/// the lower threshold. While on, the current rises at
+/// `s₁ = (V_in − V_out)/L` and the output above its starting value is
+/// `ESR·i + (s₁·t²/2 − I_out·t)/C`: the ESR's ripple plus the charge the
+/// capacitor takes. It crosses the upper threshold at the positive root
+/// `t₁` of `s₁/(2C)·t² + (ESR·s₁ − I_out/C)·t − band = 0`; the gate turns
+/// off `t_d` later, at `i_pk = s₁·(t₁ + t_d)`. The current then falls at
+/// `s₂ = (V_out + V_f)/L` to zero. The pulse carries
+/// `Q = i_pk²/2·(1/s₁ + 1/s₂)` of charge, and pulses repeat as often as the
+/// load draws it: `f = I_out / Q`. A sampled law's delay is really a whole
+/// number of sampling periods after a sample-aligned turn-on, which this
+/// averages over.
+pub fn hysteretic_frequency_dcm(
+    op: &OperatingPoint,
+    filter: &OutputFilter,
+    band_v: f64,
+    delay_s: f64,
+) -> f64 {
+    let s1 = (op.vin_v - op.vout_v) / filter.l_h;
+    let s2 = (op.vout_v + op.vf_v) / filter.l_h;
+    let a = s1 / (2.0 * filter.c_f);
+    let b = filter.esr_ohm * s1 - op.iout_a / filter.c_f;
+    let t1 = (-b + libm::sqrt(b * b + 4.0 * a * band_v)) / (2.0 * a);
+    let i_pk = s1 * (t1 + delay_s);
+    let charge = i_pk * i_pk / 2.0 * (1.0 / s1 + 1.0 / s2);
+    op.iout_a / charge
 }
 
 /// Where the converter runs.
@@ -115,6 +134,8 @@ pub struct OperatingPoint {
     pub vout_v: f64,
     /// Load current, A.
     pub iout_a: f64,
+    /// Freewheeling diode drop, V (0 for a synchronous stage).
+    pub vf_v: f64,
 }
 
 /// The output filter.
@@ -147,7 +168,8 @@ pub fn hysteretic_frequency(
     }
     let delta_i = band_v / filter.esr_ohm + vin * delay_s / l;
     if !synchronous && op.iout_a < delta_i / 2.0 {
-        hysteretic_frequency_dcm(vin, vout, l, delta_i, op.iout_a)
+        // DCM can only switch slower than CCM at the same ripple.
+        hysteretic_frequency_dcm(op, filter, band_v, delay_s).min(f_esr)
     } else {
         f_esr
     }

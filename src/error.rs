@@ -50,6 +50,23 @@ pub enum ConfigError {
     /// Minimum on-time plus minimum off-time reach the longest allowed period
     /// (1 / f_min): the window cannot be met.
     PulsesExceedMaxPeriod,
+    /// Inductance not strictly positive.
+    InductanceNotPositive,
+    /// Capacitance not strictly positive.
+    CapacitanceNotPositive,
+    /// A resistance or forward voltage was negative.
+    ResistanceNegative,
+    /// An observer pole outside the unit circle's interior (0 < pole < 1).
+    ObserverPoleOutOfRange,
+    /// The observer's model is not observable from the output voltage.
+    NotObservable,
+    /// A protection threshold is out of order (e.g. UVLO off above UVLO on,
+    /// over-voltage below the setpoint).
+    ThresholdsOutOfOrder,
+    /// A current limit not strictly positive.
+    CurrentLimitNotPositive,
+    /// A count that must be at least one is zero.
+    CountZero,
 }
 
 impl ConfigError {
@@ -77,6 +94,14 @@ impl ConfigError {
             Self::PulsesExceedMaxPeriod => {
                 "minimum on-time plus minimum off-time reach the longest allowed period"
             }
+            Self::InductanceNotPositive => "inductance must be positive",
+            Self::CapacitanceNotPositive => "capacitance must be positive",
+            Self::ResistanceNegative => "resistances and forward voltages must not be negative",
+            Self::ObserverPoleOutOfRange => "observer poles must lie strictly between 0 and 1",
+            Self::NotObservable => "the observer cannot see the current through the output voltage",
+            Self::ThresholdsOutOfOrder => "protection thresholds are out of order",
+            Self::CurrentLimitNotPositive => "current limit must be positive",
+            Self::CountZero => "a count must be at least one",
         }
     }
 }

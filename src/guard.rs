@@ -25,7 +25,7 @@
 //! even in edge mode on an idle converter.
 
 use crate::error::{finite, ConfigError};
-use crate::law::{Command, Gate, Law};
+use crate::law::{Command, Gate, Law, Regulate};
 use crate::scale::TimerClock;
 use crate::tick::Instant;
 
@@ -397,5 +397,15 @@ impl<L: Law> Law for FrequencyGuard<L> {
                 Gate::Off => self.switch_off(at),
             }
         }
+    }
+}
+
+impl<L: Regulate> Regulate for FrequencyGuard<L> {
+    fn reference_code(&self) -> u16 {
+        self.inner.reference_code()
+    }
+
+    fn set_reference(&mut self, code: u16) {
+        self.inner.set_reference(code);
     }
 }

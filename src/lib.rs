@@ -15,6 +15,8 @@
 //! | [`law`] | the [`Law`] trait and the switching laws |
 //! | [`guard`] | the frequency-window guard around any law |
 //! | [`reference`](mod@reference) | `f64` models in SI units: the oracle for tests |
+//! | [`estimate`] | inductor current (fast path), observer and efficiency (slow path) |
+//! | [`supervisor`] | start-up, UVLO, soft-start, OVP, OCP, hiccup, sensor faults, fault log |
 //! | [`error`] | configuration errors |
 //! | [`design`] | closed-form predictions: frequency, ripple, CCM/DCM, peak current |
 //! | `sim` | (feature `std`) switched plant, MCU model, scenarios, reports, plots |
@@ -40,10 +42,12 @@
 
 pub mod design;
 pub mod error;
+pub mod estimate;
 pub mod guard;
 pub mod law;
 pub mod reference;
 pub mod scale;
+pub mod supervisor;
 pub mod tick;
 
 #[cfg(feature = "std")]

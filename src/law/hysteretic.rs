@@ -11,7 +11,7 @@
 //!   program the DAC with [`Hysteretic::armed_code`] (and
 //!   [`Hysteretic::armed`] tells which of the two it is).
 
-use super::{Command, Gate, Law};
+use super::{Command, Gate, Law, Regulate};
 use crate::error::{finite, ConfigError};
 use crate::scale::AdcChannel;
 use crate::tick::Instant;
@@ -184,5 +184,15 @@ impl Law for Hysteretic {
     #[inline]
     fn on_timer(&mut self, _now: Instant) -> Command {
         Command::hold(self.demand)
+    }
+}
+
+impl Regulate for Hysteretic {
+    fn reference_code(&self) -> u16 {
+        Hysteretic::reference_code(self)
+    }
+
+    fn set_reference(&mut self, code: u16) {
+        Hysteretic::set_reference(self, code);
     }
 }

@@ -100,3 +100,14 @@ pub trait Law {
         let _ = (gate, at);
     }
 }
+
+/// A law whose regulation reference can be moved on the slow path
+/// (soft-start, DC-error correction).
+pub trait Regulate {
+    /// The reference, in the law's raw units (ADC codes of the sensed
+    /// output).
+    fn reference_code(&self) -> u16;
+
+    /// Move the reference (saturating within the law's range).
+    fn set_reference(&mut self, code: u16);
+}

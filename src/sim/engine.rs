@@ -10,7 +10,7 @@
 //! comparator crossing, a DCM zero-crossing or a saturation-band edge stops
 //! it inside an interval.
 
-use super::firmware::{output_channel, ComparatorSource, Controller};
+use super::firmware::{input_channel, output_channel, ComparatorSource, Firmware};
 use super::plant::{Conduction, EnergyLedger, Plant, Stage, Stop, Watch};
 use super::profile::Profile;
 use super::record::{Observation, Recorder};
@@ -18,6 +18,7 @@ use super::scenario::Scenario;
 use crate::guard::ClampCounts;
 use crate::law::{Command, Law};
 use crate::scale::AdcChannel;
+use crate::supervisor::FaultKind;
 use crate::tick::Instant;
 use crate::ConfigError;
 use rand::SeedableRng;
@@ -43,6 +44,8 @@ pub struct RunOutput {
     pub simulated_s: f64,
     /// The regulated setpoint, V.
     pub setpoint_v: f64,
+    /// Faults the firmware logged: kind and time since t = 0, s.
+    pub faults: Vec<(FaultKind, f64)>,
 }
 
 /// The analog comparator feeding edge interrupts.
@@ -73,6 +76,7 @@ impl Comparator {
 #[derive(Clone, Debug)]
 struct Schedule {
     next_sample: u64,
+    next_housekeeping: u64,
     conversion: Option<(u64, u16)>,
     timer: Option<u64>,
     edge: Option<(u64, bool)>,
@@ -86,7 +90,7 @@ struct Schedule {
 
 impl Schedule {
     fn next_event(&self) -> u64 {
-        let mut next = self.end.min(self.next_sample);
+        let mut next = self.end.min(self.next_sample).min(self.next_housekeeping);
         let mut consider = |t: Option<u64>| {
             if let Some(t) = t {
                 next = next.min(t);
@@ -104,7 +108,10 @@ impl Schedule {
 
 struct Engine {
     plant: Plant,
-    firmware: Controller,
+    firmware: Firmware,
+    vin_adc: AdcChannel,
+    housekeeping_period: u64,
+    feedback_open_tick: Option<u64>,
     comparator: Comparator,
     profile: Profile,
     adc: AdcChannel,
@@ -176,6 +183,11 @@ pub fn run(scenario: &Scenario) -> Result<RunOutput, RunError> {
         stored_j: (stored_start, engine.plant.stored_j()),
         simulated_s: engine.schedule.end as f64 * engine.tick_s,
         setpoint_v: scenario.control.law.setpoint_v(),
+        faults: engine
+            .firmware
+            .faults()
+            .map(|f| (f.kind, f64::from(f.at.ticks_since(Instant(engine.start))) * engine.tick_s))
+            .collect(),
         recorder: engine.recorder,
     })
 }
@@ -187,7 +199,7 @@ fn ticks(seconds: f64, hz: f64) -> u64 {
 impl Engine {
     fn new(sc: &Scenario) -> Result<Self, RunError> {
         let hz = f64::from(sc.mcu.clock_hz);
-        let (firmware, source) = Controller::build(sc)?;
+        let (firmware, source) = Firmware::build(sc)?;
         let profile = sc.profile();
         let recorder = Recorder::new(sc.duration_s, &profile.disturbances(), SLICES);
         let window_edges =
@@ -202,11 +214,21 @@ impl Engine {
             .then(|| Normal::new(0.0, sc.mcu.noise_lsb_rms).ok())
             .flatten();
         Ok(Self {
-            plant: Plant::new(sc.plant, sc.initial_output_v),
+            plant: {
+                let mut plant = Plant::new(sc.plant, sc.initial_output_v);
+                plant.set_state(sc.initial_inductor_a, sc.initial_output_v);
+                // Gate off at t = 0: the current freewheels (idle at 0 A).
+                let freewheel = plant.freewheel_mode();
+                plant.set_mode(freewheel);
+                plant
+            },
             firmware,
             comparator: Comparator { source, level: false, threshold_v: 0.0 },
             profile,
             adc: output_channel(&sc.mcu)?,
+            vin_adc: input_channel(&sc.mcu)?,
+            housekeeping_period: ticks(1.0 / sc.firmware.housekeeping_hz, hz).max(1),
+            feedback_open_tick: sc.mcu.feedback_open_at_s.map(|t| ticks(t, hz)),
             rng: Xoshiro256PlusPlus::seed_from_u64(sc.mcu.seed),
             noise,
             tick_s: 1.0 / hz,
@@ -224,6 +246,7 @@ impl Engine {
             t_fall_s: sc.plant.t_fall_s,
             schedule: Schedule {
                 next_sample: 0,
+                next_housekeeping: 0,
                 conversion: None,
                 timer: None,
                 edge: None,
@@ -259,7 +282,7 @@ impl Engine {
             t_s: self.t_s(),
             vo_v: self.plant.v_out(),
             il_a: self.plant.i_l(),
-            il_est_a: f64::NAN,
+            il_est_a: self.firmware.estimated_current_a(self.now()),
             gate_on: self.gate,
         }
     }
@@ -367,8 +390,13 @@ impl Engine {
         if let Some((t, code)) = self.schedule.conversion {
             if t <= tick {
                 self.schedule.conversion = None;
-                let cmd = self.firmware.on_sample(code, self.now());
-                self.apply(cmd);
+                if self.comparator.source == ComparatorSource::None {
+                    let cmd = self.firmware.on_sample(code, self.now());
+                    self.apply(cmd);
+                } else if let Some(cmd) = self.firmware.on_output_reading(code, self.now()) {
+                    self.apply(cmd);
+                    self.sync_comparator();
+                }
             }
         }
         if let Some((t, level)) = self.schedule.edge {
@@ -384,23 +412,54 @@ impl Engine {
             let cmd = self.firmware.on_timer(self.now());
             self.apply(cmd);
         }
+        if self.schedule.next_housekeeping <= tick {
+            self.schedule.next_housekeeping += self.housekeeping_period;
+            self.catch_up();
+            let vin = self.convert_input(self.plant.vin_v());
+            self.firmware.housekeeping(vin, self.now());
+            if self.comparator.source != ComparatorSource::None {
+                // Edge-driven firmware re-reads the comparator's level on its
+                // slow path (a start after soft-start sees no fresh edge).
+                let cmd = self.firmware.on_edge(self.comparator.level, self.now());
+                self.apply(cmd);
+                self.sync_comparator();
+            }
+            let report = *self.firmware.report();
+            self.recorder.estimate(
+                self.t_s(),
+                report.losses.output_w.into(),
+                (report.losses.output_w + report.losses.losses_w()).into(),
+            );
+        }
         if self.schedule.next_sample <= tick {
             self.schedule.next_sample += self.sample_period;
-            if self.comparator.source == ComparatorSource::None {
-                self.catch_up();
-                let code = self.convert(self.plant.v_out());
-                self.schedule.conversion =
-                    Some((tick + self.conversion_ticks + self.latency_ticks, code));
-            }
+            // Edge-driven laws still sample the output, for protection.
+            self.catch_up();
+            let code = self.convert(self.plant.v_out());
+            self.schedule.conversion =
+                Some((tick + self.conversion_ticks + self.latency_ticks, code));
         }
     }
 
-    /// The ADC's result for an output voltage: ideal converter plus noise,
-    /// saturating at the rails.
+    /// The ADC's result for the output: ideal converter plus noise,
+    /// saturating at the rails; an open divider reads 0 V.
     fn convert(&mut self, v_out: f64) -> u16 {
+        let open = self.feedback_open_tick.is_some_and(|t| self.tick >= t);
+        let v = if open { 0.0 } else { v_out };
+        let adc = self.adc;
+        self.quantize(&adc, v)
+    }
+
+    /// The ADC's result for the input.
+    fn convert_input(&mut self, v_in: f64) -> u16 {
+        let adc = self.vin_adc;
+        self.quantize(&adc, v_in)
+    }
+
+    fn quantize(&mut self, adc: &AdcChannel, v: f64) -> u16 {
         let noise = self.noise.map_or(0.0, |n| n.sample(&mut self.rng));
-        let code = (self.adc.exact_code(v_out) + noise).round();
-        code.clamp(0.0, f64::from(self.adc.full_scale_code())) as u16
+        let code = (adc.exact_code(v) + noise).round();
+        code.clamp(0.0, f64::from(adc.full_scale_code())) as u16
     }
 
     /// Carry out a firmware command at the current tick.

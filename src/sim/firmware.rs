@@ -1,10 +1,17 @@
 //! The firmware under test: the crate's own no_std objects, built from a
-//! scenario exactly as a firmware build would build them.
+//! scenario exactly as a firmware build would build them, with the slow
+//! path a firmware would run at its housekeeping rate.
 
 use super::scenario::{HystereticInput, LawParams, McuParams, Scenario};
+use crate::estimate::{
+    CurrentEstimator, LossBreakdown, LossModel, Observer, ObserverConfig, Steinmetz,
+};
 use crate::guard::{ClampCounts, FrequencyGuard, Window};
-use crate::law::{Command, ComparatorPassThrough, Gate, Hysteretic, HystereticConfig, Law};
+use crate::law::{
+    Command, ComparatorPassThrough, Gate, Hysteretic, HystereticConfig, Law, Regulate,
+};
 use crate::scale::{AdcChannel, TimerClock};
+use crate::supervisor::{FaultRecord, Limits, State, Supervisor};
 use crate::tick::Instant;
 use crate::ConfigError;
 
@@ -13,8 +20,9 @@ use crate::ConfigError;
 pub enum Controller {
     /// Hysteretic law (sampled or edge input) inside the guard.
     Hysteretic(FrequencyGuard<Hysteretic>),
-    /// An analog comparator's edges inside the guard.
-    PassThrough(FrequencyGuard<ComparatorPassThrough>),
+    /// An analog comparator's edges inside the guard, with the comparator's
+    /// setpoint as an output code (for the supervisor's checks).
+    PassThrough(FrequencyGuard<ComparatorPassThrough>, u16),
 }
 
 /// Where the comparator that feeds edge interrupts gets its threshold.
@@ -43,11 +51,17 @@ pub fn output_channel(mcu: &McuParams) -> Result<AdcChannel, ConfigError> {
     )
 }
 
+/// The ADC channel that senses the input.
+pub fn input_channel(mcu: &McuParams) -> Result<AdcChannel, ConfigError> {
+    AdcChannel::new(mcu.adc_bits, mcu.adc_reference_v as f32, mcu.vin_divider_ratio as f32, 0.0)
+}
+
 impl Controller {
-    /// Build the firmware a scenario describes.
-    pub fn build(scenario: &Scenario) -> Result<(Self, ComparatorSource), ConfigError> {
-        let clock = TimerClock::new(scenario.mcu.clock_hz)?;
-        let window = Window::new(&scenario.control.window, &clock)?;
+    fn build(
+        scenario: &Scenario,
+        clock: &TimerClock,
+    ) -> Result<(Self, ComparatorSource), ConfigError> {
+        let window = Window::new(&scenario.control.window, clock)?;
         Ok(match scenario.control.law {
             LawParams::Hysteretic { setpoint_v, band_v, input } => {
                 let config = HystereticConfig { setpoint_v, band_v };
@@ -58,17 +72,24 @@ impl Controller {
                 };
                 (Self::Hysteretic(FrequencyGuard::new(law, window)), source)
             }
-            LawParams::AnalogRetrofit { lower_v, upper_v } => (
-                Self::PassThrough(FrequencyGuard::new(ComparatorPassThrough::new(true), window)),
-                ComparatorSource::Schmitt { lower_v, upper_v },
-            ),
+            LawParams::AnalogRetrofit { lower_v, upper_v } => {
+                let setpoint =
+                    output_channel(&scenario.mcu)?.to_code((0.5 * (lower_v + upper_v)) as f32)?.raw;
+                (
+                    Self::PassThrough(
+                        FrequencyGuard::new(ComparatorPassThrough::new(true), window),
+                        setpoint,
+                    ),
+                    ComparatorSource::Schmitt { lower_v, upper_v },
+                )
+            }
         })
     }
 
     fn law(&mut self) -> &mut dyn Law {
         match self {
             Self::Hysteretic(g) => g,
-            Self::PassThrough(g) => g,
+            Self::PassThrough(g, _) => g,
         }
     }
 
@@ -76,7 +97,7 @@ impl Controller {
     pub fn dac_code(&self) -> Option<u16> {
         match self {
             Self::Hysteretic(g) => Some(g.inner().armed_code()),
-            Self::PassThrough(_) => None,
+            Self::PassThrough(..) => None,
         }
     }
 
@@ -84,7 +105,7 @@ impl Controller {
     pub fn clamps(&self) -> ClampCounts {
         match self {
             Self::Hysteretic(g) => *g.counts(),
-            Self::PassThrough(g) => *g.counts(),
+            Self::PassThrough(g, _) => *g.counts(),
         }
     }
 }
@@ -104,5 +125,200 @@ impl Law for Controller {
 
     fn on_gate(&mut self, gate: Gate, at: Instant) {
         self.law().on_gate(gate, at)
+    }
+}
+
+/// The analog retrofit's reference is the board's own comparator: the
+/// firmware cannot move it, so soft-start and trims do nothing there.
+impl Regulate for Controller {
+    fn reference_code(&self) -> u16 {
+        match self {
+            Self::Hysteretic(g) => g.reference_code(),
+            Self::PassThrough(_, setpoint) => *setpoint,
+        }
+    }
+
+    fn set_reference(&mut self, code: u16) {
+        if let Self::Hysteretic(g) = self {
+            g.set_reference(code);
+        }
+    }
+}
+
+/// The slow path's latest figures.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct SlowPathReport {
+    /// Model-based loss breakdown over the last housekeeping window.
+    pub losses: LossBreakdown,
+    /// Observer's inductor current, A (NaN without an observer).
+    pub observer_current_a: f32,
+}
+
+/// The whole firmware: supervisor around law and guard, estimator,
+/// observer, loss model.
+#[derive(Clone, Debug)]
+pub struct Firmware {
+    stack: Supervisor<Controller>,
+    observer: Option<Observer>,
+    loss: LossModel,
+    vout_adc: AdcChannel,
+    vin_adc: AdcChannel,
+    report: SlowPathReport,
+    observer_r_ohm: f32,
+}
+
+/// How much of the gap to the observer's current the estimate closes per
+/// housekeeping step.
+const OBSERVER_BLEND: f32 = 0.3;
+
+impl Firmware {
+    /// Build the firmware a scenario describes.
+    pub fn build(scenario: &Scenario) -> Result<(Self, ComparatorSource), ConfigError> {
+        let clock = TimerClock::new(scenario.mcu.clock_hz)?;
+        let (controller, source) = Controller::build(scenario, &clock)?;
+        let vout_adc = output_channel(&scenario.mcu)?;
+        let vin_adc = input_channel(&scenario.mcu)?;
+        let model = scenario.firmware_model();
+        let estimator = CurrentEstimator::new(&model, &clock)?;
+        let setpoint = vout_adc.to_code(scenario.control.law.setpoint_v() as f32)?.raw;
+        let limits =
+            Limits::new(&scenario.firmware.protection, &vout_adc, &vin_adc, &clock, setpoint)?;
+        let period_s = (1.0 / scenario.firmware.housekeeping_hz) as f32;
+        let observer_r_ohm =
+            model.dcr_ohm + 0.5 * (model.r_on_ohm + model.r_low_ohm.unwrap_or(model.diode_rd_ohm));
+        let observer = match scenario.firmware.observer_bandwidth_hz {
+            Some(bw) => Some(Observer::new(&ObserverConfig {
+                l_h: model.l_h,
+                c_f: scenario.plant.c_f as f32,
+                r_ohm: observer_r_ohm,
+                period_s,
+                poles: ObserverConfig::poles_for_bandwidth(bw as f32, period_s),
+            })?),
+            None => None,
+        };
+        let p = &scenario.plant;
+        let loss = LossModel {
+            l_h: model.l_h,
+            r_on_ohm: model.r_on_ohm,
+            dcr_ohm: model.dcr_ohm,
+            diode_vf_v: if model.r_low_ohm.is_some() { 0.0 } else { model.diode_vf_v },
+            off_r_ohm: model.r_low_ohm.unwrap_or(model.diode_rd_ohm),
+            esr_ohm: p.esr_ohm as f32,
+            t_rise_s: p.t_rise_s as f32,
+            t_fall_s: p.t_fall_s as f32,
+            gate_charge_c: p.gate_charge_c as f32,
+            gate_drive_v: p.gate_drive_v as f32,
+            core: p.core.map(|c| Steinmetz {
+                k: c.k as f32,
+                alpha: c.alpha as f32,
+                beta: c.beta as f32,
+                turns: c.turns as f32,
+                area_m2: c.area_m2 as f32,
+                volume_m3: c.volume_m3 as f32,
+            }),
+        };
+        let stack = Supervisor::new(controller, estimator, limits);
+        Ok((
+            Self {
+                stack,
+                observer,
+                loss,
+                vout_adc,
+                vin_adc,
+                report: SlowPathReport::default(),
+                observer_r_ohm,
+            },
+            source,
+        ))
+    }
+
+    /// The slow path: protection housekeeping, then the estimates.
+    pub fn housekeeping(&mut self, vin: u16, now: Instant) {
+        self.stack.estimator_mut().update(now);
+        let totals = self.stack.estimator_mut().take_totals();
+        let (vin_adc, vout_adc) = (self.vin_adc, self.vout_adc);
+        self.stack.housekeeping(vin, &vin_adc, &vout_adc, now);
+        let vin_v = vin_adc.to_volts(vin);
+        let vout_v = self.last_output_v();
+        let tick_s = self.stack.estimator().tick_s();
+        self.report.losses = self.loss.evaluate(&totals, vin_v, vout_v, tick_s);
+        self.report.observer_current_a = f32::NAN;
+        let Some(observer) = self.observer.as_mut() else { return };
+        if totals.cycles == 0 || self.stack.state() != State::Regulating {
+            observer.reset(totals.average_a(), vout_v, totals.average_a());
+            return;
+        }
+        let model = *self.stack.estimator().model();
+        let vf = if model.r_low_ohm.is_some() { 0.0 } else { model.diode_vf_v };
+        // Whole cycles only: a window cutting cycles would swing the duty.
+        let (d, d_off) = (totals.duty(), totals.off_fraction());
+        let u = d * vin_v - d_off * vf + (1.0 - d - d_off) * vout_v;
+        // The model was discretized with a nominal R; the drop's change with
+        // the duty enters as an input, exact in steady state.
+        let r_now = d * model.r_on_ohm
+            + d_off * model.r_low_ohm.unwrap_or(model.diode_rd_ohm)
+            + model.dcr_ohm;
+        let u = u - (r_now - self.observer_r_ohm) * observer.current_a();
+        let i_obs = observer.update(u, vout_v, None);
+        self.report.observer_current_a = i_obs;
+        // Blend the estimate's DC level toward the observer's (CCM only:
+        // DCM anchors the estimate at zero every cycle).
+        if totals.dcm_cycles == 0 {
+            let gap = (i_obs - totals.average_a()) * OBSERVER_BLEND;
+            self.stack.estimator_mut().shift(crate::estimate::Amps::saturating_from_num(gap));
+        }
+    }
+
+    fn last_output_v(&self) -> f32 {
+        self.vout_adc.to_volts(self.stack.output_average())
+    }
+
+    /// An output reading for protection only (edge-driven laws).
+    pub fn on_output_reading(&mut self, code: u16, now: Instant) -> Option<Command> {
+        self.stack.on_output_reading(code, now)
+    }
+
+    /// The slow path's latest figures.
+    pub fn report(&self) -> &SlowPathReport {
+        &self.report
+    }
+
+    /// The supervisor stack.
+    pub fn stack(&self) -> &Supervisor<Controller> {
+        &self.stack
+    }
+
+    /// The DAC code edge mode must arm now, if it uses one.
+    pub fn dac_code(&self) -> Option<u16> {
+        self.stack.inner().dac_code()
+    }
+
+    /// The guard's clamp counters.
+    pub fn clamps(&self) -> ClampCounts {
+        self.stack.inner().clamps()
+    }
+
+    /// The fault log.
+    pub fn faults(&self) -> impl Iterator<Item = &FaultRecord> {
+        self.stack.faults()
+    }
+
+    /// Estimated inductor current at `now`, A.
+    pub fn estimated_current_a(&self, now: Instant) -> f64 {
+        f64::from(self.stack.estimator().current_at(now).to_num::<f32>())
+    }
+}
+
+impl Law for Firmware {
+    fn on_sample(&mut self, code: u16, now: Instant) -> Command {
+        self.stack.on_sample(code, now)
+    }
+
+    fn on_edge(&mut self, level: bool, now: Instant) -> Command {
+        self.stack.on_edge(level, now)
+    }
+
+    fn on_timer(&mut self, now: Instant) -> Command {
+        self.stack.on_timer(now)
     }
 }

@@ -132,6 +132,9 @@ impl Summary {
             .fold((0.0, 0u32), |(s, n), c| (s + (c.vo_max_v - c.vo_min_v), n + 1));
         let (fsw_min_hz, fsw_mean_hz, fsw_max_hz) = frequency_stats(out);
         let e = steady_energy(out);
+        let (est_out, est_in) =
+            windows.iter().fold((0.0, 0.0), |(o, i), w| (o + w.est_output_w, i + w.est_input_w));
+        let est_err_sq: f64 = windows.iter().map(|w| w.est_err_sq_integral).sum();
         let per_s = |j: f64| ratio(j, steady_s);
         Self {
             vout_setpoint_v: out.setpoint_v,
@@ -143,10 +146,14 @@ impl Summary {
             on_time_min_s: out.recorder.on_min_s,
             off_time_min_s: out.recorder.off_min_s,
             il_peak_a: out.recorder.il_peak_a,
-            il_est_error_rms_a: None,
+            il_est_error_rms_a: Some(ratio(est_err_sq, steady_s).sqrt()),
             efficiency_true: ratio(e.output_j, e.input_j),
-            efficiency_estimated: None,
-            faults: Vec::new(),
+            efficiency_estimated: (est_in > 0.0).then(|| est_out / est_in),
+            faults: out
+                .faults
+                .iter()
+                .map(|&(kind, t_s)| FaultEntry { kind: kind.name().to_string(), t_s })
+                .collect(),
             switching_cycles: out.recorder.cycles.len() as u64,
             simulated_s: out.simulated_s,
             wall_s,

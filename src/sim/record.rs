@@ -92,6 +92,10 @@ pub struct Window {
     pub vo_integral: f64,
     /// ∫ (i_est − i)² dt, A²·s.
     pub est_err_sq_integral: f64,
+    /// ∫ i dt, A·s.
+    pub il_integral: f64,
+    /// ∫ i_est dt, A·s (NaN without an estimate).
+    pub il_est_integral: f64,
     /// Energies at the start and end.
     pub energy_from: EnergyLedger,
     /// Energies at the end.
@@ -100,6 +104,11 @@ pub struct Window {
     pub vo_min_v: f64,
     /// Output voltage range within, V.
     pub vo_max_v: f64,
+    /// Sum of the firmware's estimated output power over its slow-path
+    /// windows ending inside this window, W.
+    pub est_output_w: f64,
+    /// ... and of its estimated input power, W.
+    pub est_input_w: f64,
 }
 
 /// Collects a run.
@@ -227,6 +236,8 @@ impl Recorder {
         w.vo_integral += 0.5 * (prev.vo_v + o.vo_v) * dt;
         w.vo_min_v = w.vo_min_v.min(o.vo_v);
         w.vo_max_v = w.vo_max_v.max(o.vo_v);
+        w.il_integral += 0.5 * (prev.il_a + o.il_a) * dt;
+        w.il_est_integral += 0.5 * (prev.il_est_a + o.il_est_a) * dt;
         if prev.il_est_a.is_finite() && o.il_est_a.is_finite() {
             let (e0, e1) = (prev.il_est_a - prev.il_a, o.il_est_a - o.il_a);
             w.est_err_sq_integral += 0.5 * (e0 * e0 + e1 * e1) * dt;
@@ -288,6 +299,15 @@ impl Recorder {
             }
         }
         self.fall = Some(t_s);
+    }
+
+    /// The firmware's slow-path estimate of output and input power for the
+    /// window ending at `t_s`.
+    pub fn estimate(&mut self, t_s: f64, output_w: f64, input_w: f64) {
+        if let Some(w) = self.windows.iter_mut().find(|w| t_s > w.from_s && t_s <= w.to_s) {
+            w.est_output_w += output_w;
+            w.est_input_w += input_w;
+        }
     }
 
     /// Whether `t_s` lies in a steady window.

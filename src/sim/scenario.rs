@@ -7,8 +7,10 @@
 
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, Load, LoadChange, Profile};
+use crate::estimate::InductorModel;
 use crate::guard::WindowConfig;
 use crate::law::HystereticConfig;
+use crate::supervisor::ProtectionConfig;
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
@@ -45,6 +47,28 @@ pub struct McuParams {
     /// Timer reading at t = 0 (set near `u32::MAX` to exercise the wrap).
     #[serde(default)]
     pub start_tick: u32,
+    /// Input divider ratio (ADC-pin volts per input volt); same ADC.
+    pub vin_divider_ratio: f64,
+    /// From this time on the output divider reads as open (0 V at the
+    /// pin): a fault to test against.
+    #[serde(default)]
+    pub feedback_open_at_s: Option<f64>,
+}
+
+/// What the firmware believes about the stage, and its slow path.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct FirmwareParams {
+    /// Housekeeping (slow path) rate, Hz.
+    pub housekeeping_hz: f64,
+    /// The estimator's model of the stage; omitted: the plant's own values.
+    #[serde(default)]
+    pub model: Option<InductorModel>,
+    /// Observer bandwidth, Hz; omitted: no observer.
+    #[serde(default)]
+    pub observer_bandwidth_hz: Option<f64>,
+    /// Protection settings.
+    pub protection: ProtectionConfig,
 }
 
 /// How the hysteretic law gets its input.
@@ -129,12 +153,17 @@ pub struct Scenario {
     /// Output capacitor voltage at t = 0, V.
     #[serde(default)]
     pub initial_output_v: f64,
+    /// Inductor current at t = 0, A (the firmware's estimate starts at 0).
+    #[serde(default)]
+    pub initial_inductor_a: f64,
     /// Power stage.
     pub plant: PlantParams,
     /// Microcontroller.
     pub mcu: McuParams,
-    /// Firmware.
+    /// Firmware: law and window.
     pub control: ControlParams,
+    /// Firmware: estimator, observer, protection.
+    pub firmware: FirmwareParams,
     /// Source voltage over time.
     pub input: InputProfile,
     /// Load changes over time.
@@ -193,6 +222,26 @@ fn non_negative(key: &str, x: f64) -> Result<(), ScenarioError> {
 }
 
 impl Scenario {
+    /// The model the firmware's estimator uses: the scenario's, or the
+    /// plant's own values.
+    pub fn firmware_model(&self) -> InductorModel {
+        self.firmware.model.unwrap_or_else(|| {
+            let p = &self.plant;
+            let r_low_ohm = match p.stage {
+                Stage::Synchronous { r_on_low_ohm, .. } => Some(r_on_low_ohm as f32),
+                Stage::NonSynchronous => None,
+            };
+            InductorModel {
+                l_h: p.l_h as f32,
+                r_on_ohm: (p.r_on_ohm + p.r_source_ohm) as f32,
+                dcr_ohm: p.dcr_ohm as f32,
+                diode_vf_v: p.diode_vf_v as f32,
+                diode_rd_ohm: p.diode_rd_ohm as f32,
+                r_low_ohm,
+            }
+        })
+    }
+
     /// The built-in default scenario (the shipped `hysteretic.toml`).
     pub fn default_demo() -> Self {
         Self::from_toml(DEFAULT_SCENARIO_TOML).expect("the shipped default scenario is valid")
@@ -278,6 +327,14 @@ impl Scenario {
         non_negative("mcu.noise_lsb_rms", m.noise_lsb_rms)?;
         non_negative("mcu.isr_latency_s", m.isr_latency_s)?;
         non_negative("mcu.comparator_delay_s", m.comparator_delay_s)?;
+        positive("mcu.vin_divider_ratio", m.vin_divider_ratio)?;
+        if let Some(t) = m.feedback_open_at_s {
+            non_negative("mcu.feedback_open_at_s", t)?;
+        }
+        positive("firmware.housekeeping_hz", self.firmware.housekeeping_hz)?;
+        if self.firmware.housekeeping_hz > m.sample_rate_hz.max(f64::from(m.clock_hz) / 64.0) {
+            return Err(invalid("firmware.housekeeping_hz", "faster than the fast path"));
+        }
         crate::scale::AdcChannel::new(
             m.adc_bits,
             m.adc_reference_v as f32,

@@ -53,7 +53,7 @@ pub fn predicted_frequency(s: &Scenario, vin: f64, load_a: f64) -> f64 {
         Stage::NonSynchronous => (p.diode_rd_ohm, p.diode_vf_v),
     };
     let d = design::duty_ccm(vin, vout, load_a, p.r_on_ohm + p.r_source_ohm, vf, r_low, p.dcr_ohm);
-    let op = design::OperatingPoint { vin_v: vout / d, vout_v: vout, iout_a: load_a };
+    let op = design::OperatingPoint { vin_v: vout / d, vout_v: vout, iout_a: load_a, vf_v: vf };
     let filter = design::OutputFilter { l_h: p.l_h, c_f: p.c_f, esr_ohm: p.esr_ohm };
     let synchronous = matches!(p.stage, Stage::Synchronous { .. });
     design::hysteretic_frequency(&op, &filter, s.control.law.band_v(), loop_delay_s(s), synchronous)
@@ -66,6 +66,7 @@ pub fn operating_point(base: &Scenario, vin: f64, load_a: f64, duration_s: f64) 
     s.name = format!("{vin:.1} V, {load_a:.2} A");
     s.duration_s = duration_s;
     s.initial_output_v = vout;
+    s.initial_inductor_a = load_a;
     s.input = InputProfile { points: vec![[0.0, vin]] };
     s.load = vec![LoadChange { at_s: 0.0, load: Load::Resistive { ohms: vout / load_a } }];
     s

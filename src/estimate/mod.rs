@@ -1,0 +1,17 @@
+//! Sensorless estimates: inductor current and efficiency.
+//!
+//! | module | what |
+//! |---|---|
+//! | [`current`] | piecewise-linear inductor current from the switching edges (fast path) |
+//! | [`observer`] | averaged-model Luenberger observer that holds the current's DC level (slow path) |
+//! | [`efficiency`] | efficiency: measured, or from a loss model of the current estimate (slow path) |
+
+pub mod current;
+pub mod efficiency;
+pub mod observer;
+
+pub use current::{
+    Amps, CurrentEstimator, CycleCurrents, InductorModel, PhaseTotals, WindowTotals,
+};
+pub use efficiency::{LossBreakdown, LossModel, MeasuredEfficiency, Steinmetz};
+pub use observer::{Observer, ObserverConfig};
