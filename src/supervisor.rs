@@ -26,6 +26,10 @@
 //!   hiccup time, then soft-start again. (Charging the output capacitor at
 //!   the limit during soft-start keeps the output near the ramp, so it is
 //!   not taken for a short.)
+//! - **Retries**: after that many hiccups in a row without reaching
+//!   regulation, latch off (a persistent short, or a feedback fault the
+//!   current limit masks: with the output reading zero, an open divider and
+//!   a short look alike to firmware without another sensor).
 //! - **Sensor faults**, latched: the output reads near zero while the
 //!   firmware's own timing says the switch node averages well above it
 //!   (`D·V_in`, an open feedback divider; a real short instead averages only
@@ -78,6 +82,9 @@ pub struct ProtectionConfig {
     pub stuck_implied_v: f32,
     /// Consecutive implausible cycles before the sensor fault (≥ 1).
     pub stuck_cycles: u16,
+    /// Hiccup restarts in a row that never reach regulation before the
+    /// supervisor latches off (≥ 1).
+    pub max_retries: u16,
 }
 
 /// Kinds of fault.
@@ -96,6 +103,10 @@ pub enum FaultKind {
     SensorStuck,
     /// A reading at the ADC's rails.
     SensorRange,
+    /// Hiccup restarts exhausted without reaching regulation: a persistent
+    /// short, or a feedback fault the current limit masks (an open divider
+    /// reads like a short to firmware that has no other sensor).
+    RetriesExhausted,
 }
 
 impl FaultKind {
@@ -108,13 +119,14 @@ impl FaultKind {
             Self::ShortCircuit => "short-circuit",
             Self::SensorStuck => "sensor-stuck",
             Self::SensorRange => "sensor-range",
+            Self::RetriesExhausted => "retries-exhausted",
         }
     }
 
     /// Latched faults need [`Supervisor::clear_faults`]; the others restart
     /// by themselves.
     pub const fn is_latched(self) -> bool {
-        matches!(self, Self::SensorStuck | Self::SensorRange)
+        matches!(self, Self::SensorStuck | Self::SensorRange | Self::RetriesExhausted)
     }
 }
 
@@ -175,6 +187,8 @@ pub struct Limits {
     pub stuck_implied: u16,
     /// Sensor-fault cycle count.
     pub stuck_cycles: u16,
+    /// Hiccup restarts before latching.
+    pub max_retries: u16,
     /// Output code at or above which the reading is implausible.
     pub out_rail: u16,
     /// Input code at or above which the reading is implausible.
@@ -216,7 +230,7 @@ impl Limits {
         if finite(cfg.current_limit_a)? <= 0.0 {
             return Err(ConfigError::CurrentLimitNotPositive);
         }
-        if cfg.short_cycles == 0 || cfg.stuck_cycles == 0 {
+        if cfg.short_cycles == 0 || cfg.stuck_cycles == 0 || cfg.max_retries == 0 {
             return Err(ConfigError::CountZero);
         }
         let stuck_low = code(vout, cfg.stuck_low_v, range)?;
@@ -237,6 +251,7 @@ impl Limits {
             stuck_low,
             stuck_implied,
             stuck_cycles: cfg.stuck_cycles,
+            max_retries: cfg.max_retries,
             out_rail: vout.full_scale_code(),
             in_rail: vin.full_scale_code(),
         })
@@ -262,6 +277,7 @@ pub struct Supervisor<L> {
     has_reading: bool,
     limited_this_cycle: bool,
     limited_streak: u16,
+    retries: u16,
     stuck_streak: u16,
     log: Deque<FaultRecord, FAULT_LOG_LEN>,
 }
@@ -289,6 +305,7 @@ impl<L: Law + Regulate> Supervisor<L> {
             has_reading: false,
             limited_this_cycle: false,
             limited_streak: 0,
+            retries: 0,
             stuck_streak: 0,
             log: Deque::new(),
         }
@@ -338,6 +355,7 @@ impl<L: Law + Regulate> Supervisor<L> {
     /// [`State::Off`] (a restart follows when the input is good).
     pub fn clear_faults(&mut self) {
         self.log.clear();
+        self.retries = 0;
         if self.state == State::Fault {
             self.state = State::Off;
         }
@@ -389,14 +407,23 @@ impl<L: Law + Regulate> Supervisor<L> {
         }
     }
 
-    /// Stop for `kind`: latched, hiccup, or back to `Off`.
+    /// Stop for `kind`: latched, hiccup, or back to `Off`. A hiccup that
+    /// follows too many restarts without regulation latches instead.
     fn trip(&mut self, kind: FaultKind, now: Instant) -> Command {
         self.force_off(now);
         self.log_fault(kind, now);
         self.state = match kind {
             k if k.is_latched() => State::Fault,
             FaultKind::InputUndervoltage | FaultKind::InputOvervoltage => State::Off,
-            _ => State::Restart,
+            _ => {
+                self.retries = self.retries.saturating_add(1);
+                if self.retries > self.limits.max_retries {
+                    self.log_fault(FaultKind::RetriesExhausted, now);
+                    State::Fault
+                } else {
+                    State::Restart
+                }
+            }
         };
         self.since = now;
         self.limited_streak = 0;
@@ -408,6 +435,7 @@ impl<L: Law + Regulate> Supervisor<L> {
     #[inline(always)]
     fn check_output(&mut self, out: u16, now: Instant) -> Option<Command> {
         self.note_reading(out);
+        self.estimator.on_output_code(out, now);
         if out >= self.limits.out_rail {
             return Some(self.trip(FaultKind::SensorRange, now));
         }
@@ -540,6 +568,7 @@ impl<L: Law + Regulate> Supervisor<L> {
     }
 
     fn begin_soft_start(&mut self, now: Instant) {
+        self.estimator.restart_at(now);
         self.state = State::SoftStart;
         self.since = now;
         self.ramp_from = self.last_out.min(self.target);
@@ -550,6 +579,7 @@ impl<L: Law + Regulate> Supervisor<L> {
         if elapsed >= self.limits.soft_start {
             self.inner.set_reference(self.target);
             self.state = State::Regulating;
+            self.retries = 0;
             return;
         }
         let span = u64::from(self.target - self.ramp_from);

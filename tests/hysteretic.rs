@@ -106,8 +106,9 @@ fn set_reference_moves_band_and_saturates() {
     let (below, above) = (2048 - law.lower_code(), law.upper_code() - 2048);
     law.set_reference(100);
     assert_eq!((law.lower_code(), law.upper_code()), (100 - below, 100 + above));
+    assert_eq!(law.reference_code(), 100);
     law.set_reference(0);
-    assert_eq!(law.lower_code(), 0);
+    assert_eq!((law.lower_code(), law.reference_code()), (0, 0));
     law.set_reference(u16::MAX);
     assert_eq!(law.upper_code(), 4095);
     // A sample of 0 still turns the gate on at the bottom of a soft-start.

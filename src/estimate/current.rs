@@ -195,7 +195,12 @@ pub struct CurrentEstimator {
     tick_s: f32,
     model: InductorModel,
     inv_l_tick: f32,
-    // Slow-path-computed segment constants.
+    // Segment constants. The output's share of the slopes follows every
+    // output reading (fast path); the input's share, the slow path.
+    vin_term: i32,
+    vout_term: i32,
+    vf_term: i32,
+    out_code_term: u32,
     slope_on: i32,
     slope_off: i32,
     decay_on: u32,
@@ -266,6 +271,14 @@ impl CurrentEstimator {
             tick_s,
             model: *model,
             inv_l_tick,
+            vin_term: 0,
+            vout_term: 0,
+            vf_term: i8f24_bits(if model.r_low_ohm.is_some() {
+                0.0
+            } else {
+                model.diode_vf_v * inv_l_tick
+            }),
+            out_code_term: 0,
             slope_on: 0,
             slope_off: 0,
             decay_on: u0f32_bits((model.r_on_ohm + model.dcr_ohm) * inv_l_tick),
@@ -281,6 +294,15 @@ impl CurrentEstimator {
         })
     }
 
+    /// Start timing from `now` (the first segment would otherwise run from
+    /// `Instant(0)`), keeping the present current. Call once the timer runs,
+    /// and after any pause in switching the estimator did not see.
+    pub fn restart_at(&mut self, now: Instant) {
+        self.since = now;
+        self.cycle =
+            CycleCurrents { valley: Amps::from_bits(self.current), ..CycleCurrents::default() };
+    }
+
     /// The model in use.
     pub const fn model(&self) -> &InductorModel {
         &self.model
@@ -288,14 +310,10 @@ impl CurrentEstimator {
 
     /// Slow path: the input and output voltages the slopes use, volts.
     pub fn set_voltages(&mut self, vin_v: f32, vout_v: f32) {
-        let k = self.inv_l_tick;
-        let on = (vin_v - vout_v) * k;
-        let vf = if self.model.r_low_ohm.is_some() { 0.0 } else { self.model.diode_vf_v };
-        let off = -(vout_v + vf) * k;
-        self.slope_on = i8f24_bits(on);
-        self.slope_off = i8f24_bits(off);
-        self.ticks_per_amp_on = ticks_per_amp_bits(on);
-        self.ticks_per_amp_off = ticks_per_amp_bits(off);
+        self.vin_term = i8f24_bits(vin_v * self.inv_l_tick);
+        self.vout_term = i8f24_bits(vout_v * self.inv_l_tick);
+        self.refresh_slopes();
+        self.refresh_reciprocals();
     }
 
     /// Slow path: the same from raw ADC codes of the input and output
@@ -308,6 +326,41 @@ impl CurrentEstimator {
         vout_adc: &AdcChannel,
     ) {
         self.set_voltages(vin_adc.to_volts(vin), vout_adc.to_volts(vout));
+    }
+
+    /// Slow path, once: let [`on_output_code`](Self::on_output_code) follow
+    /// the output through `adc`'s codes (offset ignored: its share is below
+    /// one code's worth of slope).
+    pub fn follow_output(&mut self, adc: &AdcChannel) {
+        // A/tick per code in 2⁻³² units: one code's volts × t_tick/L.
+        let per_code = adc.lsb_signal_v() * f64::from(self.inv_l_tick) * 4_294_967_296.0;
+        self.out_code_term =
+            if per_code >= f64::from(u32::MAX) { u32::MAX } else { per_code as u32 };
+    }
+
+    /// Fast path: a fresh output reading; the slopes follow it from `now`.
+    /// Does nothing until [`follow_output`](Self::follow_output) was called.
+    #[inline]
+    pub fn on_output_code(&mut self, code: u16, now: Instant) {
+        if self.out_code_term == 0 {
+            return;
+        }
+        self.close_segment(now);
+        // Q8.24 = (code × 2⁻³² A/tick) >> 8.
+        self.vout_term = ((u64::from(code) * u64::from(self.out_code_term)) >> 8) as i32;
+        self.refresh_slopes();
+    }
+
+    #[inline(always)]
+    fn refresh_slopes(&mut self) {
+        self.slope_on = self.vin_term.saturating_sub(self.vout_term);
+        self.slope_off = self.vout_term.saturating_add(self.vf_term).saturating_neg();
+    }
+
+    fn refresh_reciprocals(&mut self) {
+        let per_tick = |bits: i32| I8F24::from_bits(bits).to_num::<f32>();
+        self.ticks_per_amp_on = ticks_per_amp_bits(per_tick(self.slope_on));
+        self.ticks_per_amp_off = ticks_per_amp_bits(per_tick(self.slope_off));
     }
 
     /// Fast path: the current at `now` (the state advanced without being

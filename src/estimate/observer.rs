@@ -69,9 +69,12 @@ fn det(m: &M3) -> f64 {
         + m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0])
 }
 
+/// The inverse, or `None` when `m` is singular relative to its scale (the
+/// determinant below 10⁻⁹ of the product of the row norms).
 fn inverse(m: &M3) -> Option<M3> {
     let d = det(m);
-    if d.abs() < 1e-300 || !d.is_finite() {
+    let scale: f64 = m.iter().map(|r| libm::sqrt(r.iter().map(|x| x * x).sum::<f64>())).product();
+    if !d.is_finite() || !scale.is_finite() || d.abs() <= 1e-9 * scale {
         return None;
     }
     let c =

@@ -53,6 +53,7 @@ pub enum Threshold {
 pub struct Hysteretic {
     lower: u16,
     upper: u16,
+    reference: u16,
     below_reference: u16,
     above_reference: u16,
     full_scale: u16,
@@ -92,6 +93,7 @@ impl Hysteretic {
         Ok(Self {
             lower,
             upper,
+            reference,
             below_reference: reference - lower,
             above_reference: upper - reference,
             full_scale: adc.full_scale_code(),
@@ -112,7 +114,7 @@ impl Hysteretic {
 
     /// The reference (band centre), ADC code.
     pub const fn reference_code(&self) -> u16 {
-        self.lower + self.below_reference
+        self.reference
     }
 
     /// Which threshold edge mode watches now.
@@ -139,6 +141,7 @@ impl Hysteretic {
     /// saturate at code 0 and at full scale.
     pub fn set_reference(&mut self, reference: u16) {
         let reference = reference.min(self.full_scale);
+        self.reference = reference;
         self.lower = reference.saturating_sub(self.below_reference);
         self.upper = reference.saturating_add(self.above_reference).min(self.full_scale);
     }

@@ -179,7 +179,8 @@ impl Firmware {
         let vout_adc = output_channel(&scenario.mcu)?;
         let vin_adc = input_channel(&scenario.mcu)?;
         let model = scenario.firmware_model();
-        let estimator = CurrentEstimator::new(&model, &clock)?;
+        let mut estimator = CurrentEstimator::new(&model, &clock)?;
+        estimator.follow_output(&vout_adc);
         let setpoint = vout_adc.to_code(scenario.control.law.setpoint_v() as f32)?.raw;
         let limits =
             Limits::new(&scenario.firmware.protection, &vout_adc, &vin_adc, &clock, setpoint)?;

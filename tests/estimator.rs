@@ -1,0 +1,260 @@
+//! Estimators against handbook relations.
+//!
+//! Sources: Erickson & Maksimović, *Fundamentals of Power Electronics*,
+//! 3rd ed., ch. 2 (inductor ripple) and ch. 5 (CCM/DCM boundary);
+//! Steinmetz's equation (C. P. Steinmetz, 1892); the hard-switching loss
+//! approximation ½·V·I·(t_r + t_f)·f (common practice).
+
+use ripplectl::design;
+use ripplectl::estimate::{
+    Amps, CurrentEstimator, InductorModel, LossModel, MeasuredEfficiency, Observer, ObserverConfig,
+    Steinmetz,
+};
+use ripplectl::{Gate, Instant, TimerClock};
+
+const CLOCK: u32 = 64_000_000;
+
+fn lossless(l_h: f32) -> InductorModel {
+    InductorModel {
+        l_h,
+        r_on_ohm: 0.0,
+        dcr_ohm: 0.0,
+        diode_vf_v: 0.0,
+        diode_rd_ohm: 0.0,
+        r_low_ohm: None,
+    }
+}
+
+/// Drive `est` with `cycles` of on/off edges from `start` (wrapping ticks).
+fn run_cycles(est: &mut CurrentEstimator, start: u32, on: u32, period: u32, cycles: u32) -> u32 {
+    let mut t = start;
+    for _ in 0..cycles {
+        est.on_gate(Gate::On, Instant(t));
+        t = t.wrapping_add(on);
+        est.on_gate(Gate::Off, Instant(t));
+        t = t.wrapping_add(period - on);
+    }
+    est.on_gate(Gate::On, Instant(t));
+    t
+}
+
+#[test]
+fn ccm_ripple_matches_erickson() {
+    // 24 V → 5 V, 47 µH, 100 kHz: Δi = (Vin − Vout)·D/(L·f) = 0.842 A
+    // (Erickson & Maksimović ch. 2, peak to peak).
+    let (vin, l, f) = (24.0f32, 47e-6f32, 100e3f32);
+    let period = (CLOCK as f32 / f) as u32;
+    let on = (period as f32 * 5.0 / vin).round() as u32;
+    // The output that balances the whole-tick duty exactly.
+    let vout = vin * on as f32 / period as f32;
+    let mut est = CurrentEstimator::new(&lossless(l), &TimerClock::new(CLOCK).unwrap()).unwrap();
+    est.set_voltages(vin, vout);
+    est.restart_at(Instant(u32::MAX - 1000));
+    est.shift(Amps::from_num(2));
+    run_cycles(&mut est, u32::MAX - 1000, on, period, 20);
+    let c = est.last_cycle().unwrap();
+    let d = on as f32 / period as f32;
+    let expected = (vin - vout) * d / (l * f);
+    let got = (c.peak - c.valley).to_num::<f32>();
+    assert!((got - expected).abs() / expected < 0.005, "ripple {got} vs {expected}");
+    assert!(!c.dcm);
+    // Volt-second balance holds, so the valley does not drift.
+    assert!((c.valley.to_num::<f32>() - 2.0).abs() < 0.01, "valley {}", c.valley);
+}
+
+#[test]
+fn ccm_dcm_boundary_matches_erickson() {
+    // At the boundary the current just touches zero: I_crit = Δi/2
+    // (Erickson & Maksimović ch. 5, K = K_crit).
+    let (vin, vout, l) = (24.0f32, 5.0f32, 22e-6f32);
+    let clock = TimerClock::new(CLOCK).unwrap();
+    let period = 640u32;
+    let on = (period as f32 * vout / vin).round() as u32;
+    let mut est = CurrentEstimator::new(&lossless(l), &clock).unwrap();
+    est.set_voltages(vin, vout);
+    run_cycles(&mut est, 0, on, period, 5);
+    let c = est.last_cycle().unwrap();
+    let d = f64::from(on) / f64::from(period);
+    let vin_eff = f64::from(vout) / d;
+    let i_crit = design::boundary_current(
+        vin_eff,
+        f64::from(vout),
+        f64::from(l),
+        f64::from(CLOCK) / f64::from(period),
+    );
+    let avg = f64::from(c.average().to_num::<f32>());
+    assert!((avg - i_crit).abs() / i_crit < 0.01, "boundary average {avg} vs {i_crit}");
+    // A longer period at the same on-time idles at zero: DCM.
+    let mut light = CurrentEstimator::new(&lossless(l), &clock).unwrap();
+    light.set_voltages(vin, vout);
+    run_cycles(&mut light, 0, on, 2 * period, 5);
+    let c = light.last_cycle().unwrap();
+    assert!(c.dcm && c.valley == Amps::ZERO);
+    // The DCM average is the triangle's charge over the period:
+    // ½·i_pk·(T_on + T_fall), T_fall = T_on·(Vin − Vout)/Vout.
+    let i_pk = f64::from(vin - vout) / f64::from(l) * f64::from(on) / f64::from(CLOCK);
+    let t_on = f64::from(on) / f64::from(CLOCK);
+    let q = 0.5 * i_pk * (t_on + t_on * f64::from(vin - vout) / f64::from(vout));
+    let want = q / (f64::from(2 * period) / f64::from(CLOCK));
+    let got = f64::from(c.average().to_num::<f32>());
+    assert!((got - want).abs() / want < 0.01, "DCM average {got} vs {want}");
+}
+
+#[test]
+fn inductance_error_scales_the_ripple() {
+    // The estimate's ripple is inversely proportional to the assumed L: a
+    // model 10 % high gives 1/1.1 of the true ripple.
+    let clock = TimerClock::new(CLOCK).unwrap();
+    let ripple = |l: f32| {
+        let mut est = CurrentEstimator::new(&lossless(l), &clock).unwrap();
+        est.set_voltages(24.0, 5.0);
+        est.restart_at(Instant(0));
+        est.shift(Amps::from_num(2));
+        run_cycles(&mut est, 0, 133, 640, 10);
+        let c = est.last_cycle().unwrap();
+        (c.peak - c.valley).to_num::<f32>()
+    };
+    let ratio = ripple(47e-6 * 1.1) / ripple(47e-6);
+    assert!((ratio - 1.0 / 1.1).abs() < 0.002, "{ratio}");
+}
+
+#[test]
+fn steinmetz_worked_example() {
+    // P_v = k·f^α·B̂^β (Steinmetz 1892). Worked by hand: k = 4, α = 1.4,
+    // β = 2.6 (MnZn-ferrite-like, from memory), f = 100 kHz, B̂ = 0.05 T:
+    // f^α = 10^7, B̂^β = e^{2.6·ln 0.05} = 4.1418e-4, P_v = 16 567 W/m³;
+    // over 1.5 cm³, 24.85 mW.
+    let core =
+        Steinmetz { k: 4.0, alpha: 1.4, beta: 2.6, turns: 20.0, area_m2: 20e-6, volume_m3: 1.5e-6 };
+    // B̂ = L·Δi/(2·N·A_e) = 0.05 T for L = 40 µH, Δi = 1 A.
+    let p = core.power_w(40e-6, 1.0, 100e3);
+    assert!((p - 0.024_85).abs() / 0.024_85 < 0.002, "{p}");
+}
+
+fn flat_current_window(i_a: f32, vin: f32, vout: f32) -> ripplectl::estimate::WindowTotals {
+    // An estimator at constant current (no ripple: huge L), one cycle.
+    let clock = TimerClock::new(CLOCK).unwrap();
+    let mut est = CurrentEstimator::new(&lossless(1.0), &clock).unwrap();
+    est.set_voltages(vin, vout);
+    est.shift(Amps::from_num(i_a));
+    let on = (640.0 * vout / vin) as u32;
+    run_cycles(&mut est, 0, on, 640, 100);
+    est.take_totals()
+}
+
+#[test]
+fn switching_loss_is_half_v_i_t_f() {
+    // ½·Vin·I·(t_r + t_f)·f_sw (common practice, hard switching).
+    let model = LossModel {
+        l_h: 1.0,
+        r_on_ohm: 0.0,
+        dcr_ohm: 0.0,
+        diode_vf_v: 0.0,
+        off_r_ohm: 0.0,
+        esr_ohm: 0.0,
+        t_rise_s: 20e-9,
+        t_fall_s: 30e-9,
+        gate_charge_c: 0.0,
+        gate_drive_v: 0.0,
+        core: None,
+    };
+    let w = flat_current_window(2.0, 24.0, 5.0);
+    let b = model.evaluate(&w, 24.0, 5.0, 1.0 / CLOCK as f32);
+    let expected = 0.5 * 24.0 * 2.0 * 50e-9 * 100e3;
+    assert!((b.switching_w - expected).abs() / expected < 0.01, "{} vs {expected}", b.switching_w);
+}
+
+#[test]
+fn conduction_losses_follow_rms_current() {
+    // Flat 2 A at D = 5/24: switch I²·R_on·D, diode V_f·I·(1 − D) (the
+    // textbook CCM forms), DCR I²·R.
+    let model = LossModel {
+        l_h: 1.0,
+        r_on_ohm: 0.1,
+        dcr_ohm: 0.05,
+        diode_vf_v: 0.4,
+        off_r_ohm: 0.0,
+        esr_ohm: 0.0,
+        t_rise_s: 0.0,
+        t_fall_s: 0.0,
+        gate_charge_c: 0.0,
+        gate_drive_v: 0.0,
+        core: None,
+    };
+    let w = flat_current_window(2.0, 24.0, 5.0);
+    let b = model.evaluate(&w, 24.0, 5.0, 1.0 / CLOCK as f32);
+    let d = w.duty();
+    let close = |a: f32, b: f32| (a - b).abs() / b < 0.01;
+    assert!(close(b.switch_w, 4.0 * 0.1 * d), "switch {}", b.switch_w);
+    assert!(close(b.diode_w, 0.4 * 2.0 * (1.0 - d)), "diode {}", b.diode_w);
+    assert!(close(b.dcr_w, 4.0 * 0.05), "dcr {}", b.dcr_w);
+    assert!(close(b.output_w, 10.0), "output {}", b.output_w);
+}
+
+#[test]
+fn measured_efficiency_is_power_ratio() {
+    let mut m = MeasuredEfficiency::new(0.2);
+    for _ in 0..50 {
+        m.update(24.0, 0.5, 5.0, 2.16);
+    }
+    assert!((m.efficiency() - 10.8 / 12.0).abs() < 1e-5);
+}
+
+#[test]
+fn observer_places_its_poles() {
+    // Ackermann's formula: the error dynamics Φ − K·H must have exactly the
+    // requested characteristic polynomial (z − p1)(z − p2)(z − p3).
+    let cfg = ObserverConfig {
+        l_h: 47e-6,
+        c_f: 220e-6,
+        r_ohm: 0.08,
+        period_s: 100e-6,
+        poles: ObserverConfig::poles_for_bandwidth(1_000.0, 100e-6),
+    };
+    let obs = Observer::new(&cfg).unwrap();
+    let m = obs.error_dynamics().map(|r| r.map(f64::from));
+    let trace = m[0][0] + m[1][1] + m[2][2];
+    let minors = m[0][0] * m[1][1] - m[0][1] * m[1][0] + m[0][0] * m[2][2] - m[0][2] * m[2][0]
+        + m[1][1] * m[2][2]
+        - m[1][2] * m[2][1];
+    let det = m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1])
+        - m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0])
+        + m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0]);
+    let [p1, p2, p3] = cfg.poles.map(f64::from);
+    assert!((trace - (p1 + p2 + p3)).abs() < 1e-4, "trace {trace}");
+    assert!((minors - (p1 * p2 + p1 * p3 + p2 * p3)).abs() < 1e-4, "minors {minors}");
+    assert!((det - p1 * p2 * p3).abs() < 1e-4, "det {det}");
+}
+
+#[test]
+fn observer_converges_to_the_drop_balance() {
+    // Steady state of the averaged model: i = (u − v)/R. Start far off.
+    let cfg = ObserverConfig {
+        l_h: 47e-6,
+        c_f: 220e-6,
+        r_ohm: 0.08,
+        period_s: 100e-6,
+        poles: ObserverConfig::poles_for_bandwidth(1_000.0, 100e-6),
+    };
+    let mut obs = Observer::new(&cfg).unwrap();
+    obs.reset(0.0, 5.0, 0.0);
+    let (v, i) = (5.0, 2.0);
+    for _ in 0..200 {
+        obs.update(v + 0.08 * i, v, None);
+    }
+    assert!((obs.current_a() - i).abs() < 0.01, "{}", obs.current_a());
+    assert!((obs.load_a() - i).abs() < 0.01, "{}", obs.load_a());
+}
+
+#[test]
+fn zero_resistance_is_not_observable() {
+    // The DC current is seen through R·i only; with R = 0 it is not.
+    let cfg = ObserverConfig {
+        l_h: 47e-6,
+        c_f: 220e-6,
+        r_ohm: 0.0,
+        period_s: 100e-6,
+        poles: [0.5, 0.6, 0.7],
+    };
+    assert_eq!(Observer::new(&cfg).unwrap_err(), ripplectl::ConfigError::NotObservable);
+}

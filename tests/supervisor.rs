@@ -1,0 +1,197 @@
+//! Supervisor properties over arbitrary inputs.
+
+mod common;
+
+use common::cases;
+use proptest::prelude::*;
+use ripplectl::estimate::{CurrentEstimator, InductorModel};
+use ripplectl::law::{Hysteretic, HystereticConfig, Regulate};
+use ripplectl::supervisor::{FaultKind, Limits, ProtectionConfig, State, Supervisor};
+use ripplectl::{AdcChannel, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig};
+
+fn channels() -> (AdcChannel, AdcChannel) {
+    (
+        AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0).unwrap(),
+        AdcChannel::new(12, 3.3, 0.0826, 0.0).unwrap(),
+    )
+}
+
+fn protection() -> ProtectionConfig {
+    ProtectionConfig {
+        uvlo_on_v: 16.0,
+        uvlo_off_v: 15.0,
+        vin_max_v: 36.0,
+        vin_max_hysteresis_v: 1.0,
+        ovp_v: 5.5,
+        current_limit_a: 4.0,
+        short_cycles: 8,
+        hiccup_s: 2e-3,
+        soft_start_s: 1e-3,
+        stuck_low_v: 0.3,
+        stuck_implied_v: 2.0,
+        stuck_cycles: 3,
+        max_retries: 3,
+    }
+}
+
+type Stack = Supervisor<FrequencyGuard<Hysteretic>>;
+
+fn stack() -> Stack {
+    let (vout, vin) = channels();
+    let clock = TimerClock::new(64_000_000).unwrap();
+    let law = Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).unwrap();
+    let guard = FrequencyGuard::new(law, Window::new(&WindowConfig::demo(), &clock).unwrap());
+    let model = InductorModel {
+        l_h: 47e-6,
+        r_on_ohm: 0.11,
+        dcr_ohm: 0.03,
+        diode_vf_v: 0.45,
+        diode_rd_ohm: 0.03,
+        r_low_ohm: None,
+    };
+    let est = CurrentEstimator::new(&model, &clock).unwrap();
+    let limits = Limits::new(&protection(), &vout, &vin, &clock, 1984).unwrap();
+    Supervisor::new(guard, est, limits)
+}
+
+#[derive(Clone, Debug)]
+enum Event {
+    Sample(u16),
+    Edge(bool),
+    Timer,
+    Housekeeping(u16),
+}
+
+fn event() -> impl Strategy<Value = (u32, Event)> {
+    (
+        1u32..2_000,
+        prop_oneof![
+            6 => any::<u16>().prop_map(Event::Sample),
+            2 => (1900u16..2100).prop_map(Event::Sample),
+            1 => any::<bool>().prop_map(Event::Edge),
+            1 => Just(Event::Timer),
+            2 => prop_oneof![any::<u16>(), 1500u16..3500].prop_map(Event::Housekeeping),
+        ],
+    )
+}
+
+fn apply(s: &mut Stack, e: &Event, now: Instant) -> Option<Gate> {
+    let (vout, vin) = channels();
+    match *e {
+        Event::Sample(c) => Some(s.on_sample(c, now).gate),
+        Event::Edge(l) => Some(s.on_edge(l, now).gate),
+        Event::Timer => Some(s.on_timer(now).gate),
+        Event::Housekeeping(v) => {
+            s.housekeeping(v, &vin, &vout, now);
+            None
+        }
+    }
+}
+
+proptest! {
+    #![proptest_config(cases(10_000))]
+
+    /// Any stream of readings, edges, timers and input codes: no panic, and
+    /// whenever the supervisor is not switching, the gate it commands is off.
+    #[test]
+    fn arbitrary_streams_never_panic_and_faults_keep_the_gate_off(
+        start in prop_oneof![u32::MAX - 50_000..=u32::MAX, any::<u32>()],
+        events in prop::collection::vec(event(), 1..400),
+    ) {
+        let mut s = stack();
+        let mut t = start;
+        for (dt, e) in &events {
+            t = t.wrapping_add(*dt);
+            let gate = apply(&mut s, e, Instant(t));
+            if !matches!(s.state(), State::SoftStart | State::Regulating) {
+                prop_assert_eq!(s.gate(), Gate::Off, "state {:?}", s.state());
+                if let Some(g) = gate {
+                    prop_assert_eq!(g, Gate::Off);
+                }
+            }
+        }
+        prop_assert!(s.faults().count() <= ripplectl::supervisor::FAULT_LOG_LEN);
+    }
+
+    /// An over-voltage reading turns the gate off in the same call, whatever
+    /// came before.
+    #[test]
+    fn over_voltage_turns_the_gate_off_at_the_next_sample(
+        events in prop::collection::vec(event(), 0..200),
+        ovp_code in 2183u16..4095,
+    ) {
+        let mut s = stack();
+        let (vout, vin) = channels();
+        let mut t = 1_000u32;
+        s.on_sample(1984, Instant(t));
+        s.housekeeping(2900, &vin, &vout, Instant(t));
+        for (dt, e) in &events {
+            t = t.wrapping_add(*dt);
+            apply(&mut s, e, Instant(t));
+        }
+        let before = s.state();
+        let cmd = s.on_sample(ovp_code, Instant(t.wrapping_add(1)));
+        prop_assert_eq!(cmd.gate, Gate::Off);
+        prop_assert_eq!(s.gate(), Gate::Off);
+        if matches!(before, State::SoftStart | State::Regulating) {
+            let last = s.faults().last().unwrap().kind;
+            prop_assert!(matches!(last, FaultKind::OutputOvervoltage | FaultKind::SensorRange), "{:?}", last);
+        }
+    }
+}
+
+#[test]
+fn over_voltage_threshold_is_the_configured_one() {
+    // 5.5 V through the 4.7/14.7 divider into 12 bits at 3.3 V:
+    // 5.5·0.31973/(3.3/4096) = 2182.7 → code 2183.
+    let s = stack();
+    assert_eq!(s.limits().ovp, 2183);
+}
+
+#[test]
+fn uvlo_hysteresis_and_soft_start() {
+    let mut s = stack();
+    let (vout, vin) = channels();
+    let code = |v: f32| vin.to_code(v).unwrap().raw;
+    let mut t = Instant(0);
+    s.on_sample(0, t);
+    // 15.5 V: between UVLO off and on: stays off.
+    s.housekeeping(code(15.5), &vin, &vout, t);
+    assert_eq!(s.state(), State::Off);
+    s.housekeeping(code(16.5), &vin, &vout, t);
+    assert_eq!(s.state(), State::SoftStart);
+    assert_eq!(s.inner().reference_code(), 0, "ramp starts at the present output");
+    // Half-way through the 1 ms ramp the reference is half-way.
+    t = t.after(32_000);
+    s.housekeeping(code(24.0), &vin, &vout, t);
+    let half = s.inner().reference_code();
+    assert!((i32::from(half) - 1984 / 2).abs() <= 2, "reference {half}");
+    t = t.after(40_000);
+    s.housekeeping(code(24.0), &vin, &vout, t);
+    assert_eq!(s.state(), State::Regulating);
+    assert_eq!(s.inner().reference_code(), 1984);
+    // A sag to 15.5 V keeps running (hysteresis); 14.5 V stops and logs.
+    s.housekeeping(code(15.5), &vin, &vout, t);
+    assert_eq!(s.state(), State::Regulating);
+    s.housekeeping(code(14.5), &vin, &vout, t);
+    assert_eq!(s.state(), State::Off);
+    assert_eq!(s.faults().last().unwrap().kind, FaultKind::InputUndervoltage);
+}
+
+#[test]
+fn invalid_protection_is_named() {
+    let (vout, vin) = channels();
+    let clock = TimerClock::new(64_000_000).unwrap();
+    let with = |f: &dyn Fn(&mut ProtectionConfig)| {
+        let mut p = protection();
+        f(&mut p);
+        Limits::new(&p, &vout, &vin, &clock, 1984)
+    };
+    use ripplectl::ConfigError::*;
+    assert_eq!(with(&|p| p.uvlo_off_v = 17.0).unwrap_err(), ThresholdsOutOfOrder);
+    assert_eq!(with(&|p| p.ovp_v = 4.0).unwrap_err(), ThresholdsOutOfOrder);
+    assert_eq!(with(&|p| p.current_limit_a = 0.0).unwrap_err(), CurrentLimitNotPositive);
+    assert_eq!(with(&|p| p.short_cycles = 0).unwrap_err(), CountZero);
+    assert_eq!(with(&|p| p.vin_max_v = 60.0).unwrap_err(), VoltageOutsideAdcRange);
+    assert_eq!(with(&|p| p.soft_start_s = 0.0).unwrap_err(), DurationBelowOneTick);
+}
