@@ -2,8 +2,10 @@
 //! cores come from the QEMU runs under tests/target.)
 
 use criterion::{criterion_group, criterion_main, Criterion};
+use ripplectl::estimate::{CurrentEstimator, InductorModel};
 use ripplectl::law::{ComparatorPassThrough, Hysteretic, HystereticConfig};
-use ripplectl::{AdcChannel, FrequencyGuard, Instant, Law, TimerClock, Window, WindowConfig};
+use ripplectl::supervisor::{Limits, ProtectionConfig, Supervisor};
+use ripplectl::{AdcChannel, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig};
 use std::hint::black_box;
 
 /// A triangle of ADC codes sweeping the hysteretic band, one sample per µs.
@@ -55,5 +57,78 @@ fn bench_passthrough(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, bench_hysteretic, bench_passthrough);
+fn demo_estimator(clock: &TimerClock, adc: &AdcChannel) -> CurrentEstimator {
+    let model = InductorModel {
+        l_h: 47e-6,
+        r_on_ohm: 0.11,
+        dcr_ohm: 0.03,
+        diode_vf_v: 0.45,
+        diode_rd_ohm: 0.03,
+        r_low_ohm: None,
+    };
+    let mut est = CurrentEstimator::new(&model, clock).unwrap();
+    est.set_voltages(24.0, 5.0);
+    est.follow_output(adc);
+    est
+}
+
+fn bench_estimator(c: &mut Criterion) {
+    let clock = TimerClock::new(64_000_000).unwrap();
+    let adc = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0).unwrap();
+    let mut est = demo_estimator(&clock, &adc);
+    let mut t = 0u32;
+    let mut gate = Gate::Off;
+    c.bench_function("current estimator on_gate (per edge)", |b| {
+        b.iter(|| {
+            t = t.wrapping_add(560);
+            gate = if gate.is_on() { Gate::Off } else { Gate::On };
+            black_box(est.on_gate(black_box(gate), Instant(t)))
+        })
+    });
+    c.bench_function("current estimator on_output_code (per sample)", |b| {
+        b.iter(|| {
+            t = t.wrapping_add(64);
+            est.on_output_code(black_box(1984), Instant(t));
+        })
+    });
+}
+
+fn bench_supervisor(c: &mut Criterion) {
+    let clock = TimerClock::new(64_000_000).unwrap();
+    let vout = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0).unwrap();
+    let vin = AdcChannel::new(12, 3.3, 0.0826, 0.0).unwrap();
+    let law = Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).unwrap();
+    let protection = ProtectionConfig {
+        uvlo_on_v: 16.0,
+        uvlo_off_v: 15.0,
+        vin_max_v: 36.0,
+        vin_max_hysteresis_v: 1.0,
+        ovp_v: 5.5,
+        current_limit_a: 4.0,
+        short_cycles: 8,
+        hiccup_s: 2e-3,
+        soft_start_s: 1e-3,
+        stuck_low_v: 0.3,
+        stuck_implied_v: 2.0,
+        stuck_cycles: 3,
+        max_retries: 3,
+    };
+    let limits = Limits::new(&protection, &vout, &vin, &clock, 1984).unwrap();
+    let mut stack = Supervisor::new(demo_guard(law), demo_estimator(&clock, &vout), limits);
+    stack.on_sample(1984, Instant(0));
+    stack.housekeeping(2900, &vin, &vout, Instant(0));
+    stack.housekeeping(2900, &vin, &vout, Instant(70_000));
+    let codes = ripple_codes();
+    let mut t = 70_000u32;
+    let mut i = 0usize;
+    c.bench_function("supervisor + guard + hysteretic on_sample", |b| {
+        b.iter(|| {
+            t = t.wrapping_add(64);
+            i = (i + 1) & 63;
+            black_box(stack.on_sample(black_box(codes[i]), Instant(t)))
+        })
+    });
+}
+
+criterion_group!(benches, bench_hysteretic, bench_passthrough, bench_estimator, bench_supervisor);
 criterion_main!(benches);
