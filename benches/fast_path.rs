@@ -66,7 +66,7 @@ fn demo_estimator(clock: &TimerClock, adc: &AdcChannel) -> CurrentEstimator {
         diode_rd_ohm: 0.03,
         r_low_ohm: None,
     };
-    let mut est = CurrentEstimator::new(&model, clock).unwrap();
+    let mut est = CurrentEstimator::new(&model, clock, 40.0).unwrap();
     est.set_voltages(24.0, 5.0);
     est.follow_output(adc);
     est

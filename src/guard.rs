@@ -286,8 +286,13 @@ impl<L: Law> FrequencyGuard<L> {
     #[inline(always)]
     fn while_off(&mut self, demand: Gate, now: Instant) -> Command {
         let since_rise = now.ticks_since(self.rise);
-        self.off_met |= now.ticks_since(self.fall) >= self.window.min_off;
-        self.period_met |= since_rise >= self.window.min_period;
+        // Latched: test before computing, so a met limit costs one load.
+        if !self.off_met {
+            self.off_met = now.ticks_since(self.fall) >= self.window.min_off;
+        }
+        if !self.period_met {
+            self.period_met = since_rise >= self.window.min_period;
+        }
         if demand.is_on() {
             return self.turn_on_when_allowed(now);
         }

@@ -244,7 +244,7 @@ impl Limits {
             vin_max,
             vin_resume,
             ovp,
-            current_limit: Amps::saturating_from_num(cfg.current_limit_a),
+            current_limit: crate::estimate::current::saturate(cfg.current_limit_a),
             short_cycles: cfg.short_cycles,
             hiccup: clock.to_ticks(cfg.hiccup_s)?.raw,
             soft_start: clock.to_ticks_nonzero(cfg.soft_start_s)?.raw,
@@ -383,8 +383,9 @@ impl<L: Law + Regulate> Supervisor<L> {
     fn note_reading(&mut self, out: u16) {
         self.last_out = out;
         self.has_reading = true;
-        self.out_sum = self.out_sum.saturating_add(u32::from(out));
-        self.out_count = self.out_count.saturating_add(1);
+        // Wrapping: the slow path takes them long before 65 536 readings.
+        self.out_sum = self.out_sum.wrapping_add(u32::from(out));
+        self.out_count = self.out_count.wrapping_add(1);
     }
 
     fn is_switching(&self) -> bool {
@@ -448,6 +449,13 @@ impl<L: Law + Regulate> Supervisor<L> {
     /// Apply the current limit and follow the gate.
     #[inline(always)]
     fn finish(&mut self, cmd: Command, now: Instant) -> Command {
+        let current = self.estimator.current_at(now);
+        self.finish_with(cmd, now, current)
+    }
+
+    /// [`finish`](Self::finish) with the estimated current at `now` known.
+    #[inline(always)]
+    fn finish_with(&mut self, cmd: Command, now: Instant, current_now: Amps) -> Command {
         if cmd.gate != self.gate {
             self.gate = cmd.gate;
             if let Some(done) = self.estimator.on_gate(cmd.gate, now) {
@@ -459,7 +467,7 @@ impl<L: Law + Regulate> Supervisor<L> {
         if !self.gate.is_on() {
             return cmd;
         }
-        if self.estimator.current_at(now) >= self.limits.current_limit {
+        if current_now >= self.limits.current_limit {
             return self.limit_current(now);
         }
         // Wake at the predicted crossing of the limit.
@@ -583,7 +591,7 @@ impl<L: Law + Regulate> Supervisor<L> {
             return;
         }
         let span = u64::from(self.target - self.ramp_from);
-        let step = span * u64::from(elapsed) / u64::from(self.limits.soft_start);
+        let step = span * u64::from(elapsed) / u64::from(self.limits.soft_start.max(1));
         self.inner.set_reference(self.ramp_from + step as u16);
     }
 }
@@ -600,7 +608,9 @@ impl<L: Law + Regulate> Law for Supervisor<L> {
             return stop;
         }
         let cmd = self.inner.on_sample(code, now);
-        self.finish(cmd, now)
+        // The reading closed the estimator's segment at `now`: its stored
+        // current is the current now.
+        self.finish_with(cmd, now, self.estimator.current())
     }
 
     #[inline]

@@ -49,7 +49,7 @@ fn stack() -> Stack {
         diode_rd_ohm: 0.03,
         r_low_ohm: None,
     };
-    let est = CurrentEstimator::new(&model, &clock).unwrap();
+    let est = CurrentEstimator::new(&model, &clock, 40.0).unwrap();
     let limits = Limits::new(&protection(), &vout, &vin, &clock, 1984).unwrap();
     Supervisor::new(guard, est, limits)
 }

@@ -9,10 +9,15 @@
 //!       di/dt = (−V_out − i·(R_low + DCR)) / L            (synchronous)
 //! ```
 //!
-//! and a diode stage clamps at zero (DCM). The estimator integrates these
-//! per segment with one predictor-corrector (Heun) step, so the resistive
-//! drop is taken at the segment's mean current; on the fast path that is a
-//! few multiply-accumulates per edge or query.
+//! and a diode stage clamps at zero (DCM). On the fast path each segment
+//! between edges is one multiply: slope × ticks. The slope's output share
+//! follows every output reading ([`CurrentEstimator::on_output_code`], one
+//! multiply); the input's share and the resistive drop `i·R` (taken at the
+//! window's mean current, so neither phase is biased by its starting current)
+//! come from the slow path ([`CurrentEstimator::set_voltages`],
+//! [`CurrentEstimator::take_window`]). Charge and RMS sums per phase are
+//! formed on the slow path from the cycles' peak, valley and tick sums:
+//! trapezoids in CCM, triangles in DCM.
 //!
 //! **What it needs to know** ([`InductorModel`]): `L` sets the ripple's
 //! amplitude (a 10 % error in `L` is a 10 % error in the ripple, and in the
@@ -26,22 +31,27 @@
 //! current.
 //!
 //! Formats (all `fixed` types or their raw bits):
-//! - current [`Amps`]: `I16F16`, amperes, range ±32 768 A, LSB 2⁻¹⁶ A
-//!   (15.3 µA); arithmetic saturates at the range's edge;
-//! - slopes: `I8F24` amperes per timer tick, range ±128 A/tick, LSB
-//!   2⁻²⁴ A/tick;
-//! - decays `R·t_tick/L`: `U0F32` per tick, range [0, 1);
-//! - charge `∫ i dt`: `i64` in 2⁻¹⁶ A·ticks; `∫ i² dt`: `i64` in
-//!   2⁻¹⁶ A²·ticks (current squared at 2⁻⁸ A resolution).
+//! - current [`Amps`]: `I16F16`, amperes, LSB 2⁻¹⁶ A (15.3 µA), held within
+//!   ±2 048 A (beyond, it saturates);
+//! - slopes: `I8F24` amperes per timer tick, LSB 2⁻²⁴ A/tick, within the
+//!   largest slope the input channel's full scale allows;
+//! - a segment is integrated over at most [`CurrentEstimator::max_segment_ticks`]
+//!   ticks, so that slope × ticks fits 32 bits: the time to ramp 128 A at the
+//!   steepest slope (150 µs for 47 µH and a 40 V input), far longer than any
+//!   CCM segment, whose current changes by a ripple; an idle DCM gap beyond
+//!   it changes nothing at zero current.
 
 use crate::error::{finite, ConfigError};
 use crate::law::Gate;
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
-use fixed::types::{I16F16, I8F24, U0F32};
+use fixed::types::{I16F16, I8F24};
 
 /// Current, amperes: `I16F16` (see the module's formats).
 pub type Amps = I16F16;
+
+/// Largest current magnitude held, in `Amps` bits: 2 048 A.
+const CURRENT_LIMIT_BITS: i32 = 2_048 << 16;
 
 /// What the estimator assumes about the power stage, SI units.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -64,6 +74,27 @@ pub struct InductorModel {
     pub r_low_ohm: Option<f32>,
 }
 
+impl InductorModel {
+    /// Resistance in the current's path while on, Ω.
+    pub fn on_resistance(&self) -> f32 {
+        self.r_on_ohm + self.dcr_ohm
+    }
+
+    /// Resistance in the current's path while off, Ω.
+    pub fn off_resistance(&self) -> f32 {
+        self.r_low_ohm.unwrap_or(self.diode_rd_ohm) + self.dcr_ohm
+    }
+
+    /// Freewheeling drop while off, V (0 for a synchronous stage).
+    pub fn freewheel_v(&self) -> f32 {
+        if self.r_low_ohm.is_some() {
+            0.0
+        } else {
+            self.diode_vf_v
+        }
+    }
+}
+
 /// One switching cycle's currents, from a turn-on to the next.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -74,117 +105,94 @@ pub struct CycleCurrents {
     pub valley: Amps,
     /// Ticks the gate was on.
     pub on_ticks: u32,
-    /// Ticks off while conducting (diode or low side), excluding DCM idle.
-    pub off_ticks: u32,
     /// Ticks from turn-on to the next turn-on.
     pub period_ticks: u32,
-    /// `∫ i dt` over the cycle, 2⁻¹⁶ A·ticks.
-    pub charge: i64,
     /// The current reached zero during the off-time.
     pub dcm: bool,
 }
 
-impl CycleCurrents {
-    /// Average current over the cycle (slow path: divides). Zero for an
-    /// empty cycle.
-    pub fn average(&self) -> Amps {
-        if self.period_ticks == 0 {
-            return Amps::ZERO;
-        }
-        let bits = self.charge / i64::from(self.period_ticks);
-        Amps::from_bits(bits.clamp(i64::from(i32::MIN), i64::from(i32::MAX)) as i32)
-    }
-}
-
-/// Sums over one conduction phase (on, or off while conducting).
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct PhaseTotals {
-    /// Ticks in the phase.
-    pub ticks: u64,
-    /// `∫ i dt`, 2⁻¹⁶ A·ticks.
-    pub charge: i64,
-    /// `∫ i² dt`, 2⁻¹⁶ A²·ticks.
-    pub charge_sq: i64,
-}
-
-impl PhaseTotals {
-    fn add(&mut self, ticks: u32, charge: i64, charge_sq: i64) {
-        self.ticks = self.ticks.wrapping_add(u64::from(ticks));
-        self.charge = self.charge.wrapping_add(charge);
-        self.charge_sq = self.charge_sq.wrapping_add(charge_sq);
-    }
-
-    /// `∫ i dt` in A·s (slow path).
-    pub fn charge_as(&self, tick_s: f32) -> f32 {
-        self.charge as f32 / 65_536.0 * tick_s
-    }
-
-    /// `∫ i² dt` in A²·s (slow path).
-    pub fn charge_sq_a2s(&self, tick_s: f32) -> f32 {
-        self.charge_sq as f32 / 65_536.0 * tick_s
-    }
-}
-
-/// Sums since the slow path last took them.
+/// Sums over the cycles completed since the slow path last took them
+/// (fast path: additions only).
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct WindowTotals {
-    /// While the gate was on.
-    pub on: PhaseTotals,
-    /// While off and conducting (diode or low side).
-    pub off: PhaseTotals,
-    /// Ticks off with zero current (DCM idle).
-    pub idle_ticks: u64,
     /// Completed cycles.
     pub cycles: u32,
     /// Cycles that ended in DCM.
     pub dcm_cycles: u32,
+    /// Sum of on-ticks.
+    pub on_ticks: u64,
+    /// Sum of periods, ticks.
+    pub period_ticks: u64,
     /// Sum of cycle peaks, 2⁻¹⁶ A.
     pub peak_sum: i64,
     /// Sum of cycle valleys, 2⁻¹⁶ A.
     pub valley_sum: i64,
-    /// Largest cycle peak.
-    pub peak_max: Amps,
-    /// Completed cycles' on-ticks (whole cycles only, unlike `on.ticks`).
-    pub cycle_on_ticks: u64,
-    /// Completed cycles' conducting off-ticks.
-    pub cycle_off_ticks: u64,
-    /// Completed cycles' ticks.
-    pub cycle_ticks: u64,
 }
 
-impl WindowTotals {
-    /// All ticks in the window.
-    pub fn ticks(&self) -> u64 {
-        self.on.ticks + self.off.ticks + self.idle_ticks
-    }
+/// A window's currents by phase (slow path, SI units), from the cycle sums:
+/// the mean cycle's trapezoid (CCM) or triangle (DCM).
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Phases {
+    /// Completed cycles.
+    pub cycles: u32,
+    /// Cycles that ended in DCM.
+    pub dcm_cycles: u32,
+    /// Time covered by the cycles, s.
+    pub time_s: f32,
+    /// Mean peak and valley, A.
+    pub peak_a: f32,
+    /// Mean valley, A.
+    pub valley_a: f32,
+    /// Time on, s.
+    pub on_s: f32,
+    /// Time off and conducting, s.
+    pub off_s: f32,
+    /// `∫ i dt` on, A·s.
+    pub charge_on: f32,
+    /// `∫ i dt` off, A·s.
+    pub charge_off: f32,
+    /// `∫ i² dt` on, A²·s.
+    pub charge_sq_on: f32,
+    /// `∫ i² dt` off, A²·s.
+    pub charge_sq_off: f32,
+}
 
-    /// Average current over the window, A (slow path).
+impl Phases {
+    /// Mean current, A.
     pub fn average_a(&self) -> f32 {
-        let t = self.ticks();
-        if t == 0 {
-            return 0.0;
-        }
-        (self.on.charge + self.off.charge) as f32 / 65_536.0 / t as f32
-    }
-
-    /// Duty cycle over the window's completed cycles (slow path); 0
-    /// without one.
-    pub fn duty(&self) -> f32 {
-        self.fraction(self.cycle_on_ticks)
-    }
-
-    /// Conducting off-time fraction over the completed cycles.
-    pub fn off_fraction(&self) -> f32 {
-        self.fraction(self.cycle_off_ticks)
-    }
-
-    fn fraction(&self, ticks: u64) -> f32 {
-        if self.cycle_ticks == 0 {
-            0.0
+        if self.time_s > 0.0 {
+            (self.charge_on + self.charge_off) / self.time_s
         } else {
-            ticks as f32 / self.cycle_ticks as f32
+            0.0
+        }
+    }
+
+    /// Duty cycle.
+    pub fn duty(&self) -> f32 {
+        self.fraction(self.on_s)
+    }
+
+    /// Conducting off-time fraction.
+    pub fn off_fraction(&self) -> f32 {
+        self.fraction(self.off_s)
+    }
+
+    /// Switching frequency, Hz.
+    pub fn f_sw_hz(&self) -> f32 {
+        if self.time_s > 0.0 {
+            self.cycles as f32 / self.time_s
+        } else {
+            0.0
+        }
+    }
+
+    fn fraction(&self, t: f32) -> f32 {
+        if self.time_s > 0.0 {
+            t / self.time_s
+        } else {
+            0.0
         }
     }
 }
@@ -195,61 +203,66 @@ pub struct CurrentEstimator {
     tick_s: f32,
     model: InductorModel,
     inv_l_tick: f32,
-    // Segment constants. The output's share of the slopes follows every
-    // output reading (fast path); the input's share, the slow path.
+    max_segment: u32,
+    slope_cap: i32,
+    // Slope parts, I8F24 bits of A/tick.
     vin_term: i32,
     vout_term: i32,
-    vf_term: i32,
+    freewheel_term: i32,
+    drop_on: i32,
+    drop_off: i32,
+    // The output reading's share: (code × out_code_term) >> out_shift.
     out_code_term: u32,
+    out_shift: u32,
     slope_on: i32,
     slope_off: i32,
-    decay_on: u32,
-    decay_off: u32,
     ticks_per_amp_on: u32,
-    ticks_per_amp_off: u32,
     // State.
     gate: Gate,
     since: Instant,
     current: i32,
     cycle: CycleCurrents,
-    last_cycle: Option<CycleCurrents>,
     totals: WindowTotals,
 }
 
-/// `x` in `U0F32` bits, saturating to [0, 1).
-fn u0f32_bits(x: f32) -> u32 {
-    U0F32::saturating_from_num(x).to_bits()
+/// `x` as the fixed-point type `F`, saturating at its range's edges; NaN
+/// gives zero. (The `fixed` crate's own saturating conversion panics on NaN;
+/// nothing here may panic on any input.)
+pub(crate) fn saturate<F: fixed::traits::Fixed>(x: f32) -> F {
+    match F::checked_from_num(x) {
+        Some(v) => v,
+        None if x > 0.0 => F::MAX,
+        None if x < 0.0 => F::MIN,
+        None => F::from_bits(F::Bits::default()),
+    }
 }
 
-/// `x` in `I8F24` bits, saturating.
-fn i8f24_bits(x: f32) -> i32 {
-    I8F24::saturating_from_num(x).to_bits()
+/// `v` within ±`cap` (`cap` ≥ 0). Unlike `Ord::clamp`, no assertion.
+#[inline(always)]
+fn within(v: i32, cap: i32) -> i32 {
+    v.max(-cap).min(cap)
 }
 
-/// Ticks per ampere for a slope magnitude in A/tick, as `U16F16`-style
-/// bits (2⁻¹⁶ ticks per A), saturating; 0 for a zero slope.
-fn ticks_per_amp_bits(slope_a_per_tick: f32) -> u32 {
-    let s = slope_a_per_tick.abs();
-    if s <= 0.0 {
-        return 0;
-    }
-    let v = 65_536.0 / s;
-    if v >= u32::MAX as f32 {
-        u32::MAX
-    } else {
-        v as u32
-    }
+/// `x` A/tick in `I8F24` bits, within ±`cap`.
+fn slope_bits(x: f32, cap: i32) -> i32 {
+    within(saturate::<I8F24>(x).to_bits(), cap)
 }
 
 impl CurrentEstimator {
-    /// An estimator for `model` on a timer `clock`, at rest (zero current,
-    /// gate off). Call [`set_voltages`](Self::set_voltages) before relying
-    /// on it.
+    /// An estimator for `model` on a timer `clock`, for input voltages up to
+    /// `vin_max_v` (the input channel's full scale: it bounds the slopes),
+    /// at rest (zero current, gate off). Call [`set_voltages`](Self::set_voltages)
+    /// and [`restart_at`](Self::restart_at) before relying on it.
     ///
     /// Errors: [`ConfigError::NotFinite`]; [`ConfigError::InductanceNotPositive`]
     /// when `l_h ≤ 0`; [`ConfigError::ResistanceNegative`] for a negative
-    /// resistance or forward voltage.
-    pub fn new(model: &InductorModel, clock: &TimerClock) -> Result<Self, ConfigError> {
+    /// resistance or forward voltage; [`ConfigError::VoltageOutsideAdcRange`]
+    /// for a non-positive `vin_max_v`.
+    pub fn new(
+        model: &InductorModel,
+        clock: &TimerClock,
+        vin_max_v: f32,
+    ) -> Result<Self, ConfigError> {
         if finite(model.l_h)? <= 0.0 {
             return Err(ConfigError::InductanceNotPositive);
         }
@@ -264,34 +277,50 @@ impl CurrentEstimator {
                 return Err(ConfigError::ResistanceNegative);
             }
         }
+        if finite(vin_max_v)? <= 0.0 {
+            return Err(ConfigError::VoltageOutsideAdcRange);
+        }
         let tick_s = clock.tick_s() as f32;
         let inv_l_tick = tick_s / model.l_h;
-        let off_r = model.r_low_ohm.unwrap_or(model.diode_rd_ohm) + model.dcr_ohm;
+        // No slope can exceed the full input plus the freewheel drop.
+        let cap = slope_bits((vin_max_v + model.diode_vf_v) * inv_l_tick, i32::MAX).max(1);
         Ok(Self {
             tick_s,
             model: *model,
             inv_l_tick,
+            max_segment: (i32::MAX / cap) as u32,
+            slope_cap: cap,
             vin_term: 0,
             vout_term: 0,
-            vf_term: i8f24_bits(if model.r_low_ohm.is_some() {
-                0.0
-            } else {
-                model.diode_vf_v * inv_l_tick
-            }),
+            freewheel_term: slope_bits(model.freewheel_v() * inv_l_tick, cap),
+            drop_on: 0,
+            drop_off: 0,
             out_code_term: 0,
+            out_shift: 0,
             slope_on: 0,
             slope_off: 0,
-            decay_on: u0f32_bits((model.r_on_ohm + model.dcr_ohm) * inv_l_tick),
-            decay_off: u0f32_bits(off_r * inv_l_tick),
             ticks_per_amp_on: 0,
-            ticks_per_amp_off: 0,
             gate: Gate::Off,
             since: Instant(0),
             current: 0,
             cycle: CycleCurrents::default(),
-            last_cycle: None,
             totals: WindowTotals::default(),
         })
+    }
+
+    /// The model in use.
+    pub const fn model(&self) -> &InductorModel {
+        &self.model
+    }
+
+    /// Longest segment integrated, ticks.
+    pub const fn max_segment_ticks(&self) -> u32 {
+        self.max_segment
+    }
+
+    /// One tick in seconds.
+    pub const fn tick_s(&self) -> f32 {
+        self.tick_s
     }
 
     /// Start timing from `now` (the first segment would otherwise run from
@@ -303,17 +332,13 @@ impl CurrentEstimator {
             CycleCurrents { valley: Amps::from_bits(self.current), ..CycleCurrents::default() };
     }
 
-    /// The model in use.
-    pub const fn model(&self) -> &InductorModel {
-        &self.model
-    }
-
     /// Slow path: the input and output voltages the slopes use, volts.
     pub fn set_voltages(&mut self, vin_v: f32, vout_v: f32) {
-        self.vin_term = i8f24_bits(vin_v * self.inv_l_tick);
-        self.vout_term = i8f24_bits(vout_v * self.inv_l_tick);
+        let cap = self.slope_cap;
+        self.vin_term = slope_bits(vin_v * self.inv_l_tick, cap);
+        self.vout_term = slope_bits(vout_v * self.inv_l_tick, cap);
         self.refresh_slopes();
-        self.refresh_reciprocals();
+        self.refresh_reciprocal();
     }
 
     /// Slow path: the same from raw ADC codes of the input and output
@@ -332,49 +357,57 @@ impl CurrentEstimator {
     /// the output through `adc`'s codes (offset ignored: its share is below
     /// one code's worth of slope).
     pub fn follow_output(&mut self, adc: &AdcChannel) {
-        // A/tick per code in 2⁻³² units: one code's volts × t_tick/L.
-        let per_code = adc.lsb_signal_v() * f64::from(self.inv_l_tick) * 4_294_967_296.0;
-        self.out_code_term =
-            if per_code >= f64::from(u32::MAX) { u32::MAX } else { per_code as u32 };
+        let per_code = adc.lsb_signal_v() as f32 * self.inv_l_tick * (1u32 << 24) as f32;
+        // As many extra fraction bits as keep full scale × term below 2³¹.
+        let full = f32::from(adc.full_scale_code()).max(1.0);
+        let mut shift = 24u32;
+        while shift > 0 && per_code * (1u64 << shift) as f32 * full >= i32::MAX as f32 {
+            shift -= 1;
+        }
+        let term = per_code * (1u64 << shift) as f32;
+        self.out_code_term = if term >= i32::MAX as f32 / full {
+            (i32::MAX as f32 / full) as u32
+        } else {
+            term as u32
+        };
+        self.out_shift = shift;
     }
 
-    /// Fast path: a fresh output reading; the slopes follow it from `now`.
-    /// Does nothing until [`follow_output`](Self::follow_output) was called.
+    /// Fast path: a fresh output reading taken at `now`; the slopes follow
+    /// it from then on (the inductor sees the instantaneous output, ESR
+    /// ripple included). Does nothing until
+    /// [`follow_output`](Self::follow_output) was called.
     #[inline]
     pub fn on_output_code(&mut self, code: u16, now: Instant) {
         if self.out_code_term == 0 {
             return;
         }
         self.close_segment(now);
-        // Q8.24 = (code × 2⁻³² A/tick) >> 8.
-        self.vout_term = ((u64::from(code) * u64::from(self.out_code_term)) >> 8) as i32;
+        let term = (u32::from(code).wrapping_mul(self.out_code_term) >> self.out_shift) as i32;
+        self.vout_term = term.min(self.slope_cap);
         self.refresh_slopes();
     }
 
     #[inline(always)]
     fn refresh_slopes(&mut self) {
-        self.slope_on = self.vin_term.saturating_sub(self.vout_term);
-        self.slope_off = self.vout_term.saturating_add(self.vf_term).saturating_neg();
-    }
-
-    fn refresh_reciprocals(&mut self) {
-        let per_tick = |bits: i32| I8F24::from_bits(bits).to_num::<f32>();
-        self.ticks_per_amp_on = ticks_per_amp_bits(per_tick(self.slope_on));
-        self.ticks_per_amp_off = ticks_per_amp_bits(per_tick(self.slope_off));
+        // All parts lie within ±cap: the sums cannot overflow.
+        self.slope_on = within(self.vin_term - self.vout_term - self.drop_on, self.slope_cap);
+        self.slope_off =
+            within(-(self.vout_term + self.freewheel_term) - self.drop_off, self.slope_cap);
     }
 
     /// Fast path: the current at `now` (the state advanced without being
     /// stored).
     #[inline]
     pub fn current_at(&self, now: Instant) -> Amps {
-        let (i, _, _, _) = self.segment_end(now.ticks_since(self.since));
-        Amps::from_bits(i)
+        Amps::from_bits(self.segment_end(now.ticks_since(self.since)).0)
     }
 
-    /// Fast path: ticks from the last edge until the current would reach
-    /// `limit` while the gate is on (from the slope without its
-    /// resistive term, so never later than the model's own crossing);
-    /// `None` when off or not rising.
+    /// Ticks from the last edge until the current would reach `limit` while
+    /// the gate is on, at the on-slope of the last slow-path update (the
+    /// fast path's per-reading check covers a slope that grew since);
+    /// `None` when off or not rising. One 64-bit multiply: call it at a
+    /// turn-on, not per sample.
     #[inline]
     pub fn ticks_to_reach(&self, limit: Amps) -> Option<u32> {
         if !self.gate.is_on() || self.ticks_per_amp_on == 0 {
@@ -384,8 +417,9 @@ impl CurrentEstimator {
         if gap <= 0 {
             return Some(0);
         }
+        // gap: 2⁻¹⁶ A, ticks_per_amp: 2⁻¹⁶ ticks per A.
         let ticks = (gap * i64::from(self.ticks_per_amp_on)) >> 32;
-        Some(ticks.min(i64::from(u32::MAX >> 1)) as u32)
+        Some(ticks.min(i64::from(self.max_segment)) as u32)
     }
 
     /// Fast path: the gate switched to `gate` at `at`. Returns the cycle
@@ -411,20 +445,21 @@ impl CurrentEstimator {
                 if done.period_ticks == 0 {
                     return None;
                 }
-                self.totals.cycles = self.totals.cycles.wrapping_add(1);
-                self.totals.dcm_cycles = self.totals.dcm_cycles.wrapping_add(u32::from(done.dcm));
-                self.totals.peak_sum =
-                    self.totals.peak_sum.wrapping_add(i64::from(done.peak.to_bits()));
-                self.totals.valley_sum =
-                    self.totals.valley_sum.wrapping_add(i64::from(done.valley.to_bits()));
-                self.totals.peak_max = self.totals.peak_max.max(done.peak);
-                self.totals.cycle_on_ticks += u64::from(done.on_ticks);
-                self.totals.cycle_off_ticks += u64::from(done.off_ticks);
-                self.totals.cycle_ticks += u64::from(done.period_ticks);
-                self.last_cycle = Some(done);
+                self.count_cycle(&done);
                 Some(done)
             }
         }
+    }
+
+    #[inline(always)]
+    fn count_cycle(&mut self, c: &CycleCurrents) {
+        let t = &mut self.totals;
+        t.cycles = t.cycles.wrapping_add(1);
+        t.dcm_cycles = t.dcm_cycles.wrapping_add(u32::from(c.dcm));
+        t.on_ticks = t.on_ticks.wrapping_add(u64::from(c.on_ticks));
+        t.period_ticks = t.period_ticks.wrapping_add(u64::from(c.period_ticks));
+        t.peak_sum = t.peak_sum.wrapping_add(i64::from(c.peak.to_bits()));
+        t.valley_sum = t.valley_sum.wrapping_add(i64::from(c.valley.to_bits()));
     }
 
     /// Fast path: bring the stored state up to `now` (for instance before a
@@ -439,11 +474,6 @@ impl CurrentEstimator {
         self.since
     }
 
-    /// The last completed cycle.
-    pub const fn last_cycle(&self) -> Option<CycleCurrents> {
-        self.last_cycle
-    }
-
     /// The current at the last update or edge.
     pub fn current(&self) -> Amps {
         Amps::from_bits(self.current)
@@ -454,76 +484,111 @@ impl CurrentEstimator {
         self.gate
     }
 
-    /// Slow path: take and reset the sums since the last call.
-    pub fn take_totals(&mut self) -> WindowTotals {
-        core::mem::take(&mut self.totals)
-    }
-
     /// Slow path: move the estimate by `delta` (the observer's
     /// correction); a diode stage stays at or above zero.
     pub fn shift(&mut self, delta: Amps) {
-        let shifted = self.current.saturating_add(delta.to_bits());
+        let shifted = within(self.current.saturating_add(delta.to_bits()), CURRENT_LIMIT_BITS);
         self.current = if self.model.r_low_ohm.is_none() { shifted.max(0) } else { shifted };
     }
 
-    /// One tick in seconds.
-    pub const fn tick_s(&self) -> f32 {
-        self.tick_s
+    /// Slow path: take and reset the cycle sums, turn them into phase
+    /// currents, and take the resistive drop at the window's mean current
+    /// from now on.
+    pub fn take_window(&mut self) -> Phases {
+        let totals = core::mem::take(&mut self.totals);
+        let phases = self.phases(&totals);
+        if phases.cycles > 0 {
+            self.set_drops(phases.average_a());
+        }
+        phases
     }
 
-    /// The current after `ticks` more of the present segment, with the
-    /// segment's charge, squared charge and conducting ticks, without storing
-    /// anything.
+    /// Slow path: the resistive drops at mean current `i_a`.
+    fn set_drops(&mut self, i_a: f32) {
+        let cap = self.slope_cap;
+        self.drop_on = slope_bits(i_a * self.model.on_resistance() * self.inv_l_tick, cap);
+        self.drop_off = slope_bits(i_a * self.model.off_resistance() * self.inv_l_tick, cap);
+        self.refresh_slopes();
+        self.refresh_reciprocal();
+    }
+
+    /// Slow path: ticks per ampere of the on-slope, for [`ticks_to_reach`](Self::ticks_to_reach).
+    fn refresh_reciprocal(&mut self) {
+        let on = I8F24::from_bits(self.slope_on).to_num::<f32>();
+        self.ticks_per_amp_on = if on > 0.0 {
+            let v = 65_536.0 / on;
+            if v >= u32::MAX as f32 {
+                u32::MAX
+            } else {
+                v as u32
+            }
+        } else {
+            0
+        };
+    }
+
+    /// Phase currents of `totals` (slow path).
+    pub fn phases(&self, totals: &WindowTotals) -> Phases {
+        let n = totals.cycles as f32;
+        if totals.cycles == 0 {
+            return Phases::default();
+        }
+        let amps = |bits: i64| bits as f32 / 65_536.0 / n;
+        let (peak, valley) = (amps(totals.peak_sum), amps(totals.valley_sum));
+        let time_s = totals.period_ticks as f32 * self.tick_s;
+        let on_s = totals.on_ticks as f32 * self.tick_s;
+        let rest_s = time_s - on_s;
+        // Off: CCM falls from peak to valley over the whole rest; DCM falls
+        // from peak to zero at the off-slope, then idles.
+        let fall = -I8F24::from_bits(self.slope_off).to_num::<f32>() / self.tick_s;
+        let dcm = totals.dcm_cycles * 2 > totals.cycles;
+        let (off_s, off_end) =
+            if dcm && fall > 0.0 { ((peak / fall * n).min(rest_s), 0.0) } else { (rest_s, valley) };
+        let trapezoid =
+            |t: f32, a: f32, b: f32| (t * 0.5 * (a + b), t * (a * a + a * b + b * b) / 3.0);
+        let (charge_on, charge_sq_on) = trapezoid(on_s, valley, peak);
+        let (charge_off, charge_sq_off) = trapezoid(off_s, peak, off_end);
+        Phases {
+            cycles: totals.cycles,
+            dcm_cycles: totals.dcm_cycles,
+            time_s,
+            peak_a: peak,
+            valley_a: valley,
+            on_s,
+            off_s,
+            charge_on,
+            charge_off,
+            charge_sq_on,
+            charge_sq_off,
+        }
+    }
+
+    /// The current after `ticks` more of the present segment, and whether
+    /// it clamped at zero, without storing anything.
     #[inline(always)]
-    fn segment_end(&self, ticks: u32) -> (i32, i64, i64, u32) {
-        let (slope, decay) = if self.gate.is_on() {
-            (self.slope_on, self.decay_on)
-        } else {
-            (self.slope_off, self.decay_off)
-        };
-        let i0 = i64::from(self.current);
-        let n = i64::from(ticks);
-        // rate [Q8.24 A/tick] = slope − i·decay, i in Q16.16, decay Q0.32.
-        // Heun's step: the drop at the segment's mean current, so neither
-        // phase's resistive drop is biased by its starting current.
-        let rate = |i: i64| i64::from(slope) - ((i * i64::from(decay)) >> 24);
-        let predicted = i0 + ((rate(i0) * n) >> 8);
-        let i1 = i0 + ((rate((i0 + predicted) >> 1) * n) >> 8);
+    fn segment_end(&self, ticks: u32) -> (i32, bool) {
+        let slope = if self.gate.is_on() { self.slope_on } else { self.slope_off };
+        let n = ticks.min(self.max_segment) as i32;
+        // |slope| ≤ cap and n ≤ i32::MAX / cap: the product fits.
+        let delta = (slope * n) >> 8;
+        let i1 = within(self.current.saturating_add(delta), CURRENT_LIMIT_BITS);
         let clamps = !self.gate.is_on() && self.model.r_low_ohm.is_none() && i1 < 0;
-        let (i1, conducting) = if clamps {
-            // DCM: conducts only until zero, after i0·ticks_per_amp ticks.
-            let t0 = (i0.max(0) * i64::from(self.ticks_per_amp_off)) >> 32;
-            (0, t0.min(i64::from(ticks)) as u32)
+        if clamps {
+            (0, true)
         } else {
-            (i1, ticks)
-        };
-        let i1 = i1.clamp(i64::from(i32::MIN), i64::from(i32::MAX));
-        let n = i64::from(conducting);
-        let charge = ((i0 + i1) * n) >> 1;
-        // ∫i² = n·(i0² + i0·i1 + i1²)/3 at 2⁻⁸ A resolution (squares in
-        // 2⁻¹⁶ A²); 21 846/65 536 ≈ 1/3.
-        let (a, b) = (i0 >> 8, i1 >> 8);
-        let charge_sq = ((a * a + a * b + b * b) * n * 21_846) >> 16;
-        (i1 as i32, charge, charge_sq, conducting)
+            (i1, false)
+        }
     }
 
     #[inline(always)]
     fn close_segment(&mut self, now: Instant) {
         let ticks = now.ticks_since(self.since);
-        let (i1, charge, charge_sq, conducting) = self.segment_end(ticks);
-        let on = self.gate.is_on();
-        self.cycle.dcm |= conducting < ticks;
-        if on {
+        let (i1, clamped) = self.segment_end(ticks);
+        if self.gate.is_on() {
             self.cycle.on_ticks = self.cycle.on_ticks.wrapping_add(ticks);
-            self.totals.on.add(ticks, charge, charge_sq);
-        } else {
-            self.cycle.off_ticks = self.cycle.off_ticks.wrapping_add(conducting);
-            self.totals.off.add(conducting, charge, charge_sq);
-            self.totals.idle_ticks =
-                self.totals.idle_ticks.wrapping_add(u64::from(ticks - conducting));
         }
+        self.cycle.dcm |= clamped;
         self.cycle.period_ticks = self.cycle.period_ticks.wrapping_add(ticks);
-        self.cycle.charge = self.cycle.charge.wrapping_add(charge);
         self.current = i1;
         self.since = now;
     }

@@ -6,7 +6,7 @@
 //!   channels, `η = V_out·I_out / (V_in·I_in)`, each filtered by a first-order
 //!   low-pass.
 //! - [`LossModel`]: from the current estimate's window sums
-//!   ([`WindowTotals`]) and the measured voltages, a loss breakdown:
+//!   ([`Phases`]) and the measured voltages, a loss breakdown:
 //!   conduction in the switch (`I²_rms,on·R_on`), the inductor (`I²_rms·DCR`)
 //!   and the diode (`V_f·I_avg,off + I²_rms,off·R_d`: for a triangular CCM
 //!   current this is the familiar `V_f·I·(1 − D)`), switching
@@ -17,7 +17,7 @@
 //!   `P_v = k·f^α·B̂^β` with `B̂ = L·Δi/(2·N·A_e)` (C. P. Steinmetz, "On the
 //!   law of hysteresis", 1892).
 
-use super::current::WindowTotals;
+use super::current::Phases;
 
 /// Steinmetz coefficients and core geometry.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -124,34 +124,23 @@ impl LossBreakdown {
 }
 
 impl LossModel {
-    /// The breakdown for one window of the current estimate at measured
-    /// `vin_v` and `vout_v`, with the timer's tick in seconds.
-    pub fn evaluate(
-        &self,
-        w: &WindowTotals,
-        vin_v: f32,
-        vout_v: f32,
-        tick_s: f32,
-    ) -> LossBreakdown {
-        let t = w.ticks() as f32 * tick_s;
+    /// The breakdown for one window of the current estimate's phases at
+    /// measured `vin_v` and `vout_v`.
+    pub fn evaluate(&self, w: &Phases, vin_v: f32, vout_v: f32) -> LossBreakdown {
+        let t = w.time_s;
         if t <= 0.0 || w.cycles == 0 {
             return LossBreakdown::default();
         }
-        let q_on = w.on.charge_as(tick_s);
-        let q_off = w.off.charge_as(tick_s);
-        let q2_on = w.on.charge_sq_a2s(tick_s);
-        let q2_off = w.off.charge_sq_a2s(tick_s);
-        let i_avg = (q_on + q_off) / t;
-        let i2_avg = (q2_on + q2_off) / t;
-        let f_sw = w.cycles as f32 / t;
-        let n = w.cycles as f32;
-        let (peak, valley) = (w.peak_sum as f32 / 65_536.0 / n, w.valley_sum as f32 / 65_536.0 / n);
+        let i_avg = w.average_a();
+        let i2_avg = (w.charge_sq_on + w.charge_sq_off) / t;
+        let f_sw = w.f_sw_hz();
+        let (peak, valley) = (w.peak_a, w.valley_a);
         let ripple = (peak - valley).max(0.0);
         let ac_sq = (i2_avg - i_avg * i_avg).max(0.0);
         LossBreakdown {
             output_w: vout_v * i_avg,
-            switch_w: q2_on / t * self.r_on_ohm,
-            diode_w: (self.diode_vf_v * q_off + self.off_r_ohm * q2_off) / t,
+            switch_w: w.charge_sq_on / t * self.r_on_ohm,
+            diode_w: (self.diode_vf_v * w.charge_off + self.off_r_ohm * w.charge_sq_off) / t,
             dcr_w: i2_avg * self.dcr_ohm,
             esr_w: ac_sq * self.esr_ohm,
             switching_w: 0.5

@@ -2,7 +2,7 @@
 //!
 //! | module | what |
 //! |---|---|
-//! | [`current`] | piecewise-linear inductor current from the switching edges (fast path) |
+//! | [`current`] | piecewise-linear inductor current from the switching edges (fast path), phase sums (slow path) |
 //! | [`observer`] | averaged-model Luenberger observer that holds the current's DC level (slow path) |
 //! | [`efficiency`] | efficiency: measured, or from a loss model of the current estimate (slow path) |
 
@@ -10,8 +10,12 @@ pub mod current;
 pub mod efficiency;
 pub mod observer;
 
-pub use current::{
-    Amps, CurrentEstimator, CycleCurrents, InductorModel, PhaseTotals, WindowTotals,
-};
+pub use current::{Amps, CurrentEstimator, CycleCurrents, InductorModel, Phases, WindowTotals};
 pub use efficiency::{LossBreakdown, LossModel, MeasuredEfficiency, Steinmetz};
 pub use observer::{Observer, ObserverConfig};
+
+/// Amperes as [`Amps`], saturating at the range's edges; NaN gives zero
+/// (never panics, unlike the `fixed` crate's own saturating conversion).
+pub fn amps(a: f32) -> Amps {
+    current::saturate(a)
+}

@@ -179,14 +179,14 @@ impl Firmware {
         let vout_adc = output_channel(&scenario.mcu)?;
         let vin_adc = input_channel(&scenario.mcu)?;
         let model = scenario.firmware_model();
-        let mut estimator = CurrentEstimator::new(&model, &clock)?;
+        let vin_full_v = vin_adc.to_volts(vin_adc.full_scale_code());
+        let mut estimator = CurrentEstimator::new(&model, &clock, vin_full_v)?;
         estimator.follow_output(&vout_adc);
         let setpoint = vout_adc.to_code(scenario.control.law.setpoint_v() as f32)?.raw;
         let limits =
             Limits::new(&scenario.firmware.protection, &vout_adc, &vin_adc, &clock, setpoint)?;
         let period_s = (1.0 / scenario.firmware.housekeeping_hz) as f32;
-        let observer_r_ohm =
-            model.dcr_ohm + 0.5 * (model.r_on_ohm + model.r_low_ohm.unwrap_or(model.diode_rd_ohm));
+        let observer_r_ohm = 0.5 * (model.on_resistance() + model.off_resistance());
         let observer = match scenario.firmware.observer_bandwidth_hz {
             Some(bw) => Some(Observer::new(&ObserverConfig {
                 l_h: model.l_h,
@@ -236,37 +236,33 @@ impl Firmware {
     /// The slow path: protection housekeeping, then the estimates.
     pub fn housekeeping(&mut self, vin: u16, now: Instant) {
         self.stack.estimator_mut().update(now);
-        let totals = self.stack.estimator_mut().take_totals();
+        let phases = self.stack.estimator_mut().take_window();
         let (vin_adc, vout_adc) = (self.vin_adc, self.vout_adc);
         self.stack.housekeeping(vin, &vin_adc, &vout_adc, now);
         let vin_v = vin_adc.to_volts(vin);
         let vout_v = self.last_output_v();
-        let tick_s = self.stack.estimator().tick_s();
-        self.report.losses = self.loss.evaluate(&totals, vin_v, vout_v, tick_s);
+        self.report.losses = self.loss.evaluate(&phases, vin_v, vout_v);
         self.report.observer_current_a = f32::NAN;
         let Some(observer) = self.observer.as_mut() else { return };
-        if totals.cycles == 0 || self.stack.state() != State::Regulating {
-            observer.reset(totals.average_a(), vout_v, totals.average_a());
+        if phases.cycles == 0 || self.stack.state() != State::Regulating {
+            observer.reset(phases.average_a(), vout_v, phases.average_a());
             return;
         }
         let model = *self.stack.estimator().model();
-        let vf = if model.r_low_ohm.is_some() { 0.0 } else { model.diode_vf_v };
         // Whole cycles only: a window cutting cycles would swing the duty.
-        let (d, d_off) = (totals.duty(), totals.off_fraction());
-        let u = d * vin_v - d_off * vf + (1.0 - d - d_off) * vout_v;
+        let (d, d_off) = (phases.duty(), phases.off_fraction());
+        let u = d * vin_v - d_off * model.freewheel_v() + (1.0 - d - d_off) * vout_v;
         // The model was discretized with a nominal R; the drop's change with
         // the duty enters as an input, exact in steady state.
-        let r_now = d * model.r_on_ohm
-            + d_off * model.r_low_ohm.unwrap_or(model.diode_rd_ohm)
-            + model.dcr_ohm;
+        let r_now = d * model.on_resistance() + d_off * model.off_resistance();
         let u = u - (r_now - self.observer_r_ohm) * observer.current_a();
         let i_obs = observer.update(u, vout_v, None);
         self.report.observer_current_a = i_obs;
         // Blend the estimate's DC level toward the observer's (CCM only:
         // DCM anchors the estimate at zero every cycle).
-        if totals.dcm_cycles == 0 {
-            let gap = (i_obs - totals.average_a()) * OBSERVER_BLEND;
-            self.stack.estimator_mut().shift(crate::estimate::Amps::saturating_from_num(gap));
+        if phases.dcm_cycles == 0 {
+            let gap = (i_obs - phases.average_a()) * OBSERVER_BLEND;
+            self.stack.estimator_mut().shift(crate::estimate::amps(gap));
         }
     }
 

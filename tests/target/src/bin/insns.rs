@@ -1,0 +1,228 @@
+//! Target side: instructions per fast-path call.
+//!
+//! Under `qemu-system-arm -icount shift=0` every guest instruction advances
+//! virtual time by the same step, and SysTick counts virtual time, so SysTick
+//! ticks are proportional to instructions. The ratio is calibrated against a
+//! loop of known length (two instructions per turn); each operation runs
+//! `CALLS` times and the harness's own cost (the same loop with an empty
+//! body) is subtracted.
+#![no_std]
+#![no_main]
+
+use core::hint::black_box;
+use cortex_m::peripheral::{syst::SystClkSource, Peripherals, SYST};
+use cortex_m_rt::entry;
+use cortex_m_semihosting::{debug, hprintln};
+use panic_semihosting as _;
+use ripplectl::estimate::{Amps, CurrentEstimator};
+use ripplectl::reference::{GuardModel, HystereticModel};
+use ripplectl::{Gate, Instant, Law};
+use ripplectl_target::Rig;
+
+const CALLS: u32 = 2_048;
+
+fn core_name() -> &'static str {
+    if cfg!(target_abi = "eabihf") {
+        "m4"
+    } else {
+        "m0"
+    }
+}
+
+fn ticks() -> u32 {
+    SYST::get_current()
+}
+
+/// SysTick counts down from 2²⁴ − 1.
+fn since(start: u32) -> u32 {
+    start.wrapping_sub(ticks()) & 0x00ff_ffff
+}
+
+/// Exactly `2·n` instructions: `subs` and `bne` per turn (`n` ≥ 1).
+#[inline(never)]
+fn known_loop(n: u32) {
+    // SAFETY: a register-only countdown loop.
+    unsafe {
+        core::arch::asm!("2:", "subs {0}, {0}, #1", "bne 2b", inout(reg) n => _, options(nomem, nostack));
+    }
+}
+
+/// Instructions per SysTick tick, as a 16.16 fixed-point ratio.
+fn calibrate() -> u64 {
+    let (short, long) = (1_000u32, 201_000u32);
+    let s = ticks();
+    known_loop(short);
+    let t_short = since(s);
+    let s = ticks();
+    known_loop(long);
+    let t_long = since(s);
+    (u64::from(2 * (long - short)) << 16) / u64::from((t_long - t_short).max(1))
+}
+
+/// Ticks for `CALLS` turns of `f`.
+#[inline(never)]
+fn run(mut f: impl FnMut(u32)) -> u32 {
+    let s = ticks();
+    for i in 0..CALLS {
+        f(black_box(i));
+    }
+    since(s)
+}
+
+struct Meter {
+    per_tick: u64,
+}
+
+impl Meter {
+    /// Mean instructions per call of `f` beyond `baseline`: both get the
+    /// same inputs, the baseline only consumes them, so input preparation
+    /// and loop overhead cancel.
+    fn count(&self, baseline: impl FnMut(u32), f: impl FnMut(u32)) -> u32 {
+        let empty = run(baseline);
+        let t = run(f).saturating_sub(empty);
+        ((u64::from(t) * self.per_tick / u64::from(CALLS) + (1 << 15)) >> 16) as u32
+    }
+
+    fn report(&self, op: &str, baseline: impl FnMut(u32), f: impl FnMut(u32)) -> u32 {
+        let n = self.count(baseline, f);
+        hprintln!("insns core={} op={} n={}", core_name(), op, n);
+        n
+    }
+}
+
+/// A ripple of output codes sweeping the hysteretic band.
+fn code(i: u32) -> u16 {
+    let k = (i & 63) as u16;
+    1968 + if k < 32 { k } else { 64 - k }
+}
+
+#[entry]
+fn main() -> ! {
+    let mut p = Peripherals::take().unwrap();
+    p.SYST.set_clock_source(SystClkSource::Core);
+    p.SYST.set_reload(0x00ff_ffff);
+    p.SYST.clear_current();
+    p.SYST.enable_counter();
+
+    let meter = Meter { per_tick: calibrate() };
+    let mut rig = Rig::demo().unwrap();
+    // Inputs are functions of the call index (times advance with it), so
+    // each baseline prepares exactly what its operation consumes.
+    let at = |i: u32, step: u32, base: u32| Instant(base.wrapping_add(i.wrapping_mul(step)));
+    let mut base = 0u32;
+    let mut next_base = |calls_span: u32| {
+        base = base.wrapping_add(calls_span);
+        base
+    };
+
+    let b = next_base(64 * CALLS);
+    meter.report(
+        "hysteretic_guard",
+        |i| {
+            black_box((code(i), at(i, 64, b)));
+        },
+        |i| {
+            black_box(rig.guard.on_sample(code(i), at(i, 64, b)));
+        },
+    );
+    let b = next_base(320 * CALLS);
+    meter.report(
+        "passthrough_guard",
+        |i| {
+            black_box((i & 1 == 0, at(i, 320, b)));
+        },
+        |i| {
+            black_box(rig.edge.on_edge(i & 1 == 0, at(i, 320, b)));
+        },
+    );
+    let mut est: CurrentEstimator = rig.estimator.clone();
+    let b = next_base(560 * CALLS);
+    est.restart_at(Instant(b));
+    est.shift(Amps::from_num(1));
+    let gate = |i: u32| if i & 1 == 0 { Gate::On } else { Gate::Off };
+    meter.report(
+        "estimator_edge",
+        |i| {
+            black_box((gate(i), at(i, 560, b)));
+        },
+        |i| {
+            black_box(est.on_gate(gate(i), at(i, 560, b)));
+        },
+    );
+    let b = next_base(64 * CALLS);
+    meter.report(
+        "estimator_sample",
+        |i| {
+            black_box((code(i), at(i, 64, b)));
+        },
+        |i| {
+            est.on_output_code(code(i), at(i, 64, b));
+        },
+    );
+
+    // The supervisor, brought into regulation first.
+    let (vin, vout) = (rig.vin, rig.vout);
+    let b = next_base(0);
+    rig.stack.on_sample(1984, Instant(b));
+    rig.stack.housekeeping(2900, &vin, &vout, Instant(b));
+    let b = next_base(70_000);
+    rig.stack.housekeeping(2900, &vin, &vout, Instant(b));
+    let b = next_base(64);
+    let whole = meter.report(
+        "supervisor_stack",
+        |i| {
+            black_box((code(i), at(i, 64, b)));
+        },
+        |i| {
+            black_box(rig.stack.on_sample(code(i), at(i, 64, b)));
+        },
+    );
+    // Its own share: the stack less the law and guard, and less the
+    // estimator's per-reading update (budgeted on its own).
+    let b = next_base(64 * CALLS);
+    let law = meter.count(
+        |i| {
+            black_box((code(i), at(i, 64, b)));
+        },
+        |i| {
+            black_box(rig.guard.on_sample(code(i), at(i, 64, b)));
+        },
+    );
+    let b = next_base(64 * CALLS);
+    let reading = meter.count(
+        |i| {
+            black_box((code(i), at(i, 64, b)));
+        },
+        |i| {
+            est.on_output_code(code(i), at(i, 64, b));
+        },
+    );
+    hprintln!("insns core={} op=supervisor n={}", core_name(), whole.saturating_sub(law + reading));
+
+    // The f64 oracles (soft float on both cores' f64) for comparison.
+    let mut model = HystereticModel::new(5.0, 0.04);
+    let volts = |i: u32| 4.96 + f64::from(i & 63) * 0.00125;
+    meter.report(
+        "hysteretic_f64",
+        |i| {
+            black_box(volts(i));
+        },
+        |i| {
+            black_box(model.sample(volts(i)));
+        },
+    );
+    let mut guard = GuardModel::new(150e-9, 300e-9, 40e-6, 1.0 / 140e3);
+    meter.report(
+        "guard_f64",
+        |i| {
+            black_box((i & 16 == 0, f64::from(i) * 1e-6));
+        },
+        |i| {
+            black_box(guard.step(i & 16 == 0, f64::from(i) * 1e-6));
+        },
+    );
+    debug::exit(debug::EXIT_SUCCESS);
+    loop {
+        cortex_m::asm::wfi();
+    }
+}

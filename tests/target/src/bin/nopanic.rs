@@ -1,0 +1,54 @@
+//! Target side: the fast-path entry points linked with `panic-never`, whose
+//! panic handler does not link: if any panic is reachable from them (an
+//! index, an unwrap, an overflow check, a division by a possible zero), the
+//! build fails. Inputs come through volatile reads so nothing folds away.
+#![no_std]
+#![no_main]
+
+use core::ptr::read_volatile;
+use cortex_m_rt::entry;
+use panic_never as _;
+use ripplectl::{Gate, Instant, Law};
+use ripplectl_target::Rig;
+
+static mut INPUT: [u32; 4] = [0; 4];
+static mut OUTPUT: u32 = 0;
+
+fn input(k: usize) -> u32 {
+    // SAFETY: single-threaded; volatile keeps the compiler from assuming.
+    unsafe { read_volatile(core::ptr::addr_of!(INPUT).cast::<u32>().add(k & 3)) }
+}
+
+fn output(x: u32) {
+    // SAFETY: single-threaded.
+    unsafe { core::ptr::write_volatile(core::ptr::addr_of_mut!(OUTPUT), x) }
+}
+
+#[entry]
+fn main() -> ! {
+    let Some(mut rig) = Rig::demo() else {
+        loop {
+            cortex_m::asm::wfi();
+        }
+    };
+    loop {
+        let (code, now, level) = (input(0) as u16, Instant(input(1)), input(2) & 1 != 0);
+        let gate = if level { Gate::On } else { Gate::Off };
+        output(u32::from(rig.guard.on_sample(code, now).gate.is_on()));
+        output(u32::from(rig.guard.on_edge(level, now).gate.is_on()));
+        output(u32::from(rig.guard.on_timer(now).gate.is_on()));
+        output(u32::from(rig.edge.on_edge(level, now).gate.is_on()));
+        output(rig.estimator.on_gate(gate, now).map_or(0, |c| c.on_ticks));
+        output(rig.estimator.current_at(now).to_bits() as u32);
+        rig.estimator.on_output_code(code, now);
+        output(
+            rig.estimator
+                .ticks_to_reach(ripplectl::estimate::Amps::from_bits(input(3) as i32))
+                .unwrap_or(0),
+        );
+        output(u32::from(rig.stack.on_sample(code, now).gate.is_on()));
+        output(u32::from(rig.stack.on_edge(level, now).gate.is_on()));
+        output(u32::from(rig.stack.on_timer(now).gate.is_on()));
+        output(rig.stack.on_output_reading(code, now).map_or(0, |c| u32::from(c.gate.is_on())));
+    }
+}
