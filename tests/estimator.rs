@@ -109,6 +109,36 @@ fn ccm_dcm_boundary_matches_erickson() {
     assert!((got - want).abs() / want < 0.01, "DCM average {got} vs {want}");
 }
 
+#[test]
+fn inductance_error_scales_the_ripple() {
+    // The estimate's ripple is inversely proportional to the assumed L: a
+    // model 10 % high gives 1/1.1 of the true ripple.
+    let clock = TimerClock::new(CLOCK).unwrap();
+    let ripple = |l: f32| {
+        let mut est = CurrentEstimator::new(&lossless(l), &clock, 40.0).unwrap();
+        est.set_voltages(24.0, 5.0);
+        est.restart_at(Instant(0));
+        est.shift(Amps::from_num(2));
+        let c = run_cycles(&mut est, 0, 133, 640, 10).unwrap();
+        (c.peak - c.valley).to_num::<f32>()
+    };
+    let ratio = ripple(47e-6 * 1.1) / ripple(47e-6);
+    assert!((ratio - 1.0 / 1.1).abs() < 0.002, "{ratio}");
+}
+
+#[test]
+fn steinmetz_worked_example() {
+    // P_v = k·f^α·B̂^β (Steinmetz 1892). Worked by hand: k = 4, α = 1.4,
+    // β = 2.6 (MnZn-ferrite-like, from memory), f = 100 kHz, B̂ = 0.05 T:
+    // f^α = 10^7, B̂^β = e^{2.6·ln 0.05} = 4.1418e-4, P_v = 16 567 W/m³;
+    // over 1.5 cm³, 24.85 mW.
+    let core =
+        Steinmetz { k: 4.0, alpha: 1.4, beta: 2.6, turns: 20.0, area_m2: 20e-6, volume_m3: 1.5e-6 };
+    // B̂ = L·Δi/(2·N·A_e) = 0.05 T for L = 40 µH, Δi = 1 A.
+    let p = core.power_w(40e-6, 1.0, 100e3);
+    assert!((p - 0.024_85).abs() / 0.024_85 < 0.002, "{p}");
+}
+
 fn flat_current_window(i_a: f32, vin: f32, vout: f32) -> ripplectl::estimate::Phases {
     // An estimator at constant current (no ripple: huge L), 100 cycles.
     let clock = TimerClock::new(CLOCK).unwrap();
