@@ -58,15 +58,7 @@ fn bench_passthrough(c: &mut Criterion) {
 }
 
 fn demo_estimator(clock: &TimerClock, adc: &AdcChannel) -> CurrentEstimator {
-    let model = InductorModel {
-        l_h: 47e-6,
-        r_on_ohm: 0.11,
-        dcr_ohm: 0.03,
-        diode_vf_v: 0.45,
-        diode_rd_ohm: 0.03,
-        r_low_ohm: None,
-    };
-    let mut est = CurrentEstimator::new(&model, clock, 40.0).unwrap();
+    let mut est = CurrentEstimator::new(&InductorModel::demo(), clock, 40.0).unwrap();
     est.set_voltages(24.0, 5.0);
     est.follow_output(adc);
     est
@@ -98,22 +90,7 @@ fn bench_supervisor(c: &mut Criterion) {
     let vout = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0).unwrap();
     let vin = AdcChannel::new(12, 3.3, 0.0826, 0.0).unwrap();
     let law = Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).unwrap();
-    let protection = ProtectionConfig {
-        uvlo_on_v: 16.0,
-        uvlo_off_v: 15.0,
-        vin_max_v: 36.0,
-        vin_max_hysteresis_v: 1.0,
-        ovp_v: 5.5,
-        current_limit_a: 4.0,
-        short_cycles: 8,
-        hiccup_s: 2e-3,
-        soft_start_s: 1e-3,
-        stuck_low_v: 0.3,
-        stuck_implied_v: 2.0,
-        stuck_cycles: 3,
-        max_retries: 3,
-    };
-    let limits = Limits::new(&protection, &vout, &vin, &clock, 1984).unwrap();
+    let limits = Limits::new(&ProtectionConfig::demo(), &vout, &vin, &clock, 1984).unwrap();
     let mut stack = Supervisor::new(demo_guard(law), demo_estimator(&clock, &vout), limits);
     stack.on_sample(1984, Instant(0));
     stack.housekeeping(2900, &vin, &vout, Instant(0));

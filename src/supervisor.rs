@@ -87,6 +87,28 @@ pub struct ProtectionConfig {
     pub max_retries: u16,
 }
 
+impl ProtectionConfig {
+    /// The crate demo's settings (a 24 V bus, 18–32 V, to a 5 V / 2 A
+    /// rail): demo values, to be replaced by a board's own.
+    pub const fn demo() -> Self {
+        Self {
+            uvlo_on_v: 16.0,
+            uvlo_off_v: 15.0,
+            vin_max_v: 36.0,
+            vin_max_hysteresis_v: 1.0,
+            ovp_v: 5.5,
+            current_limit_a: 4.0,
+            short_cycles: 8,
+            hiccup_s: 2e-3,
+            soft_start_s: 1e-3,
+            stuck_low_v: 0.3,
+            stuck_implied_v: 2.0,
+            stuck_cycles: 3,
+            max_retries: 3,
+        }
+    }
+}
+
 /// Kinds of fault.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -274,6 +296,8 @@ pub struct Supervisor<L> {
     out_sum: u32,
     out_count: u16,
     out_average: u16,
+    in_sum: u32,
+    in_count: u16,
     has_reading: bool,
     limited_this_cycle: bool,
     limited_streak: u16,
@@ -302,6 +326,8 @@ impl<L: Law + Regulate> Supervisor<L> {
             out_sum: 0,
             out_count: 0,
             out_average: 0,
+            in_sum: 0,
+            in_count: 0,
             has_reading: false,
             limited_this_cycle: false,
             limited_streak: 0,
@@ -532,6 +558,26 @@ impl<L: Law + Regulate> Supervisor<L> {
             return None;
         }
         self.check_output(code, now)
+    }
+
+    /// Fast path: an input reading (scanned with the output); the current
+    /// estimator's on-slope follows it. Input limits stay on the slow path.
+    #[inline]
+    pub fn on_input_reading(&mut self, code: u16, now: Instant) {
+        self.vin = code;
+        self.in_sum = self.in_sum.wrapping_add(u32::from(code));
+        self.in_count = self.in_count.wrapping_add(1);
+        self.estimator.on_input_code(code, now);
+    }
+
+    /// Slow path: the input readings' average since the last call, or
+    /// `None` without fast-path input readings.
+    pub fn take_input_average(&mut self) -> Option<u16> {
+        let avg =
+            (self.in_count > 0).then(|| (self.in_sum / u32::from(self.in_count.max(1))) as u16);
+        self.in_sum = 0;
+        self.in_count = 0;
+        avg
     }
 
     /// Slow path, at a steady rate (1–20 kHz): input checks, soft-start

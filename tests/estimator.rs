@@ -209,17 +209,22 @@ fn measured_efficiency_is_power_ratio() {
     assert!((m.efficiency() - 10.8 / 12.0).abs() < 1e-5);
 }
 
-#[test]
-fn observer_places_its_poles() {
-    // Ackermann's formula: the error dynamics Φ − K·H must have exactly the
-    // requested characteristic polynomial (z − p1)(z − p2)(z − p3).
-    let cfg = ObserverConfig {
+/// The demo's stage at a 10 kHz slow path, 1 kHz observer bandwidth.
+fn demo_observer() -> ObserverConfig {
+    ObserverConfig {
         l_h: 47e-6,
         c_f: 220e-6,
         r_ohm: 0.08,
         period_s: 100e-6,
         poles: ObserverConfig::poles_for_bandwidth(1_000.0, 100e-6),
-    };
+    }
+}
+
+#[test]
+fn observer_places_its_poles() {
+    // Ackermann's formula: the error dynamics Φ − K·H must have exactly the
+    // requested characteristic polynomial (z − p1)(z − p2)(z − p3).
+    let cfg = demo_observer();
     let obs = Observer::new(&cfg).unwrap();
     let m = obs.error_dynamics().map(|r| r.map(f64::from));
     let trace = m[0][0] + m[1][1] + m[2][2];
@@ -238,13 +243,7 @@ fn observer_places_its_poles() {
 #[test]
 fn observer_converges_to_the_drop_balance() {
     // Steady state of the averaged model: i = (u − v)/R. Start far off.
-    let cfg = ObserverConfig {
-        l_h: 47e-6,
-        c_f: 220e-6,
-        r_ohm: 0.08,
-        period_s: 100e-6,
-        poles: ObserverConfig::poles_for_bandwidth(1_000.0, 100e-6),
-    };
+    let cfg = demo_observer();
     let mut obs = Observer::new(&cfg).unwrap();
     obs.reset(0.0, 5.0, 0.0);
     let (v, i) = (5.0, 2.0);

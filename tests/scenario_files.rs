@@ -37,3 +37,13 @@ fn keys_are_located_in_their_table() {
     assert_eq!(locate_key(text, "b.x"), Some(4));
     assert_eq!(locate_key(text, "a.x"), Some(2));
 }
+
+#[test]
+fn shipped_protection_and_model_are_the_crate_demo() {
+    // One set of demo values: the scenario file, and the constants the
+    // benches and the target runs use.
+    let s = Scenario::default_demo();
+    assert_eq!(s.firmware.protection, ripplectl::supervisor::ProtectionConfig::demo());
+    assert_eq!(s.firmware_model(), ripplectl::estimate::InductorModel::demo());
+    assert_eq!(s.control.window, ripplectl::WindowConfig::demo());
+}

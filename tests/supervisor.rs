@@ -17,21 +17,7 @@ fn channels() -> (AdcChannel, AdcChannel) {
 }
 
 fn protection() -> ProtectionConfig {
-    ProtectionConfig {
-        uvlo_on_v: 16.0,
-        uvlo_off_v: 15.0,
-        vin_max_v: 36.0,
-        vin_max_hysteresis_v: 1.0,
-        ovp_v: 5.5,
-        current_limit_a: 4.0,
-        short_cycles: 8,
-        hiccup_s: 2e-3,
-        soft_start_s: 1e-3,
-        stuck_low_v: 0.3,
-        stuck_implied_v: 2.0,
-        stuck_cycles: 3,
-        max_retries: 3,
-    }
+    ProtectionConfig::demo()
 }
 
 type Stack = Supervisor<FrequencyGuard<Hysteretic>>;
@@ -41,15 +27,7 @@ fn stack() -> Stack {
     let clock = TimerClock::new(64_000_000).unwrap();
     let law = Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).unwrap();
     let guard = FrequencyGuard::new(law, Window::new(&WindowConfig::demo(), &clock).unwrap());
-    let model = InductorModel {
-        l_h: 47e-6,
-        r_on_ohm: 0.11,
-        dcr_ohm: 0.03,
-        diode_vf_v: 0.45,
-        diode_rd_ohm: 0.03,
-        r_low_ohm: None,
-    };
-    let est = CurrentEstimator::new(&model, &clock, 40.0).unwrap();
+    let est = CurrentEstimator::new(&InductorModel::demo(), &clock, 40.0).unwrap();
     let limits = Limits::new(&protection(), &vout, &vin, &clock, 1984).unwrap();
     Supervisor::new(guard, est, limits)
 }

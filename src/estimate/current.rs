@@ -10,11 +10,11 @@
 //! ```
 //!
 //! and a diode stage clamps at zero (DCM). On the fast path each segment
-//! between edges is one multiply: slope × ticks. The slope's output share
-//! follows every output reading ([`CurrentEstimator::on_output_code`], one
-//! multiply); the input's share and the resistive drop `i·R` (taken at the
-//! window's mean current, so neither phase is biased by its starting current)
-//! come from the slow path ([`CurrentEstimator::set_voltages`],
+//! between edges is one multiply: slope × ticks. The slope's output and
+//! input shares follow every reading ([`CurrentEstimator::on_output_code`],
+//! [`CurrentEstimator::on_input_code`], one multiply each); the resistive drop
+//! `i·R` (taken at the window's mean current, so neither phase is biased by
+//! its starting current) comes from the slow path ([`CurrentEstimator::set_voltages`],
 //! [`CurrentEstimator::take_window`]). Charge and RMS sums per phase are
 //! formed on the slow path from the cycles' peak, valley and tick sums:
 //! trapezoids in CCM, triangles in DCM.
@@ -75,6 +75,19 @@ pub struct InductorModel {
 }
 
 impl InductorModel {
+    /// The crate demo's stage: 47 µH with 30 mΩ DCR, a 60 mΩ switch plus
+    /// 50 mΩ of wiring, a Schottky diode (0.45 V, 30 mΩ). Demo values.
+    pub const fn demo() -> Self {
+        Self {
+            l_h: 47e-6,
+            r_on_ohm: 0.11,
+            dcr_ohm: 0.03,
+            diode_vf_v: 0.45,
+            diode_rd_ohm: 0.03,
+            r_low_ohm: None,
+        }
+    }
+
     /// Resistance in the current's path while on, Ω.
     pub fn on_resistance(&self) -> f32 {
         self.r_on_ohm + self.dcr_ohm
@@ -211,9 +224,9 @@ pub struct CurrentEstimator {
     freewheel_term: i32,
     drop_on: i32,
     drop_off: i32,
-    // The output reading's share: (code × out_code_term) >> out_shift.
-    out_code_term: u32,
-    out_shift: u32,
+    // Readings' shares of the slopes.
+    out_code: CodeScale,
+    in_code: CodeScale,
     slope_on: i32,
     slope_off: i32,
     ticks_per_amp_on: u32,
@@ -234,6 +247,35 @@ pub(crate) fn saturate<F: fixed::traits::Fixed>(x: f32) -> F {
         None if x > 0.0 => F::MAX,
         None if x < 0.0 => F::MIN,
         None => F::from_bits(F::Bits::default()),
+    }
+}
+
+/// A channel's code as a slope share: `(code × term) >> shift` in `I8F24`
+/// A/tick, with as many fraction bits as keep full scale × term below 2³¹
+/// (one 32-bit multiply per reading).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+struct CodeScale {
+    term: u32,
+    shift: u32,
+}
+
+impl CodeScale {
+    /// For `adc` (offset ignored: its share is below one code's worth).
+    fn new(adc: &AdcChannel, inv_l_tick: f32) -> Self {
+        let per_code = adc.lsb_signal_v() as f32 * inv_l_tick * (1u32 << 24) as f32;
+        let full = f32::from(adc.full_scale_code()).max(1.0);
+        let mut shift = 24u32;
+        while shift > 0 && per_code * (1u64 << shift) as f32 * full >= i32::MAX as f32 {
+            shift -= 1;
+        }
+        let term = per_code * (1u64 << shift) as f32;
+        let most = i32::MAX as f32 / full;
+        Self { term: if term >= most { most as u32 } else { term as u32 }, shift }
+    }
+
+    #[inline(always)]
+    fn slope(&self, code: u16) -> i32 {
+        (u32::from(code).wrapping_mul(self.term) >> self.shift) as i32
     }
 }
 
@@ -295,8 +337,8 @@ impl CurrentEstimator {
             freewheel_term: slope_bits(model.freewheel_v() * inv_l_tick, cap),
             drop_on: 0,
             drop_off: 0,
-            out_code_term: 0,
-            out_shift: 0,
+            out_code: CodeScale::default(),
+            in_code: CodeScale::default(),
             slope_on: 0,
             slope_off: 0,
             ticks_per_amp_on: 0,
@@ -357,20 +399,13 @@ impl CurrentEstimator {
     /// the output through `adc`'s codes (offset ignored: its share is below
     /// one code's worth of slope).
     pub fn follow_output(&mut self, adc: &AdcChannel) {
-        let per_code = adc.lsb_signal_v() as f32 * self.inv_l_tick * (1u32 << 24) as f32;
-        // As many extra fraction bits as keep full scale × term below 2³¹.
-        let full = f32::from(adc.full_scale_code()).max(1.0);
-        let mut shift = 24u32;
-        while shift > 0 && per_code * (1u64 << shift) as f32 * full >= i32::MAX as f32 {
-            shift -= 1;
-        }
-        let term = per_code * (1u64 << shift) as f32;
-        self.out_code_term = if term >= i32::MAX as f32 / full {
-            (i32::MAX as f32 / full) as u32
-        } else {
-            term as u32
-        };
-        self.out_shift = shift;
+        self.out_code = CodeScale::new(adc, self.inv_l_tick);
+    }
+
+    /// Slow path, once: let [`on_input_code`](Self::on_input_code) follow
+    /// the input through `adc`'s codes.
+    pub fn follow_input(&mut self, adc: &AdcChannel) {
+        self.in_code = CodeScale::new(adc, self.inv_l_tick);
     }
 
     /// Fast path: a fresh output reading taken at `now`; the slopes follow
@@ -379,12 +414,24 @@ impl CurrentEstimator {
     /// [`follow_output`](Self::follow_output) was called.
     #[inline]
     pub fn on_output_code(&mut self, code: u16, now: Instant) {
-        if self.out_code_term == 0 {
+        if self.out_code.term == 0 {
             return;
         }
         self.close_segment(now);
-        let term = (u32::from(code).wrapping_mul(self.out_code_term) >> self.out_shift) as i32;
-        self.vout_term = term.min(self.slope_cap);
+        self.vout_term = self.out_code.slope(code).min(self.slope_cap);
+        self.refresh_slopes();
+    }
+
+    /// Fast path: a fresh input reading taken at `now` (scan the input with
+    /// the output, so an input step reaches the on-slope within a reading).
+    /// Does nothing until [`follow_input`](Self::follow_input) was called.
+    #[inline]
+    pub fn on_input_code(&mut self, code: u16, now: Instant) {
+        if self.in_code.term == 0 {
+            return;
+        }
+        self.close_segment(now);
+        self.vin_term = self.in_code.slope(code).min(self.slope_cap);
         self.refresh_slopes();
     }
 

@@ -77,7 +77,7 @@ impl Comparator {
 struct Schedule {
     next_sample: u64,
     next_housekeeping: u64,
-    conversion: Option<(u64, u16)>,
+    conversion: Option<(u64, u16, u16)>,
     timer: Option<u64>,
     edge: Option<(u64, bool)>,
     dead_time_end: Option<u64>,
@@ -387,9 +387,10 @@ impl Engine {
             self.schedule.dead_time_end = None;
             self.plant.set_mode(if self.gate { Conduction::HighSide } else { Conduction::LowSide });
         }
-        if let Some((t, code)) = self.schedule.conversion {
+        if let Some((t, code, vin)) = self.schedule.conversion {
             if t <= tick {
                 self.schedule.conversion = None;
+                self.firmware.on_input_reading(vin, self.now());
                 if self.comparator.source == ComparatorSource::None {
                     let cmd = self.firmware.on_sample(code, self.now());
                     self.apply(cmd);
@@ -436,8 +437,10 @@ impl Engine {
             // Edge-driven laws still sample the output, for protection.
             self.catch_up();
             let code = self.convert(self.plant.v_out());
+            // The input is scanned in the same sequence.
+            let vin = self.convert_input(self.plant.vin_v());
             self.schedule.conversion =
-                Some((tick + self.conversion_ticks + self.latency_ticks, code));
+                Some((tick + self.conversion_ticks + self.latency_ticks, code, vin));
         }
     }
 

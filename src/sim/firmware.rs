@@ -165,11 +165,22 @@ pub struct Firmware {
     vin_adc: AdcChannel,
     report: SlowPathReport,
     observer_r_ohm: f32,
+    last_vin_v: f32,
+    hold_windows: u8,
 }
 
 /// How much of the gap to the observer's current the estimate closes per
 /// housekeeping step.
 const OBSERVER_BLEND: f32 = 0.3;
+
+/// An input that moves more than this between windows, V, holds the
+/// observer's correction: the averaged model sees the DC current only
+/// through the resistive drop, so a small error in its input while the bus
+/// moves would become a large current error.
+const INPUT_STEADY_V: f32 = 0.25;
+
+/// Windows the correction stays held after the input moved.
+const OBSERVER_HOLD: u8 = 2;
 
 impl Firmware {
     /// Build the firmware a scenario describes.
@@ -182,6 +193,7 @@ impl Firmware {
         let vin_full_v = vin_adc.to_volts(vin_adc.full_scale_code());
         let mut estimator = CurrentEstimator::new(&model, &clock, vin_full_v)?;
         estimator.follow_output(&vout_adc);
+        estimator.follow_input(&vin_adc);
         let setpoint = vout_adc.to_code(scenario.control.law.setpoint_v() as f32)?.raw;
         let limits =
             Limits::new(&scenario.firmware.protection, &vout_adc, &vin_adc, &clock, setpoint)?;
@@ -228,6 +240,8 @@ impl Firmware {
                 vin_adc,
                 report: SlowPathReport::default(),
                 observer_r_ohm,
+                last_vin_v: 0.0,
+                hold_windows: OBSERVER_HOLD,
             },
             source,
         ))
@@ -239,7 +253,12 @@ impl Firmware {
         let phases = self.stack.estimator_mut().take_window();
         let (vin_adc, vout_adc) = (self.vin_adc, self.vout_adc);
         self.stack.housekeeping(vin, &vin_adc, &vout_adc, now);
-        let vin_v = vin_adc.to_volts(vin);
+        // The window's average input when the fast path scans it.
+        let vin_v = vin_adc.to_volts(self.stack.take_input_average().unwrap_or(vin));
+        let input_moved = (vin_v - self.last_vin_v).abs() > INPUT_STEADY_V;
+        self.last_vin_v = vin_v;
+        self.hold_windows =
+            if input_moved { OBSERVER_HOLD } else { self.hold_windows.saturating_sub(1) };
         let vout_v = self.last_output_v();
         self.report.losses = self.loss.evaluate(&phases, vin_v, vout_v);
         self.report.observer_current_a = f32::NAN;
@@ -260,7 +279,7 @@ impl Firmware {
         self.report.observer_current_a = i_obs;
         // Blend the estimate's DC level toward the observer's (CCM only:
         // DCM anchors the estimate at zero every cycle).
-        if phases.dcm_cycles == 0 {
+        if phases.dcm_cycles == 0 && self.hold_windows == 0 {
             let gap = (i_obs - phases.average_a()) * OBSERVER_BLEND;
             self.stack.estimator_mut().shift(crate::estimate::amps(gap));
         }
@@ -268,6 +287,11 @@ impl Firmware {
 
     fn last_output_v(&self) -> f32 {
         self.vout_adc.to_volts(self.stack.output_average())
+    }
+
+    /// An input reading, scanned with each output reading.
+    pub fn on_input_reading(&mut self, code: u16, now: Instant) {
+        self.stack.on_input_reading(code, now);
     }
 
     /// An output reading for protection only (edge-driven laws).

@@ -4,6 +4,7 @@ use super::metrics::Summary;
 use super::record::{Cycle, Slice};
 use super::sweep::SweepPoint;
 use crate::guard::WindowConfig;
+use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 
 const VOUT: RGBColor = RGBColor(0x1b, 0x6f, 0x6a);
@@ -25,6 +26,40 @@ fn range(values: impl Iterator<Item = f64>, pad: f64) -> std::ops::Range<f64> {
     }
     let span = (hi - lo).max(1e-9);
     (lo - pad * span)..(hi + pad * span)
+}
+
+/// A chart of one quantity against time in ms, our panel style.
+type TimeChart<'a, DB> = ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+fn time_panel<'a, DB: DrawingBackend>(
+    area: &'a DrawingArea<DB, plotters::coord::Shift>,
+    t_ms: std::ops::Range<f64>,
+    y: std::ops::Range<f64>,
+    y_desc: &str,
+) -> Result<TimeChart<'a, DB>, Box<dyn std::error::Error>>
+where
+    DB::ErrorType: 'static,
+{
+    let mut chart = ChartBuilder::on(area)
+        .margin(8)
+        .x_label_area_size(28)
+        .y_label_area_size(60)
+        .build_cartesian_2d(t_ms, y)?;
+    chart.configure_mesh().y_desc(y_desc).x_desc("time (ms)").light_line_style(WHITE).draw()?;
+    Ok(chart)
+}
+
+fn legend_box<'a, DB: DrawingBackend + 'a>(chart: &mut TimeChart<'a, DB>) -> PlotResult
+where
+    DB::ErrorType: 'static,
+{
+    chart
+        .configure_series_labels()
+        .background_style(WHITE.mix(0.8))
+        .border_style(LIMIT)
+        .position(SeriesLabelPosition::UpperRight)
+        .draw()?;
+    Ok(())
 }
 
 /// The run plot: output voltage, true and estimated inductor current, duty
@@ -73,17 +108,7 @@ where
     DB::ErrorType: 'static,
 {
     let y = range(slices.iter().flat_map(|s| [s.vo_min_v, s.vo_max_v]).chain([setpoint]), 0.08);
-    let mut chart = ChartBuilder::on(area)
-        .margin(8)
-        .x_label_area_size(28)
-        .y_label_area_size(60)
-        .build_cartesian_2d(t_ms, y)?;
-    chart
-        .configure_mesh()
-        .y_desc("output (V)")
-        .x_desc("time (ms)")
-        .light_line_style(WHITE)
-        .draw()?;
+    let mut chart = time_panel(area, t_ms, y, "output (V)")?;
     let (lo, hi) = envelope(slices, |s| s.vo_min_v, |s| s.vo_max_v);
     chart
         .draw_series(LineSeries::new(lo, VOUT.stroke_width(1)))?
@@ -100,12 +125,7 @@ where
         ))?
         .label("setpoint")
         .legend(|(x, y)| PathElement::new([(x, y), (x + 18, y)], LIMIT));
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(LIMIT)
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()?;
+    legend_box(&mut chart)?;
     Ok(())
 }
 
@@ -124,17 +144,7 @@ where
             .chain([0.0]),
         0.05,
     );
-    let mut chart = ChartBuilder::on(area)
-        .margin(8)
-        .x_label_area_size(28)
-        .y_label_area_size(60)
-        .build_cartesian_2d(t_ms, y)?;
-    chart
-        .configure_mesh()
-        .y_desc("inductor (A)")
-        .x_desc("time (ms)")
-        .light_line_style(WHITE)
-        .draw()?;
+    let mut chart = time_panel(area, t_ms, y, "inductor (A)")?;
     let (lo, hi) = envelope(slices, |s| s.il_min_a, |s| s.il_max_a);
     chart
         .draw_series(LineSeries::new(lo, IL_TRUE))?
@@ -149,12 +159,7 @@ where
             .legend(|(x, y)| PathElement::new([(x, y), (x + 18, y)], IL_EST));
         chart.draw_series(DashedLineSeries::new(hi, 4, 3, IL_EST.stroke_width(1)))?;
     }
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(LIMIT)
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()?;
+    legend_box(&mut chart)?;
     Ok(())
 }
 
@@ -172,17 +177,7 @@ where
         .filter(|p| p.1.is_finite())
         .collect();
     let y = range(pts.iter().map(|p| p.1).chain([0.0]), 0.05);
-    let mut chart = ChartBuilder::on(area)
-        .margin(8)
-        .x_label_area_size(28)
-        .y_label_area_size(60)
-        .build_cartesian_2d(t_ms, y)?;
-    chart
-        .configure_mesh()
-        .y_desc("duty cycle")
-        .x_desc("time (ms)")
-        .light_line_style(WHITE)
-        .draw()?;
+    let mut chart = time_panel(area, t_ms, y, "duty cycle")?;
     chart.draw_series(pts.iter().map(|&p| Circle::new(p, 1, GATE.filled())))?;
     Ok(())
 }
@@ -203,17 +198,7 @@ where
         .filter(|p| p.1.is_finite())
         .collect();
     let y = range(pts.iter().map(|p| p.1).chain([f_lo, f_hi]), 0.05);
-    let mut chart = ChartBuilder::on(area)
-        .margin(8)
-        .x_label_area_size(28)
-        .y_label_area_size(60)
-        .build_cartesian_2d(t_ms.clone(), y)?;
-    chart
-        .configure_mesh()
-        .y_desc("switching (kHz)")
-        .x_desc("time (ms)")
-        .light_line_style(WHITE)
-        .draw()?;
+    let mut chart = time_panel(area, t_ms.clone(), y, "switching (kHz)")?;
     chart
         .draw_series(pts.iter().map(|&p| Circle::new(p, 1, VOUT.filled())))?
         .label("per cycle")
@@ -226,12 +211,7 @@ where
             LIMIT.stroke_width(1),
         ))?;
     }
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.8))
-        .border_style(LIMIT)
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()?;
+    legend_box(&mut chart)?;
     Ok(())
 }
 

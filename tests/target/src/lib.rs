@@ -65,31 +65,10 @@ pub struct Rig {
 }
 
 /// The demo's estimator model.
-pub const MODEL: InductorModel = InductorModel {
-    l_h: 47e-6,
-    r_on_ohm: 0.11,
-    dcr_ohm: 0.03,
-    diode_vf_v: 0.45,
-    diode_rd_ohm: 0.03,
-    r_low_ohm: None,
-};
+pub const MODEL: InductorModel = InductorModel::demo();
 
 /// The demo's protection settings.
-pub const PROTECTION: ProtectionConfig = ProtectionConfig {
-    uvlo_on_v: 16.0,
-    uvlo_off_v: 15.0,
-    vin_max_v: 36.0,
-    vin_max_hysteresis_v: 1.0,
-    ovp_v: 5.5,
-    current_limit_a: 4.0,
-    short_cycles: 8,
-    hiccup_s: 2e-3,
-    soft_start_s: 1e-3,
-    stuck_low_v: 0.3,
-    stuck_implied_v: 2.0,
-    stuck_cycles: 3,
-    max_retries: 3,
-};
+pub const PROTECTION: ProtectionConfig = ProtectionConfig::demo();
 
 fn command_words(c: Command, extra: u32) -> [u32; WORDS_OUT] {
     let wake = c.wake.map_or(0, |w| w.0);
