@@ -357,11 +357,16 @@ impl<L: Law> FrequencyGuard<L> {
 
     #[inline(always)]
     fn filter(&mut self, demand: Command, now: Instant) -> Command {
+        let before = self.gate;
         let guarded = match self.gate {
             Gate::On => self.while_on(demand.gate, now),
             Gate::Off => self.while_off(demand.gate, now),
         };
-        Command { gate: guarded.gate, wake: earliest(now, guarded.wake, demand.wake) }
+        // After an edge the law has seen `on_gate`: its deadline (an
+        // on-time's end, say) is fresh only now.
+        let inner_wake =
+            if self.gate == before { demand.wake } else { self.inner.on_timer(now).wake };
+        Command { gate: guarded.gate, wake: earliest(now, guarded.wake, inner_wake) }
     }
 }
 

@@ -15,10 +15,14 @@
 //! All methods are fast-path code: integer compares and adds only, no
 //! division, no float, no panic, bounded time.
 
+pub mod dc_correction;
 pub mod hysteretic;
+pub mod on_time;
 pub mod passthrough;
 
+pub use dc_correction::DcCorrection;
 pub use hysteretic::{Hysteretic, HystereticConfig, Threshold};
+pub use on_time::{FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward};
 pub use passthrough::ComparatorPassThrough;
 
 use crate::tick::Instant;

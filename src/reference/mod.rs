@@ -8,6 +8,8 @@
 
 pub mod guard;
 pub mod hysteretic;
+pub mod on_time;
 
 pub use guard::GuardModel;
 pub use hysteretic::HystereticModel;
+pub use on_time::OnTimeModel;

@@ -8,7 +8,8 @@ use crate::estimate::{
 };
 use crate::guard::{ClampCounts, FrequencyGuard, Window};
 use crate::law::{
-    Command, ComparatorPassThrough, Gate, Hysteretic, HystereticConfig, Law, Regulate,
+    Command, ComparatorPassThrough, DcCorrection, FrequencyTrim, Gate, Hysteretic,
+    HystereticConfig, Law, OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
 };
 use crate::scale::{AdcChannel, TimerClock};
 use crate::supervisor::{FaultRecord, Limits, State, Supervisor};
@@ -20,6 +21,8 @@ use crate::ConfigError;
 pub enum Controller {
     /// Hysteretic law (sampled or edge input) inside the guard.
     Hysteretic(FrequencyGuard<Hysteretic>),
+    /// The on-time law inside the guard.
+    OnTime(FrequencyGuard<OnTime>),
     /// An analog comparator's edges inside the guard, with the comparator's
     /// setpoint as an output code (for the supervisor's checks).
     PassThrough(FrequencyGuard<ComparatorPassThrough>, u16),
@@ -72,6 +75,18 @@ impl Controller {
                 };
                 (Self::Hysteretic(FrequencyGuard::new(law, window)), source)
             }
+            LawParams::OnTime { setpoint_v, on_time_s, input, .. } => {
+                let law = OnTime::new(
+                    &OnTimeConfig { setpoint_v, on_time_s },
+                    &output_channel(&scenario.mcu)?,
+                    clock,
+                )?;
+                let source = match input {
+                    HystereticInput::Sampled => ComparatorSource::None,
+                    HystereticInput::Edge => ComparatorSource::Dac,
+                };
+                (Self::OnTime(FrequencyGuard::new(law, window)), source)
+            }
             LawParams::AnalogRetrofit { lower_v, upper_v } => {
                 let setpoint =
                     output_channel(&scenario.mcu)?.to_code((0.5 * (lower_v + upper_v)) as f32)?.raw;
@@ -89,6 +104,7 @@ impl Controller {
     fn law(&mut self) -> &mut dyn Law {
         match self {
             Self::Hysteretic(g) => g,
+            Self::OnTime(g) => g,
             Self::PassThrough(g, _) => g,
         }
     }
@@ -97,6 +113,7 @@ impl Controller {
     pub fn dac_code(&self) -> Option<u16> {
         match self {
             Self::Hysteretic(g) => Some(g.inner().armed_code()),
+            Self::OnTime(g) => Some(g.reference_code()),
             Self::PassThrough(..) => None,
         }
     }
@@ -105,6 +122,7 @@ impl Controller {
     pub fn clamps(&self) -> ClampCounts {
         match self {
             Self::Hysteretic(g) => *g.counts(),
+            Self::OnTime(g) => *g.counts(),
             Self::PassThrough(g, _) => *g.counts(),
         }
     }
@@ -134,13 +152,16 @@ impl Regulate for Controller {
     fn reference_code(&self) -> u16 {
         match self {
             Self::Hysteretic(g) => g.reference_code(),
+            Self::OnTime(g) => g.reference_code(),
             Self::PassThrough(_, setpoint) => *setpoint,
         }
     }
 
     fn set_reference(&mut self, code: u16) {
-        if let Self::Hysteretic(g) = self {
-            g.set_reference(code);
+        match self {
+            Self::Hysteretic(g) => g.set_reference(code),
+            Self::OnTime(g) => g.set_reference(code),
+            Self::PassThrough(..) => {}
         }
     }
 }
@@ -167,7 +188,42 @@ pub struct Firmware {
     observer_r_ohm: f32,
     last_vin_v: f32,
     hold_windows: u8,
+    regulation: SlowRegulation,
 }
+
+/// The slow path's regulation loops.
+#[derive(Clone, Debug)]
+struct SlowRegulation {
+    feed_forward: Option<OnTimeFeedForward>,
+    trim: Option<FrequencyTrim>,
+    dc: Option<DcCorrection>,
+    clamps_before: ClampCounts,
+}
+
+impl SlowRegulation {
+    fn build(scenario: &Scenario, clock: &TimerClock, setpoint: u16) -> Result<Self, ConfigError> {
+        let (feed_forward, trim) = match scenario.control.law {
+            LawParams::OnTime { setpoint_v, feed_forward_hz: Some(f), trim, .. } => (
+                Some(OnTimeFeedForward::new(setpoint_v, f, clock)?),
+                if trim { Some(FrequencyTrim::new(f, TRIM_GAIN, 0.5, 1.5)?) } else { None },
+            ),
+            _ => (None, None),
+        };
+        let dc = if scenario.control.dc_correction {
+            Some(DcCorrection::new(setpoint, DC_GAIN, DC_LIMIT_CODES)?)
+        } else {
+            None
+        };
+        Ok(Self { feed_forward, trim, dc, clamps_before: ClampCounts::default() })
+    }
+}
+
+/// Frequency-trim gain per housekeeping window (demo value).
+const TRIM_GAIN: f32 = 0.05;
+/// DC-correction gain per window and its bound, codes (demo values).
+const DC_GAIN: f32 = 0.05;
+/// ± codes the DC correction may move the reference.
+const DC_LIMIT_CODES: f32 = 40.0;
 
 /// How much of the gap to the observer's current the estimate closes per
 /// housekeeping step.
@@ -230,6 +286,7 @@ impl Firmware {
                 volume_m3: c.volume_m3 as f32,
             }),
         };
+        let regulation = SlowRegulation::build(scenario, &clock, setpoint)?;
         let stack = Supervisor::new(controller, estimator, limits);
         Ok((
             Self {
@@ -242,6 +299,7 @@ impl Firmware {
                 observer_r_ohm,
                 last_vin_v: 0.0,
                 hold_windows: OBSERVER_HOLD,
+                regulation,
             },
             source,
         ))
@@ -261,6 +319,7 @@ impl Firmware {
             if input_moved { OBSERVER_HOLD } else { self.hold_windows.saturating_sub(1) };
         let vout_v = self.last_output_v();
         self.report.losses = self.loss.evaluate(&phases, vin_v, vout_v);
+        self.regulate(&phases, vin_v);
         self.report.observer_current_a = f32::NAN;
         let Some(observer) = self.observer.as_mut() else { return };
         if phases.cycles == 0 || self.stack.state() != State::Regulating {
@@ -282,6 +341,32 @@ impl Firmware {
         if phases.dcm_cycles == 0 && self.hold_windows == 0 {
             let gap = (i_obs - phases.average_a()) * OBSERVER_BLEND;
             self.stack.estimator_mut().shift(crate::estimate::amps(gap));
+        }
+    }
+
+    /// Slow path: feed-forward and trim of an on-time law, DC correction
+    /// of the reference; only while regulating.
+    fn regulate(&mut self, phases: &crate::estimate::Phases, vin_v: f32) {
+        let r = &mut self.regulation;
+        if self.stack.state() != State::Regulating {
+            if let Some(dc) = r.dc.as_mut() {
+                dc.reset();
+            }
+            return;
+        }
+        let clamps = self.stack.inner().clamps();
+        let binding = clamps.min_period != r.clamps_before.min_period
+            || clamps.slow_periods != r.clamps_before.slow_periods
+            || clamps.max_on != r.clamps_before.max_on;
+        r.clamps_before = clamps;
+        let mean_period = (phases.cycles > 0).then(|| phases.time_s / phases.cycles as f32);
+        let trim = r.trim.as_mut().map_or(1.0, |t| t.update(mean_period, binding));
+        if let (Some(ff), Controller::OnTime(g)) = (r.feed_forward, self.stack.inner_mut()) {
+            g.inner_mut().set_on_ticks(ff.on_ticks(vin_v, trim));
+        }
+        if let Some(dc) = r.dc.as_mut() {
+            let mean = f32::from(self.stack.output_average());
+            dc.update(mean, self.stack.inner_mut());
         }
     }
 

@@ -94,6 +94,22 @@ pub enum LawParams {
         /// Sampled or comparator-edge input.
         input: HystereticInput,
     },
+    /// The crate's constant on-time law.
+    OnTime {
+        /// Output reference (valley), V.
+        setpoint_v: f32,
+        /// On-time without feed-forward (the starting one with it), s.
+        on_time_s: f32,
+        /// Sampled, or a comparator against the reference (edge).
+        input: HystereticInput,
+        /// Input feed-forward to this frequency, Hz; omitted: fixed on-time.
+        #[serde(default)]
+        feed_forward_hz: Option<f32>,
+        /// Trim the on-time so the mean frequency locks to
+        /// `feed_forward_hz`.
+        #[serde(default)]
+        trim: bool,
+    },
     /// A board's existing analog comparator loop (Schmitt trigger on the
     /// output) whose edges pass through the firmware guard.
     AnalogRetrofit {
@@ -118,7 +134,9 @@ impl LawParams {
     /// The output voltage the law regulates to, V.
     pub fn setpoint_v(&self) -> f64 {
         match self {
-            Self::Hysteretic { setpoint_v, .. } => f64::from(*setpoint_v),
+            Self::Hysteretic { setpoint_v, .. } | Self::OnTime { setpoint_v, .. } => {
+                f64::from(*setpoint_v)
+            }
             Self::AnalogRetrofit { lower_v, upper_v } => 0.5 * (lower_v + upper_v),
         }
     }
@@ -127,6 +145,7 @@ impl LawParams {
     pub fn band_v(&self) -> f64 {
         match self {
             Self::Hysteretic { band_v, .. } => f64::from(*band_v),
+            Self::OnTime { .. } => 0.0,
             Self::AnalogRetrofit { lower_v, upper_v } => upper_v - lower_v,
         }
     }
@@ -140,6 +159,9 @@ pub struct ControlParams {
     pub law: LawParams,
     /// The frequency window.
     pub window: WindowConfig,
+    /// Trim the reference so the mean output sits at the setpoint.
+    #[serde(default)]
+    pub dc_correction: bool,
 }
 
 /// One simulation run.
@@ -385,6 +407,17 @@ impl Scenario {
         }
         match self.control.law {
             LawParams::Hysteretic { .. } => {}
+            LawParams::OnTime { on_time_s, feed_forward_hz, trim, .. } => {
+                positive("control.law.on_time_s", f64::from(on_time_s))?;
+                if let Some(f) = feed_forward_hz {
+                    positive("control.law.feed_forward_hz", f64::from(f))?;
+                } else if trim {
+                    return Err(invalid(
+                        "control.law.trim",
+                        "needs feed_forward_hz, the frequency to lock to",
+                    ));
+                }
+            }
             LawParams::AnalogRetrofit { lower_v, upper_v } => {
                 positive("control.law.lower_v", lower_v)?;
                 if upper_v <= lower_v {

@@ -44,6 +44,15 @@ pub fn loop_delay_s(s: &Scenario) -> f64 {
 
 /// The closed-form frequency for a scenario at one operating point, Hz.
 pub fn predicted_frequency(s: &Scenario, vin: f64, load_a: f64) -> f64 {
+    if let LawParams::OnTime { on_time_s, feed_forward_hz, .. } = s.control.law {
+        // With feed-forward the target; else f = D/T_on (CCM).
+        return match feed_forward_hz {
+            Some(f) => f64::from(f),
+            None => {
+                design::on_time_frequency(vin, s.control.law.setpoint_v(), f64::from(on_time_s))
+            }
+        };
+    }
     let p = &s.plant;
     let vout = s.control.law.setpoint_v();
     // Volt-second balance with the conduction drops sets the effective
