@@ -181,7 +181,7 @@ impl OnTimeFeedForward {
     /// The on-time for input `vin_v`, ticks, times `trim` (1 = none);
     /// at least one tick. (Slow path: divides.)
     pub fn on_ticks(&self, vin_v: f32, trim: f32) -> u32 {
-        if !(vin_v > 0.0) || !trim.is_finite() {
+        if vin_v.is_nan() || vin_v <= 0.0 || !trim.is_finite() {
             return 1;
         }
         let t = self.volt_ticks / vin_v * trim;
