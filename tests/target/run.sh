@@ -32,7 +32,7 @@ done
 
 # Budgets (instructions per call) on the Cortex-M4; the Cortex-M0 gets twice
 # as many. Keys are the `op=` names.
-declare -A budget=([hysteretic_guard]=40 [estimator_edge]=80 [estimator_sample]=80 [supervisor]=40)
+declare -A budget=([hysteretic_guard]=40 [on_time_guard]=60 [estimator_edge]=80 [estimator_sample]=80 [supervisor]=40)
 grep -q "vectors core=m0 match=true" "$out" || { echo "m0 vectors did not match" >&2; status=1; }
 grep -q "vectors core=m4 match=true" "$out" || { echo "m4 vectors did not match" >&2; status=1; }
 while read -r _ core op n; do
@@ -57,6 +57,7 @@ n_of() { sed -n "s/^insns core=$1 op=$2 n=\([0-9]*\)$/\1/p" "$out"; }
         echo "| $label | $(n_of m0 "$op") | $(n_of m4 "$op") | $b |"
     done <<'ROWS'
 hysteretic_guard|hysteretic law + guard, per sample
+on_time_guard|on-time law + guard, per sample
 passthrough_guard|comparator pass-through + guard, per edge
 estimator_edge|current estimator, per gate edge
 estimator_sample|current estimator, per output reading

@@ -9,7 +9,7 @@
 #![no_std]
 
 use ripplectl::estimate::{CurrentEstimator, InductorModel};
-use ripplectl::law::{ComparatorPassThrough, Hysteretic, HystereticConfig};
+use ripplectl::law::{ComparatorPassThrough, Hysteretic, HystereticConfig, OnTime, OnTimeConfig};
 use ripplectl::supervisor::{Limits, ProtectionConfig, State, Supervisor};
 use ripplectl::{
     AdcChannel, Command, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig,
@@ -44,8 +44,12 @@ pub mod op {
     pub const SUP_HOUSEKEEPING: u32 = 8;
     /// Configuration results (thresholds, window ticks).
     pub const CONFIG: u32 = 9;
+    /// On-time law + guard, `on_sample(a as u16, b)`.
+    pub const COT_SAMPLE: u32 = 10;
+    /// On-time law + guard, `on_timer(b)`.
+    pub const COT_TIMER: u32 = 11;
     /// Number of operations.
-    pub const COUNT: u32 = 10;
+    pub const COUNT: u32 = 12;
 }
 
 /// The demo's firmware objects.
@@ -54,6 +58,8 @@ pub struct Rig {
     pub guard: FrequencyGuard<Hysteretic>,
     /// Comparator pass-through inside the guard.
     pub edge: FrequencyGuard<ComparatorPassThrough>,
+    /// On-time law inside the guard.
+    pub on_time: FrequencyGuard<OnTime>,
     /// A free-standing current estimator.
     pub estimator: CurrentEstimator,
     /// Supervisor around law and guard.
@@ -104,6 +110,11 @@ impl Rig {
         Some(Self {
             guard: FrequencyGuard::new(law, window),
             edge: FrequencyGuard::new(ComparatorPassThrough::new(true), window),
+            on_time: FrequencyGuard::new(
+                OnTime::new(&OnTimeConfig { setpoint_v: 5.0, on_time_s: 2.08e-6 }, &vout, &clock)
+                    .ok()?,
+                window,
+            ),
             estimator,
             stack: Supervisor::new(FrequencyGuard::new(law, window), sup_estimator, limits),
             vout,

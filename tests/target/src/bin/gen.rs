@@ -35,7 +35,7 @@ fn main() -> std::io::Result<()> {
         t = t.wrapping_add(1 + rng.below(180));
         let operation = rng.below(op::COUNT);
         let a = match operation {
-            op::HYST_SAMPLE | op::SUP_SAMPLE | op::EST_OUT => {
+            op::HYST_SAMPLE | op::SUP_SAMPLE | op::EST_OUT | op::COT_SAMPLE => {
                 if rng.below(8) == 0 {
                     rng.below(4096)
                 } else {

@@ -125,6 +125,16 @@ fn main() -> ! {
             black_box(rig.guard.on_sample(code(i), at(i, 64, b)));
         },
     );
+    let b = next_base(64 * CALLS);
+    meter.report(
+        "on_time_guard",
+        |i| {
+            black_box((code(i), at(i, 64, b)));
+        },
+        |i| {
+            black_box(rig.on_time.on_sample(code(i), at(i, 64, b)));
+        },
+    );
     let b = next_base(320 * CALLS);
     meter.report(
         "passthrough_guard",

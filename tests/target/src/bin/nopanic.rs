@@ -38,6 +38,9 @@ fn main() -> ! {
         output(u32::from(rig.guard.on_edge(level, now).gate.is_on()));
         output(u32::from(rig.guard.on_timer(now).gate.is_on()));
         output(u32::from(rig.edge.on_edge(level, now).gate.is_on()));
+        output(u32::from(rig.on_time.on_sample(code, now).gate.is_on()));
+        output(u32::from(rig.on_time.on_edge(level, now).gate.is_on()));
+        output(u32::from(rig.on_time.on_timer(now).gate.is_on()));
         output(rig.estimator.on_gate(gate, now).map_or(0, |c| c.on_ticks));
         output(rig.estimator.current_at(now).to_bits() as u32);
         rig.estimator.on_output_code(code, now);
@@ -50,5 +53,7 @@ fn main() -> ! {
         output(u32::from(rig.stack.on_edge(level, now).gate.is_on()));
         output(u32::from(rig.stack.on_timer(now).gate.is_on()));
         output(rig.stack.on_output_reading(code, now).map_or(0, |c| u32::from(c.gate.is_on())));
+        rig.stack.on_input_reading(code, now);
+        rig.estimator.on_input_code(code, now);
     }
 }
