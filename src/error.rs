@@ -67,6 +67,9 @@ pub enum ConfigError {
     CurrentLimitNotPositive,
     /// A count that must be at least one is zero.
     CountZero,
+    /// The output's own ripple is too small for a plain valley on-time loop
+    /// (`ESR·C` not above half the on-time): configure emulated ripple.
+    RippleTooSmall,
 }
 
 impl ConfigError {
@@ -102,6 +105,7 @@ impl ConfigError {
             Self::ThresholdsOutOfOrder => "protection thresholds are out of order",
             Self::CurrentLimitNotPositive => "current limit must be positive",
             Self::CountZero => "a count must be at least one",
+            Self::RippleTooSmall => "ESR times C is below half the on-time: the plain on-time loop would be unstable; add emulated ripple",
         }
     }
 }

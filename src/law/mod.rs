@@ -22,7 +22,7 @@ pub mod passthrough;
 
 pub use dc_correction::DcCorrection;
 pub use hysteretic::{Hysteretic, HystereticConfig, Threshold};
-pub use on_time::{FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward};
+pub use on_time::{EmulatedRipple, FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward};
 pub use passthrough::ComparatorPassThrough;
 
 use crate::tick::Instant;

@@ -42,7 +42,102 @@ pub struct OnTime {
     on_ticks: u32,
     gate_on: bool,
     on_since: Instant,
+    off_since: Instant,
     demand: Gate,
+    ripple: Option<EmulatedRipple>,
+    ripple_peak: u32,
+    predicted: Option<Instant>,
+}
+
+/// Emulated ripple added to the sensed output before the valley compare: a
+/// sawtooth in phase with the inductor current, zero at each turn-on,
+/// rising through the on-time, falling at the inductor's off-slope ratio
+/// and floored at zero. It gives a ceramic-only output (negligible ESR) the
+/// current-shaped ripple a valley loop needs.
+///
+/// Slopes: `u32` in 2⁻¹⁶ ADC codes per tick; each segment's ramp is one
+/// 32-bit multiply (segments beyond 2¹⁶ ticks saturate the ramp).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct EmulatedRipple {
+    up: u32,
+    down: u32,
+    /// Ticks per code of the falling ramp, 2⁻⁸ ticks (≤ 2¹⁹).
+    ticks_per_code: u32,
+    /// Predict a crossing only this many ticks ahead (a sampling period).
+    horizon: u32,
+}
+
+impl EmulatedRipple {
+    /// A ramp of `amplitude_v` (at the sensed output) over the on-time
+    /// `on_ticks`, falling at `duty/(1 − duty)` of that rate.
+    ///
+    /// Errors: [`ConfigError::NotFinite`], [`ConfigError::BandNotPositive`]
+    /// for a non-positive amplitude, [`ConfigError::ThresholdsOutOfOrder`]
+    /// for a duty outside (0, 1).
+    ///
+    /// `sample_ticks`: the sampling period; while off, a sample that shows
+    /// the falling ramp will cross the reference before the next sample sets
+    /// a timer deadline at the predicted tick, so turn-ons are not quantized
+    /// to the sampling period.
+    pub fn new(
+        amplitude_v: f32,
+        on_ticks: u32,
+        duty: f32,
+        adc: &AdcChannel,
+        sample_ticks: u32,
+    ) -> Result<Self, ConfigError> {
+        if finite(amplitude_v)? <= 0.0 {
+            return Err(ConfigError::BandNotPositive);
+        }
+        if !(finite(duty)? > 0.0 && duty < 1.0) {
+            return Err(ConfigError::ThresholdsOutOfOrder);
+        }
+        let codes = adc.span_codes(f64::from(amplitude_v)) as f32;
+        let up = codes * 65_536.0 / on_ticks.max(1) as f32;
+        let mut r = Self { up: Self::bits(up), down: 0, ticks_per_code: 0, horizon: sample_ticks };
+        r.set_duty(duty);
+        Ok(r)
+    }
+
+    fn bits(x: f32) -> u32 {
+        if x >= u32::MAX as f32 {
+            u32::MAX
+        } else if x > 0.0 {
+            x as u32
+        } else {
+            0
+        }
+    }
+
+    /// Slow path: follow the duty (`V_out/V_in`) so the ramp returns to
+    /// zero at the next turn-on in steady state.
+    pub fn set_duty(&mut self, duty: f32) {
+        if duty > 0.0 && duty < 1.0 {
+            self.down = Self::bits(self.up as f32 * duty / (1.0 - duty));
+            // 2²⁴ / down: ticks per code in 2⁻⁸ ticks, capped at 2¹⁹ so a
+            // margin below 16 codes (in 2⁻⁸ codes) times it fits 31 bits.
+            self.ticks_per_code = if self.down == 0 {
+                0
+            } else {
+                (16_777_216.0 / self.down as f32).min(524_288.0) as u32
+            };
+        }
+    }
+
+    /// Ticks until the falling ramp closes a margin of `margin_q16`
+    /// (2⁻¹⁶ codes), if within the horizon (fast path: one multiply).
+    #[inline(always)]
+    fn crossing_in(&self, margin_q16: u32) -> Option<u32> {
+        let margin_q8 = (margin_q16 >> 8).min(4_095);
+        let ticks = (margin_q8 * self.ticks_per_code) >> 16;
+        (self.ticks_per_code != 0 && ticks < self.horizon).then_some(ticks)
+    }
+
+    #[inline(always)]
+    fn ramp(rate: u32, ticks: u32) -> u32 {
+        rate.saturating_mul(ticks.min(u32::from(u16::MAX)))
+    }
 }
 
 impl OnTime {
@@ -68,8 +163,55 @@ impl OnTime {
             on_ticks,
             gate_on: false,
             on_since: Instant(0),
+            off_since: Instant(0),
             demand: Gate::Off,
+            ripple: None,
+            ripple_peak: 0,
+            predicted: None,
         })
+    }
+
+    /// Add emulated ripple (configuration).
+    pub fn with_emulated_ripple(mut self, ripple: EmulatedRipple) -> Self {
+        self.ripple = Some(ripple);
+        self
+    }
+
+    /// The emulated ripple, mutable (slow path: its duty).
+    pub fn emulated_ripple_mut(&mut self) -> Option<&mut EmulatedRipple> {
+        self.ripple.as_mut()
+    }
+
+    /// Whether the plain valley loop (no emulated ripple) is stable with an
+    /// output capacitor of `c_f` and ESR `esr_ohm` at on-time `on_time_s`:
+    /// the ESR's ripple, in phase with the inductor current, must dominate
+    /// the capacitor's own, which lags it; the usual condition for valley
+    /// on-time control is `ESR·C > T_on/2` (from memory of the ripple-based
+    /// control literature, not derived here). With emulated ripple
+    /// configured the check passes.
+    ///
+    /// Errors: [`ConfigError::RippleTooSmall`], [`ConfigError::NotFinite`].
+    pub fn check_ripple(&self, esr_ohm: f32, c_f: f32, on_time_s: f32) -> Result<(), ConfigError> {
+        if self.ripple.is_some() {
+            return Ok(());
+        }
+        if finite(esr_ohm)? * finite(c_f)? > finite(on_time_s)? / 2.0 {
+            Ok(())
+        } else {
+            Err(ConfigError::RippleTooSmall)
+        }
+    }
+
+    /// The emulated ramp now, 2⁻¹⁶ codes (fast path: one multiply).
+    #[inline(always)]
+    fn emulated_q16(&self, now: Instant) -> u32 {
+        let Some(r) = self.ripple else { return 0 };
+        if self.gate_on {
+            EmulatedRipple::ramp(r.up, now.ticks_since(self.on_since))
+        } else {
+            self.ripple_peak
+                .saturating_sub(EmulatedRipple::ramp(r.down, now.ticks_since(self.off_since)))
+        }
     }
 
     /// The on-time, ticks.
@@ -112,10 +254,22 @@ impl OnTime {
 impl Law for OnTime {
     #[inline]
     fn on_sample(&mut self, code: u16, now: Instant) -> Command {
-        if !self.gate_on && code <= self.reference {
-            self.demand = Gate::On;
+        if !self.gate_on {
+            // Sensed + ramp against the reference, in 2⁻¹⁶ codes.
+            let sensed = (u32::from(code) << 16).saturating_add(self.emulated_q16(now));
+            let reference = u32::from(self.reference) << 16;
+            if sensed <= reference {
+                self.demand = Gate::On;
+            } else if let Some(r) = self.ripple {
+                // The ramp alone will cross before the next sample: turn on
+                // at the predicted tick.
+                self.predicted = r.crossing_in(sensed - reference).map(|t| now.after(t));
+            }
         }
-        self.command(now)
+        match (self.demand, self.predicted) {
+            (Gate::Off, Some(at)) => Command::until(Gate::Off, at),
+            _ => self.command(now),
+        }
     }
 
     /// `level`: the comparator against the reference (true: above).
@@ -129,15 +283,29 @@ impl Law for OnTime {
 
     #[inline]
     fn on_timer(&mut self, now: Instant) -> Command {
+        if let Some(at) = self.predicted {
+            if !self.gate_on && now.ticks_since(at) < crate::tick::MAX_DURATION_TICKS {
+                self.demand = Gate::On;
+                self.predicted = None;
+            }
+        }
         self.command(now)
     }
 
     #[inline]
     fn on_gate(&mut self, gate: Gate, at: Instant) {
-        self.gate_on = gate.is_on();
-        if self.gate_on {
+        if gate.is_on() {
+            self.gate_on = true;
             self.on_since = at;
+            self.predicted = None;
         } else {
+            if self.gate_on {
+                self.ripple_peak = self
+                    .ripple
+                    .map_or(0, |r| EmulatedRipple::ramp(r.up, at.ticks_since(self.on_since)));
+            }
+            self.gate_on = false;
+            self.off_since = at;
             // An on-time ended early (a guard or a limit) still ends.
             self.demand = Gate::Off;
         }

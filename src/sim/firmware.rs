@@ -8,7 +8,7 @@ use crate::estimate::{
 };
 use crate::guard::{ClampCounts, FrequencyGuard, Window};
 use crate::law::{
-    Command, ComparatorPassThrough, DcCorrection, FrequencyTrim, Gate, Hysteretic,
+    Command, ComparatorPassThrough, DcCorrection, EmulatedRipple, FrequencyTrim, Gate, Hysteretic,
     HystereticConfig, Law, OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
 };
 use crate::scale::{AdcChannel, TimerClock};
@@ -75,12 +75,33 @@ impl Controller {
                 };
                 (Self::Hysteretic(FrequencyGuard::new(law, window)), source)
             }
-            LawParams::OnTime { setpoint_v, on_time_s, input, .. } => {
-                let law = OnTime::new(
-                    &OnTimeConfig { setpoint_v, on_time_s },
-                    &output_channel(&scenario.mcu)?,
-                    clock,
-                )?;
+            LawParams::OnTime {
+                setpoint_v,
+                on_time_s,
+                input,
+                emulated_ripple_v,
+                skip_stability_check,
+                ..
+            } => {
+                let adc = output_channel(&scenario.mcu)?;
+                let mut law = OnTime::new(&OnTimeConfig { setpoint_v, on_time_s }, &adc, clock)?;
+                if let Some(amplitude) = emulated_ripple_v {
+                    let vin0 =
+                        scenario.input.points.first().map_or(f64::from(setpoint_v) * 2.0, |p| p[1]);
+                    let duty = (f64::from(setpoint_v) / vin0) as f32;
+                    let sample_ticks =
+                        (f64::from(scenario.mcu.clock_hz) / scenario.mcu.sample_rate_hz) as u32;
+                    let ripple =
+                        EmulatedRipple::new(amplitude, law.on_ticks(), duty, &adc, sample_ticks)?;
+                    law = law.with_emulated_ripple(ripple);
+                }
+                if !skip_stability_check {
+                    law.check_ripple(
+                        scenario.plant.esr_ohm as f32,
+                        scenario.plant.c_f as f32,
+                        on_time_s,
+                    )?;
+                }
                 let source = match input {
                     HystereticInput::Sampled => ComparatorSource::None,
                     HystereticInput::Edge => ComparatorSource::Dac,
@@ -198,6 +219,7 @@ struct SlowRegulation {
     trim: Option<FrequencyTrim>,
     dc: Option<DcCorrection>,
     clamps_before: ClampCounts,
+    setpoint_v: f32,
 }
 
 impl SlowRegulation {
@@ -214,7 +236,13 @@ impl SlowRegulation {
         } else {
             None
         };
-        Ok(Self { feed_forward, trim, dc, clamps_before: ClampCounts::default() })
+        Ok(Self {
+            feed_forward,
+            trim,
+            dc,
+            clamps_before: ClampCounts::default(),
+            setpoint_v: scenario.control.law.setpoint_v() as f32,
+        })
     }
 }
 
@@ -361,8 +389,13 @@ impl Firmware {
         r.clamps_before = clamps;
         let mean_period = (phases.cycles > 0).then(|| phases.time_s / phases.cycles as f32);
         let trim = r.trim.as_mut().map_or(1.0, |t| t.update(mean_period, binding));
-        if let (Some(ff), Controller::OnTime(g)) = (r.feed_forward, self.stack.inner_mut()) {
-            g.inner_mut().set_on_ticks(ff.on_ticks(vin_v, trim));
+        if let Controller::OnTime(g) = self.stack.inner_mut() {
+            if let Some(ff) = r.feed_forward {
+                g.inner_mut().set_on_ticks(ff.on_ticks(vin_v, trim));
+            }
+            if let Some(ripple) = g.inner_mut().emulated_ripple_mut() {
+                ripple.set_duty(r.setpoint_v / vin_v);
+            }
         }
         if let Some(dc) = r.dc.as_mut() {
             let mean = f32::from(self.stack.output_average());

@@ -109,6 +109,14 @@ pub enum LawParams {
         /// `feed_forward_hz`.
         #[serde(default)]
         trim: bool,
+        /// Emulated ripple amplitude at the output, V (sampled input only);
+        /// omitted: none.
+        #[serde(default)]
+        emulated_ripple_v: Option<f32>,
+        /// Run even when the plain loop fails the ripple stability check
+        /// (to see the failure).
+        #[serde(default)]
+        skip_stability_check: bool,
     },
     /// A board's existing analog comparator loop (Schmitt trigger on the
     /// output) whose edges pass through the firmware guard.

@@ -1,0 +1,70 @@
+//! Constant on-time with a ceramic-only output (ESR 3 mΩ, 94 µF): the plain
+//! valley loop fails the ripple check and, run anyway, oscillates at a
+//! subharmonic; emulated ripple makes it stable.
+
+use ripplectl::sim::scenario::LawParams;
+use ripplectl::sim::sweep::operating_point;
+use ripplectl::sim::{self, RunError, Scenario};
+use ripplectl::ConfigError;
+
+fn ceramic() -> Scenario {
+    let text = std::fs::read_to_string(
+        std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("examples/scenarios/on-time-ceramic.toml"),
+    )
+    .unwrap();
+    Scenario::from_toml(&text).unwrap()
+}
+
+fn without_emulated_ripple(mut s: Scenario, skip_check: bool) -> Scenario {
+    if let LawParams::OnTime { emulated_ripple_v, skip_stability_check, .. } = &mut s.control.law {
+        *emulated_ripple_v = None;
+        *skip_stability_check = skip_check;
+    }
+    s
+}
+
+/// Mean |T(n) − T(n−1)| over the mean period, for cycles starting in the
+/// second half of the run (constant conditions, settled).
+fn period_jitter(s: &Scenario) -> f64 {
+    let out = sim::run(s).unwrap();
+    let p: Vec<f64> = out
+        .recorder
+        .cycles
+        .iter()
+        .filter(|c| c.t_s >= s.duration_s / 2.0 && c.period_s.is_finite())
+        .map(|c| c.period_s)
+        .collect();
+    let mean = p.iter().sum::<f64>() / p.len() as f64;
+    p.windows(2).map(|w| (w[1] - w[0]).abs()).sum::<f64>() / (p.len() - 1) as f64 / mean
+}
+
+#[test]
+fn the_ripple_check_refuses_the_plain_loop() {
+    let s = without_emulated_ripple(ceramic(), false);
+    assert_eq!(sim::run(&s).unwrap_err(), RunError::Config(ConfigError::RippleTooSmall));
+    // The polymer output (40 mΩ, 220 µF: ESR·C = 8.8 µs ≫ T_on/2) passes.
+    let mut polymer = s.clone();
+    polymer.plant.esr_ohm = 0.040;
+    polymer.plant.c_f = 220e-6;
+    assert!(sim::run(&polymer).is_ok());
+}
+
+#[test]
+fn plain_loop_doubles_its_period_and_emulated_ripple_steadies_it() {
+    let base = ceramic();
+    for (vin, load) in [(18.0, 2.0), (24.0, 1.0), (24.0, 2.0), (32.0, 2.0)] {
+        let stable = operating_point(&base, vin, load, 8e-3);
+        let plain = without_emulated_ripple(stable.clone(), true);
+        let (j_stable, j_plain) = (period_jitter(&stable), period_jitter(&plain));
+        eprintln!(
+            "{vin} V {load} A: period jitter {:.3} with emulated ripple, {:.3} without",
+            j_stable, j_plain
+        );
+        assert!(j_plain > 0.20, "{vin} V {load} A: the plain loop should be unstable ({j_plain})");
+        // Issue 4 targets at most 5 %: met at 18 and 24 V (0.5-3.7 %), not
+        // yet at 32 V / 2 A (5.4 %). This bound is what is shown so far.
+        assert!(j_stable <= 0.07, "{vin} V {load} A: jitter {j_stable}");
+        assert!(j_plain > 8.0 * j_stable, "{vin} V {load} A: {j_plain} vs {j_stable}");
+    }
+}
