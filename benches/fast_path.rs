@@ -3,7 +3,9 @@
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use ripplectl::estimate::{CurrentEstimator, InductorModel};
-use ripplectl::law::{ComparatorPassThrough, Hysteretic, HystereticConfig};
+use ripplectl::law::{
+    ComparatorPassThrough, EmulatedRipple, Hysteretic, HystereticConfig, OnTime, OnTimeConfig,
+};
 use ripplectl::supervisor::{Limits, ProtectionConfig, Supervisor};
 use ripplectl::{AdcChannel, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig};
 use std::hint::black_box;
@@ -107,5 +109,35 @@ fn bench_supervisor(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, bench_hysteretic, bench_passthrough, bench_estimator, bench_supervisor);
+fn bench_on_time(c: &mut Criterion) {
+    let adc = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0).unwrap();
+    let clock = TimerClock::new(64_000_000).unwrap();
+    let law =
+        OnTime::new(&OnTimeConfig { setpoint_v: 5.0, on_time_s: 2.08e-6 }, &adc, &clock).unwrap();
+    let ripple = EmulatedRipple::new(0.1, law.on_ticks(), 5.0 / 24.0, &adc, 64).unwrap();
+    let codes = ripple_codes();
+    for (name, law) in [
+        ("on-time + guard on_sample", law),
+        ("on-time (emulated ripple) + guard on_sample", law.with_emulated_ripple(ripple)),
+    ] {
+        let mut guarded = demo_guard(law);
+        let (mut t, mut i) = (0u32, 0usize);
+        c.bench_function(name, |b| {
+            b.iter(|| {
+                t = t.wrapping_add(64);
+                i = (i + 1) & 63;
+                black_box(guarded.on_sample(black_box(codes[i]), Instant(t)))
+            })
+        });
+    }
+}
+
+criterion_group!(
+    benches,
+    bench_hysteretic,
+    bench_passthrough,
+    bench_on_time,
+    bench_estimator,
+    bench_supervisor
+);
 criterion_main!(benches);
