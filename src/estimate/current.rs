@@ -414,12 +414,10 @@ impl CurrentEstimator {
     /// [`follow_output`](Self::follow_output) was called.
     #[inline]
     pub fn on_output_code(&mut self, code: u16, now: Instant) {
-        if self.out_code.term == 0 {
-            return;
+        if let Some(term) = self.reading_term(self.out_code, code, now) {
+            self.vout_term = term;
+            self.refresh_slopes();
         }
-        self.close_segment(now);
-        self.vout_term = self.out_code.slope(code).min(self.slope_cap);
-        self.refresh_slopes();
     }
 
     /// Fast path: a fresh input reading taken at `now` (scan the input with
@@ -427,12 +425,21 @@ impl CurrentEstimator {
     /// Does nothing until [`follow_input`](Self::follow_input) was called.
     #[inline]
     pub fn on_input_code(&mut self, code: u16, now: Instant) {
-        if self.in_code.term == 0 {
-            return;
+        if let Some(term) = self.reading_term(self.in_code, code, now) {
+            self.vin_term = term;
+            self.refresh_slopes();
+        }
+    }
+
+    /// A reading's slope share, after closing the segment up to `now`;
+    /// `None` for a channel not followed.
+    #[inline(always)]
+    fn reading_term(&mut self, scale: CodeScale, code: u16, now: Instant) -> Option<i32> {
+        if scale.term == 0 {
+            return None;
         }
         self.close_segment(now);
-        self.vin_term = self.in_code.slope(code).min(self.slope_cap);
-        self.refresh_slopes();
+        Some(scale.slope(code).min(self.slope_cap))
     }
 
     #[inline(always)]
