@@ -90,7 +90,7 @@ fn ccm_dcm_boundary_matches_erickson() {
     // A triangle from zero (exactly at the boundary the clamp at zero may
     // or may not engage): its mean is (peak + valley)/2 = peak/2.
     assert!(c.valley.to_num::<f32>().abs() < 1e-3, "valley {}", c.valley);
-    let avg = f64::from(((c.peak + c.valley) / 2).to_num::<f32>());
+    let avg = f64::from(est.cycle_average(&c).to_num::<f32>());
     assert!((avg - i_crit).abs() / i_crit < 0.01, "boundary average {avg} vs {i_crit}");
     // A longer period at the same on-time idles at zero: DCM.
     let mut light = CurrentEstimator::new(&lossless(l), &clock, 40.0).unwrap();
@@ -107,6 +107,9 @@ fn ccm_dcm_boundary_matches_erickson() {
     let want = q / (f64::from(2 * period) / f64::from(CLOCK));
     let got = f64::from(light.take_window().average_a());
     assert!((got - want).abs() / want < 0.01, "DCM average {got} vs {want}");
+    // The same, cycle by cycle.
+    let per_cycle = f64::from(light.cycle_average(&c).to_num::<f32>());
+    assert!((per_cycle - want).abs() / want < 0.01, "DCM cycle average {per_cycle} vs {want}");
 }
 
 #[test]

@@ -581,6 +581,20 @@ impl CurrentEstimator {
         };
     }
 
+    /// A cycle's average current (slow path): the trapezoid's mean
+    /// `(peak + valley)/2` in CCM; in DCM the triangle's charge
+    /// `½·peak·(T_on + T_fall)` over the period, `T_fall` at the off-slope.
+    pub fn cycle_average(&self, c: &CycleCurrents) -> Amps {
+        let (peak, valley) = (c.peak.to_num::<f32>(), c.valley.to_num::<f32>());
+        if !c.dcm || c.period_ticks == 0 {
+            return saturate(0.5 * (peak + valley));
+        }
+        let fall_per_tick = -I8F24::from_bits(self.slope_off).to_num::<f32>();
+        let rest = c.period_ticks.saturating_sub(c.on_ticks) as f32;
+        let t_fall = if fall_per_tick > 0.0 { (peak / fall_per_tick).min(rest) } else { rest };
+        saturate(0.5 * peak * (c.on_ticks as f32 + t_fall) / c.period_ticks as f32)
+    }
+
     /// Phase currents of `totals` (slow path).
     pub fn phases(&self, totals: &WindowTotals) -> Phases {
         let n = totals.cycles as f32;
