@@ -450,13 +450,9 @@ impl Plant {
 
     /// Set the drive (input and load) from now on; restarts `τ`.
     pub fn set_environment(&mut self, env: Environment) {
-        if env.load_g_s != self.env.load_g_s
-            || env.vin_v != self.env.vin_v
-            || env.vin_slope != self.env.vin_slope
-            || env.load_i_a != self.env.load_i_a
-            || env.load_i_slope != self.env.load_i_slope
-            || self.tau != 0.0
-        {
+        // The cached propagators depend on the system matrix alone, which
+        // the environment (with mode and band) fixes; τ is state.
+        if env != self.env {
             self.cache.clear();
         }
         self.env = env;
