@@ -33,13 +33,15 @@
 //! Formats (all `fixed` types or their raw bits):
 //! - current [`Amps`]: `I16F16`, amperes, LSB 2⁻¹⁶ A (15.3 µA), held within
 //!   ±2 048 A (beyond, it saturates);
-//! - slopes: `I8F24` amperes per timer tick, LSB 2⁻²⁴ A/tick, within the
-//!   largest slope the input channel's full scale allows;
+//! - slopes: `I8F24` amperes per timer tick, LSB 2⁻²⁴ A/tick; each part
+//!   within the largest slope the input channel's full scale allows ("cap"),
+//!   a segment's slope within twice that;
 //! - a segment is integrated over at most [`CurrentEstimator::max_segment_ticks`]
-//!   ticks, so that slope × ticks fits 32 bits: the time to ramp 128 A at the
-//!   steepest slope (150 µs for 47 µH and a 40 V input), far longer than any
-//!   CCM segment, whose current changes by a ripple; an idle DCM gap beyond
-//!   it changes nothing at zero current.
+//!   ticks, so that slope × ticks fits 32 bits: the time to ramp 64 A at the
+//!   steepest slope (75 µs for 47 µH and a 40 V input). Readings and edges
+//!   start new segments, so only a stretch with neither is cut short: keep
+//!   readings (or [`CurrentEstimator::update`]) coming faster than that; an
+//!   idle DCM gap beyond it changes nothing at zero current.
 
 use crate::error::{finite, ConfigError};
 use crate::law::Gate;
@@ -227,8 +229,13 @@ pub struct CurrentEstimator {
     // Readings' shares of the slopes.
     out_code: CodeScale,
     in_code: CodeScale,
-    slope_on: i32,
-    slope_off: i32,
+    // The slopes less the output's share (each within ±cap): a segment's
+    // slope is its base less `vout_term`, within ±2·cap.
+    on_base: i32,
+    off_base: i32,
+    // Lowest current of an off-segment: zero for a diode stage, else
+    // −CURRENT_LIMIT_BITS.
+    off_floor: i32,
     ticks_per_amp_on: u32,
     // State.
     gate: Gate,
@@ -330,7 +337,8 @@ impl CurrentEstimator {
             tick_s,
             model: *model,
             inv_l_tick,
-            max_segment: (i32::MAX / cap) as u32,
+            // |slope| ≤ 2·cap (see `on_base`), so slope × ticks fits.
+            max_segment: (i32::MAX / cap / 2) as u32,
             slope_cap: cap,
             vin_term: 0,
             vout_term: 0,
@@ -339,8 +347,9 @@ impl CurrentEstimator {
             drop_off: 0,
             out_code: CodeScale::default(),
             in_code: CodeScale::default(),
-            slope_on: 0,
-            slope_off: 0,
+            on_base: 0,
+            off_base: 0,
+            off_floor: if model.r_low_ohm.is_none() { 0 } else { -CURRENT_LIMIT_BITS },
             ticks_per_amp_on: 0,
             gate: Gate::Off,
             since: Instant(0),
@@ -379,7 +388,7 @@ impl CurrentEstimator {
         let cap = self.slope_cap;
         self.vin_term = slope_bits(vin_v * self.inv_l_tick, cap);
         self.vout_term = slope_bits(vout_v * self.inv_l_tick, cap);
-        self.refresh_slopes();
+        self.refresh_bases();
         self.refresh_reciprocal();
     }
 
@@ -416,7 +425,6 @@ impl CurrentEstimator {
     pub fn on_output_code(&mut self, code: u16, now: Instant) {
         if let Some(term) = self.reading_term(self.out_code, code, now) {
             self.vout_term = term;
-            self.refresh_slopes();
         }
     }
 
@@ -427,7 +435,7 @@ impl CurrentEstimator {
     pub fn on_input_code(&mut self, code: u16, now: Instant) {
         if let Some(term) = self.reading_term(self.in_code, code, now) {
             self.vin_term = term;
-            self.refresh_slopes();
+            self.on_base = self.on_base_now();
         }
     }
 
@@ -442,12 +450,25 @@ impl CurrentEstimator {
         Some(scale.slope(code).min(self.slope_cap))
     }
 
+    /// The on-slope's base from its parts (all within ±cap: no overflow).
     #[inline(always)]
-    fn refresh_slopes(&mut self) {
-        // All parts lie within ±cap: the sums cannot overflow.
-        self.slope_on = within(self.vin_term - self.vout_term - self.drop_on, self.slope_cap);
-        self.slope_off =
-            within(-(self.vout_term + self.freewheel_term) - self.drop_off, self.slope_cap);
+    fn on_base_now(&self) -> i32 {
+        within(self.vin_term - self.drop_on, self.slope_cap)
+    }
+
+    fn refresh_bases(&mut self) {
+        self.on_base = self.on_base_now();
+        self.off_base = within(-(self.freewheel_term + self.drop_off), self.slope_cap);
+    }
+
+    /// The present on-slope, `I8F24` A/tick.
+    fn slope_on(&self) -> I8F24 {
+        I8F24::from_bits(self.on_base - self.vout_term)
+    }
+
+    /// The present off-slope, `I8F24` A/tick.
+    fn slope_off(&self) -> I8F24 {
+        I8F24::from_bits(self.off_base - self.vout_term)
     }
 
     /// Fast path: the current at `now` (the state advanced without being
@@ -487,6 +508,8 @@ impl CurrentEstimator {
         self.gate = gate;
         match gate {
             Gate::Off => {
+                // The cycle began at the turn-on: so far it is all on-time.
+                self.cycle.on_ticks = self.cycle.period_ticks;
                 self.cycle.peak = Amps::from_bits(self.current);
                 None
             }
@@ -562,13 +585,13 @@ impl CurrentEstimator {
         let cap = self.slope_cap;
         self.drop_on = slope_bits(i_a * self.model.on_resistance() * self.inv_l_tick, cap);
         self.drop_off = slope_bits(i_a * self.model.off_resistance() * self.inv_l_tick, cap);
-        self.refresh_slopes();
+        self.refresh_bases();
         self.refresh_reciprocal();
     }
 
     /// Slow path: ticks per ampere of the on-slope, for [`ticks_to_reach`](Self::ticks_to_reach).
     fn refresh_reciprocal(&mut self) {
-        let on = I8F24::from_bits(self.slope_on).to_num::<f32>();
+        let on = self.slope_on().to_num::<f32>();
         self.ticks_per_amp_on = if on > 0.0 {
             let v = 65_536.0 / on;
             if v >= u32::MAX as f32 {
@@ -589,7 +612,7 @@ impl CurrentEstimator {
         if !c.dcm || c.period_ticks == 0 {
             return saturate(0.5 * (peak + valley));
         }
-        let fall_per_tick = -I8F24::from_bits(self.slope_off).to_num::<f32>();
+        let fall_per_tick = -self.slope_off().to_num::<f32>();
         let rest = c.period_ticks.saturating_sub(c.on_ticks) as f32;
         let t_fall = if fall_per_tick > 0.0 { (peak / fall_per_tick).min(rest) } else { rest };
         saturate(0.5 * peak * (c.on_ticks as f32 + t_fall) / c.period_ticks as f32)
@@ -608,7 +631,7 @@ impl CurrentEstimator {
         let rest_s = time_s - on_s;
         // Off: CCM falls from peak to valley over the whole rest; DCM falls
         // from peak to zero at the off-slope, then idles.
-        let fall = -I8F24::from_bits(self.slope_off).to_num::<f32>() / self.tick_s;
+        let fall = -self.slope_off().to_num::<f32>() / self.tick_s;
         let dcm = totals.dcm_cycles * 2 > totals.cycles;
         let (off_s, off_end) =
             if dcm && fall > 0.0 { ((peak / fall * n).min(rest_s), 0.0) } else { (rest_s, valley) };
@@ -632,29 +655,24 @@ impl CurrentEstimator {
     }
 
     /// The current after `ticks` more of the present segment, and whether
-    /// it clamped at zero, without storing anything.
+    /// it reached an off-segment's floor (zero for a diode stage), without
+    /// storing anything.
     #[inline(always)]
     fn segment_end(&self, ticks: u32) -> (i32, bool) {
-        let slope = if self.gate.is_on() { self.slope_on } else { self.slope_off };
+        let on = self.gate.is_on();
+        let slope = if on { self.on_base } else { self.off_base } - self.vout_term;
         let n = ticks.min(self.max_segment) as i32;
-        // |slope| ≤ cap and n ≤ i32::MAX / cap: the product fits.
-        let delta = (slope * n) >> 8;
-        let i1 = within(self.current.saturating_add(delta), CURRENT_LIMIT_BITS);
-        let clamps = !self.gate.is_on() && self.model.r_low_ohm.is_none() && i1 < 0;
-        if clamps {
-            (0, true)
-        } else {
-            (i1, false)
-        }
+        // |slope| ≤ 2·cap and n ≤ i32::MAX / (2·cap): the product fits; and
+        // |current| ≤ 2²⁷ plus |delta| ≤ 2²³ cannot overflow.
+        let sum = self.current + ((slope * n) >> 8);
+        let floor = if on { -CURRENT_LIMIT_BITS } else { self.off_floor };
+        (sum.min(CURRENT_LIMIT_BITS).max(floor), !on & (sum < floor))
     }
 
     #[inline(always)]
     fn close_segment(&mut self, now: Instant) {
         let ticks = now.ticks_since(self.since);
         let (i1, clamped) = self.segment_end(ticks);
-        if self.gate.is_on() {
-            self.cycle.on_ticks = self.cycle.on_ticks.wrapping_add(ticks);
-        }
         self.cycle.dcm |= clamped;
         self.cycle.period_ticks = self.cycle.period_ticks.wrapping_add(ticks);
         self.current = i1;
