@@ -280,14 +280,36 @@ impl Limits {
     }
 }
 
+/// Whether a cycle's `D·V_in` (input code `vin`) reaches the input code
+/// `implied`: `on·vin ≥ period·implied`, with no division and only 32-bit
+/// products (a 64-bit multiply is a library call on the Cortex-M0). The tick
+/// counts are cut to 16 bits first (shifted alike: the ratio keeps 15 bits
+/// or more), so each product of a count and a 16-bit code fits.
+#[inline(always)]
+fn duty_input_at_least(cycle: &CycleCurrents, vin: u16, implied: u16) -> bool {
+    let (mut on, mut period) = (cycle.on_ticks, cycle.period_ticks);
+    if period > 0xffff {
+        let shift = if period > 0xff_ffff { 16 } else { 8 };
+        on >>= shift;
+        period >>= shift;
+    }
+    // on ≤ period < 2¹⁶: each product is below 2³².
+    on.min(0xffff) * u32::from(vin) >= period.min(0xffff) * u32::from(implied)
+}
+
 /// The supervisor around a law `L`.
 #[derive(Clone, Debug)]
 pub struct Supervisor<L> {
     inner: L,
     estimator: CurrentEstimator,
     limits: Limits,
+    // The lower of the over-voltage threshold and the output rail: one
+    // compare per reading finds either.
+    out_stop: u16,
     target: u16,
     state: State,
+    // `state` is SoftStart or Regulating (kept with it by `enter`).
+    switching: bool,
     gate: Gate,
     since: Instant,
     ramp_from: u16,
@@ -300,6 +322,8 @@ pub struct Supervisor<L> {
     in_count: u16,
     has_reading: bool,
     limited_this_cycle: bool,
+    // Predicted crossing of the current limit, set at each turn-on.
+    limit_at: Option<Instant>,
     limited_streak: u16,
     retries: u16,
     stuck_streak: u16,
@@ -316,8 +340,10 @@ impl<L: Law + Regulate> Supervisor<L> {
             inner,
             estimator,
             limits,
+            out_stop: limits.ovp.min(limits.out_rail),
             target,
             state: State::Off,
+            switching: false,
             gate: Gate::Off,
             since: Instant(0),
             ramp_from: 0,
@@ -330,6 +356,7 @@ impl<L: Law + Regulate> Supervisor<L> {
             in_count: 0,
             has_reading: false,
             limited_this_cycle: false,
+            limit_at: None,
             limited_streak: 0,
             retries: 0,
             stuck_streak: 0,
@@ -383,7 +410,7 @@ impl<L: Law + Regulate> Supervisor<L> {
         self.log.clear();
         self.retries = 0;
         if self.state == State::Fault {
-            self.state = State::Off;
+            self.enter(State::Off);
         }
     }
 
@@ -408,14 +435,19 @@ impl<L: Law + Regulate> Supervisor<L> {
     #[inline(always)]
     fn note_reading(&mut self, out: u16) {
         self.last_out = out;
-        self.has_reading = true;
         // Wrapping: the slow path takes them long before 65 536 readings.
         self.out_sum = self.out_sum.wrapping_add(u32::from(out));
         self.out_count = self.out_count.wrapping_add(1);
     }
 
+    #[inline(always)]
     fn is_switching(&self) -> bool {
-        matches!(self.state, State::SoftStart | State::Regulating)
+        self.switching
+    }
+
+    fn enter(&mut self, state: State) {
+        self.state = state;
+        self.switching = matches!(state, State::SoftStart | State::Regulating);
     }
 
     fn log_fault(&mut self, kind: FaultKind, at: Instant) {
@@ -436,10 +468,12 @@ impl<L: Law + Regulate> Supervisor<L> {
 
     /// Stop for `kind`: latched, hiccup, or back to `Off`. A hiccup that
     /// follows too many restarts without regulation latches instead.
+    #[cold]
+    #[inline(never)]
     fn trip(&mut self, kind: FaultKind, now: Instant) -> Command {
         self.force_off(now);
         self.log_fault(kind, now);
-        self.state = match kind {
+        let next = match kind {
             k if k.is_latched() => State::Fault,
             FaultKind::InputUndervoltage | FaultKind::InputOvervoltage => State::Off,
             _ => {
@@ -452,6 +486,7 @@ impl<L: Law + Regulate> Supervisor<L> {
                 }
             }
         };
+        self.enter(next);
         self.since = now;
         self.limited_streak = 0;
         self.stuck_streak = 0;
@@ -463,13 +498,15 @@ impl<L: Law + Regulate> Supervisor<L> {
     fn check_output(&mut self, out: u16, now: Instant) -> Option<Command> {
         self.note_reading(out);
         self.estimator.on_output_code(out, now);
-        if out >= self.limits.out_rail {
-            return Some(self.trip(FaultKind::SensorRange, now));
+        if out < self.out_stop {
+            return None;
         }
-        if out >= self.limits.ovp {
-            return Some(self.trip(FaultKind::OutputOvervoltage, now));
-        }
-        None
+        let kind = if out >= self.limits.out_rail {
+            FaultKind::SensorRange
+        } else {
+            FaultKind::OutputOvervoltage
+        };
+        Some(self.trip(kind, now))
     }
 
     /// Apply the current limit and follow the gate.
@@ -483,11 +520,8 @@ impl<L: Law + Regulate> Supervisor<L> {
     #[inline(always)]
     fn finish_with(&mut self, cmd: Command, now: Instant, current_now: Amps) -> Command {
         if cmd.gate != self.gate {
-            self.gate = cmd.gate;
-            if let Some(done) = self.estimator.on_gate(cmd.gate, now) {
-                if let Some(fault) = self.end_of_cycle(&done, now) {
-                    return fault;
-                }
+            if let Some(fault) = self.follow_gate(cmd.gate, now) {
+                return fault;
             }
         }
         if !self.gate.is_on() {
@@ -496,21 +530,30 @@ impl<L: Law + Regulate> Supervisor<L> {
         if current_now >= self.limits.current_limit {
             return self.limit_current(now);
         }
-        // Wake at the predicted crossing of the limit.
-        let limit_at = self
-            .estimator
-            .ticks_to_reach(self.limits.current_limit)
-            .map(|t| self.edge_time().after(t));
-        let wake = match (cmd.wake, limit_at) {
+        let wake = match (cmd.wake, self.limit_at) {
             (Some(a), Some(b)) => Some(now.earlier_of(a, b)),
             (a, b) => a.or(b),
         };
         Command { gate: Gate::On, wake }
     }
 
-    /// When the present on-time began (the estimator's segment start).
-    fn edge_time(&self) -> Instant {
-        self.estimator.segment_start()
+    /// The gate switches to `gate` at `now`: tell the estimator, check the
+    /// cycle it completes, and at a turn-on predict when the current will
+    /// reach the limit (the deadline then stands for the whole on-time; the
+    /// check at every call covers a slope that grew since).
+    #[inline(always)]
+    fn follow_gate(&mut self, gate: Gate, now: Instant) -> Option<Command> {
+        self.gate = gate;
+        if let Some(done) = self.estimator.on_gate(gate, now) {
+            if let Some(fault) = self.end_of_cycle(&done, now) {
+                return Some(fault);
+            }
+        }
+        if gate.is_on() {
+            self.limit_at =
+                self.estimator.ticks_to_reach(self.limits.current_limit).map(|t| now.after(t));
+        }
+        None
     }
 
     /// The limit ended this on-time.
@@ -536,9 +579,7 @@ impl<L: Law + Regulate> Supervisor<L> {
         if self.limited_streak >= self.limits.short_cycles {
             return Some(self.trip(FaultKind::ShortCircuit, now));
         }
-        // D·V_in ≥ implied  ⇔  on·vin ≥ period·implied (no division).
-        let implied = u64::from(done.on_ticks) * u64::from(self.vin)
-            >= u64::from(done.period_ticks) * u64::from(self.limits.stuck_implied);
+        let implied = duty_input_at_least(done, self.vin, self.limits.stuck_implied);
         let stuck = self.last_out <= self.limits.stuck_low && implied;
         self.stuck_streak = if stuck { self.stuck_streak.saturating_add(1) } else { 0 };
         if self.stuck_streak >= self.limits.stuck_cycles {
@@ -602,6 +643,8 @@ impl<L: Law + Regulate> Supervisor<L> {
                 self.trip(FaultKind::InputOvervoltage, now);
             }
         }
+        // Set here rather than per reading: the fast path stays lighter.
+        self.has_reading |= self.out_count != 0;
         if !self.has_reading {
             // Nothing to start from (nor to set the estimator's slopes
             // with) before the first output reading.
@@ -623,7 +666,7 @@ impl<L: Law + Regulate> Supervisor<L> {
 
     fn begin_soft_start(&mut self, now: Instant) {
         self.estimator.restart_at(now);
-        self.state = State::SoftStart;
+        self.enter(State::SoftStart);
         self.since = now;
         self.ramp_from = self.last_out.min(self.target);
         self.inner.set_reference(self.ramp_from);
@@ -632,7 +675,7 @@ impl<L: Law + Regulate> Supervisor<L> {
     fn ramp(&mut self, elapsed: u32) {
         if elapsed >= self.limits.soft_start {
             self.inner.set_reference(self.target);
-            self.state = State::Regulating;
+            self.enter(State::Regulating);
             self.retries = 0;
             return;
         }

@@ -3,8 +3,11 @@
 //!
 //! Microcontroller events fall on ticks of the timer clock: ADC sampling
 //! instants, conversion-complete interrupts (sample + conversion time +
-//! interrupt latency), timer-compare interrupts at the firmware's `wake`
-//! deadlines (+ latency), comparator interrupts (crossing + propagation
+//! interrupt latency), timer compares at the firmware's `wake` deadlines
+//! (at the compare tick itself: the gate edge a deadline asks for is made by
+//! the timer's output-compare hardware, as a one-pulse on-time would be, not
+//! by an interrupt handler after its entry latency), comparator interrupts
+//! (crossing + propagation
 //! delay, synchronised to the next tick, + latency), dead-time ends, profile
 //! breakpoints. Between them the plant is solved in closed form; a
 //! comparator crossing, a DCM zero-crossing or a saturation-band edge stops
@@ -465,12 +468,12 @@ impl Engine {
         code.clamp(0.0, f64::from(adc.full_scale_code())) as u16
     }
 
-    /// Carry out a firmware command at the current tick.
+    /// Carry out a firmware command at the current tick; its deadline, if
+    /// any, acts at its own tick (hardware compare: no interrupt latency).
     fn apply(&mut self, cmd: Command) {
         let now = self.now();
-        self.schedule.timer = cmd.wake.map(|w| {
-            (self.tick + u64::from(w.ticks_since(now)) + self.latency_ticks).max(self.tick + 1)
-        });
+        self.schedule.timer =
+            cmd.wake.map(|w| (self.tick + u64::from(w.ticks_since(now))).max(self.tick + 1));
         if cmd.gate.is_on() != self.gate {
             self.catch_up();
             self.switch_gate(cmd.gate.is_on());
