@@ -17,6 +17,7 @@
 //! | [`reference`](mod@reference) | `f64` models in SI units: the oracle for tests |
 //! | [`estimate`] | inductor current (fast path), observer and efficiency (slow path) |
 //! | [`supervisor`] | start-up, UVLO, soft-start, OVP, OCP, hiccup, sensor faults, fault log |
+//! | [`drive`] | commands to hardware: gate pin (embedded-hal) and one-shot timer |
 //! | [`error`] | configuration errors |
 //! | [`design`] | closed-form predictions: frequency, ripple, CCM/DCM, peak current |
 //! | `sim` | (feature `std`) switched plant, MCU model, scenarios, reports, plots |
@@ -41,6 +42,7 @@
 #![forbid(unsafe_code)]
 
 pub mod design;
+pub mod drive;
 pub mod error;
 pub mod estimate;
 pub mod guard;

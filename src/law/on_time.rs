@@ -42,6 +42,8 @@ pub struct OnTime {
     on_ticks: u32,
     gate_on: bool,
     on_since: Instant,
+    // End of the present on-time: `on_since` + the on-time at the turn-on.
+    on_until: Instant,
     off_since: Instant,
     demand: Gate,
     ripple: Option<EmulatedRipple>,
@@ -163,6 +165,7 @@ impl OnTime {
             on_ticks,
             gate_on: false,
             on_since: Instant(0),
+            on_until: Instant(0),
             off_since: Instant(0),
             demand: Gate::Off,
             ripple: None,
@@ -214,6 +217,20 @@ impl OnTime {
         }
     }
 
+    /// The valley test with emulated ripple: sensed + ramp against the
+    /// reference, in 2⁻¹⁶ codes; when the ramp alone will cross before the
+    /// next sample, turn on at the predicted tick.
+    #[inline(always)]
+    fn valley_with_ripple(&mut self, r: EmulatedRipple, code: u16, now: Instant) {
+        let sensed = (u32::from(code) << 16).saturating_add(self.emulated_q16(now));
+        let reference = u32::from(self.reference) << 16;
+        if sensed <= reference {
+            self.demand = Gate::On;
+        } else {
+            self.predicted = r.crossing_in(sensed - reference).map(|t| now.after(t));
+        }
+    }
+
     /// The on-time, ticks.
     pub const fn on_ticks(&self) -> u32 {
         self.on_ticks
@@ -232,7 +249,9 @@ impl OnTime {
 
     #[inline(always)]
     fn on_time_over(&self, now: Instant) -> bool {
-        now.ticks_since(self.on_since) >= self.on_ticks
+        // At or past the end: the wrapping difference is below 2³¹ (the
+        // on-time itself is at most 2³¹ − 1 ticks).
+        now.ticks_since(self.on_until) <= crate::tick::MAX_DURATION_TICKS
     }
 
     /// The command for the present state: while on, a deadline at the end
@@ -244,7 +263,7 @@ impl OnTime {
                 self.demand = Gate::Off;
             }
             if self.demand.is_on() {
-                return Command::until(Gate::On, self.on_since.after(self.on_ticks));
+                return Command::until(Gate::On, self.on_until);
             }
         }
         Command::hold(self.demand)
@@ -255,15 +274,10 @@ impl Law for OnTime {
     #[inline]
     fn on_sample(&mut self, code: u16, now: Instant) -> Command {
         if !self.gate_on {
-            // Sensed + ramp against the reference, in 2⁻¹⁶ codes.
-            let sensed = (u32::from(code) << 16).saturating_add(self.emulated_q16(now));
-            let reference = u32::from(self.reference) << 16;
-            if sensed <= reference {
-                self.demand = Gate::On;
-            } else if let Some(r) = self.ripple {
-                // The ramp alone will cross before the next sample: turn on
-                // at the predicted tick.
-                self.predicted = r.crossing_in(sensed - reference).map(|t| now.after(t));
+            match self.ripple {
+                None if code <= self.reference => self.demand = Gate::On,
+                None => {}
+                Some(r) => self.valley_with_ripple(r, code, now),
             }
         }
         match (self.demand, self.predicted) {
@@ -297,6 +311,7 @@ impl Law for OnTime {
         if gate.is_on() {
             self.gate_on = true;
             self.on_since = at;
+            self.on_until = at.after(self.on_ticks);
             self.predicted = None;
         } else {
             if self.gate_on {

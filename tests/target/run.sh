@@ -24,7 +24,7 @@ trap 'rm -f "$out"' EXIT
 status=0
 for spec in "m0 thumbv6m-none-eabi microbit cortex-m0" "m4 thumbv7em-none-eabihf mps2-an386 cortex-m4"; do
     read -r core target machine cpu <<<"$spec"
-    cargo build -q --release --features target --target "$target" --bin vectors --bin insns --bin nopanic >&2
+    cargo build -q --release --features target --target "$target" --bin vectors --bin insns --bin nopanic --example firmware >&2
     dir="target/$target/release"
     run_qemu "$machine" "$cpu" "$dir/vectors" | tee -a "$out" || status=1
     run_qemu "$machine" "$cpu" "$dir/insns" | tee -a "$out" || status=1
@@ -62,7 +62,8 @@ passthrough_guard|comparator pass-through + guard, per edge
 estimator_edge|current estimator, per gate edge
 estimator_sample|current estimator, per output reading
 supervisor|supervisor's own share, per sample
-supervisor_stack|whole stack (supervisor, estimator, law, guard), per sample
+supervisor_stack|whole stack (supervisor, estimator, law, guard), per sample, regulating
+supervisor_stack_limited|whole stack, per sample, every cycle ended by the current limit
 hysteretic_f64|f64 hysteretic oracle, per sample
 guard_f64|f64 guard oracle, per call
 ROWS

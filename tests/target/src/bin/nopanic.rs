@@ -7,9 +7,41 @@
 
 use core::ptr::read_volatile;
 use cortex_m_rt::entry;
+use embedded_hal::digital::{ErrorType, OutputPin};
 use panic_never as _;
+use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
 use ripplectl::{Gate, Instant, Law};
 use ripplectl_target::Rig;
+
+/// A pin whose writes are volatile stores.
+struct Pin;
+
+impl ErrorType for Pin {
+    type Error = core::convert::Infallible;
+}
+
+impl OutputPin for Pin {
+    fn set_low(&mut self) -> Result<(), Self::Error> {
+        output(0);
+        Ok(())
+    }
+    fn set_high(&mut self) -> Result<(), Self::Error> {
+        output(1);
+        Ok(())
+    }
+}
+
+/// A compare whose arms are volatile stores.
+struct Compare;
+
+impl OneShot for Compare {
+    fn arm(&mut self, at: Instant, ends_pulse: bool) {
+        output(at.0 ^ u32::from(ends_pulse));
+    }
+    fn disarm(&mut self) {
+        output(u32::MAX);
+    }
+}
 
 static mut INPUT: [u32; 4] = [0; 4];
 static mut OUTPUT: u32 = 0;
@@ -31,6 +63,7 @@ fn main() -> ! {
             cortex_m::asm::wfi();
         }
     };
+    let Ok(mut driver) = GateDriver::new(Pin, Compare, Polarity::ActiveLow, PulseEnd::Hardware);
     loop {
         let (code, now, level) = (input(0) as u16, Instant(input(1)), input(2) & 1 != 0);
         let gate = if level { Gate::On } else { Gate::Off };
@@ -55,5 +88,8 @@ fn main() -> ! {
         output(rig.stack.on_output_reading(code, now).map_or(0, |c| u32::from(c.gate.is_on())));
         rig.stack.on_input_reading(code, now);
         rig.estimator.on_input_code(code, now);
+        driver.compare_fired();
+        let Ok(()) = driver.apply(rig.on_time.on_timer(now));
+        let Ok(()) = driver.shut_down();
     }
 }

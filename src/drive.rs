@@ -1,0 +1,191 @@
+//! Carrying out commands on the hardware: the gate pin and the one-shot
+//! compare timer.
+//!
+//! A [`Command`] says what the gate should do now and when the law wants to
+//! be called again. [`GateDriver`] turns it into pin writes through
+//! [`embedded_hal::digital::OutputPin`] and into one arm (or disarm) of a
+//! [`OneShot`] compare on the free-running timer. Firmware calls
+//! [`GateDriver::apply`] after every fast-path call, and
+//! [`GateDriver::compare_fired`] first thing in the compare interrupt:
+//!
+//! ```text
+//!   ADC done ──▶ stack.on_sample(code, now) ──┐
+//!   compare  ──▶ driver.compare_fired();      ├──▶ driver.apply(command)
+//!                stack.on_timer(now) ─────────┘      ├─ pin: set_high / set_low (on change)
+//!                                                     └─ timer: arm(wake) / disarm
+//! ```
+//!
+//! **Ending a pulse in hardware.** An on-time ended from an interrupt
+//! handler is longer by the handler's entry latency, and by a varying amount
+//! when an ADC interrupt that saw the deadline pass sometimes ends it first:
+//! that shows as period jitter. Timers with an output-compare "clear on
+//! match" (or one-pulse) mode can end the pulse at the compare tick
+//! themselves. Build the driver with [`PulseEnd::Hardware`] when every
+//! deadline armed while the gate is on ends the pulse, as with the on-time
+//! law (on-time end, current limit, maximum on-time); the hysteretic law's
+//! guard may arm a minimum on-time that keeps the gate on, so use
+//! [`PulseEnd::Software`] there.
+//!
+//! All methods are fast-path code: no division, no float, no panic, bounded
+//! time. Pin errors are returned after the gate was driven to its safe
+//! level where possible.
+
+use crate::law::{Command, Gate};
+use crate::tick::Instant;
+use embedded_hal::digital::OutputPin;
+
+/// A one-shot compare on the free-running timer whose readings are the
+/// [`Instant`]s the laws use.
+///
+/// Implement it on the board's timer: `arm` writes the compare register and
+/// enables its interrupt; the interrupt handler calls
+/// [`GateDriver::compare_fired`] and then [`Law::on_timer`](crate::Law::on_timer).
+/// A deadline that is already due when armed (the compare register is
+/// behind the counter) must still fire at once: check the counter after
+/// writing the compare and pend the interrupt if it passed.
+pub trait OneShot {
+    /// Fire at `at`, replacing any armed deadline. `ends_pulse`: the gate
+    /// is on and this compare ends the pulse; a timer in output-compare
+    /// "clear on match" mode clears the gate output at the compare tick
+    /// (only asked for by a driver built with [`PulseEnd::Hardware`]).
+    fn arm(&mut self, at: Instant, ends_pulse: bool);
+
+    /// Cancel any armed deadline.
+    fn disarm(&mut self);
+}
+
+/// The gate driver's input level that turns the switch on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Polarity {
+    /// Pin high: switch on.
+    ActiveHigh,
+    /// Pin low: switch on (inverting drivers, some isolated drivers).
+    ActiveLow,
+}
+
+/// Who ends a pulse at a deadline armed while the gate is on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum PulseEnd {
+    /// The compare interrupt's handler, through the pin (its entry latency
+    /// adds to the on-time).
+    Software,
+    /// The timer's output-compare hardware at the compare tick (see the
+    /// module notes for when that is right).
+    Hardware,
+}
+
+/// Drives the gate pin and the one-shot timer from [`Command`]s.
+///
+/// Starts with the gate off: [`GateDriver::new`] drives the pin to the off
+/// level and disarms the timer.
+#[derive(Debug)]
+pub struct GateDriver<P, T> {
+    pin: P,
+    timer: T,
+    polarity: Polarity,
+    pulse_end: PulseEnd,
+    gate: Gate,
+    armed_end: bool,
+}
+
+impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
+    /// Take the pin and the timer, drive the gate off and disarm.
+    ///
+    /// Errors: the pin's error, when it could not be driven off (the
+    /// board's gate pull-down must then hold the switch off).
+    pub fn new(
+        pin: P,
+        mut timer: T,
+        polarity: Polarity,
+        pulse_end: PulseEnd,
+    ) -> Result<Self, P::Error> {
+        timer.disarm();
+        let mut driver =
+            Self { pin, timer, polarity, pulse_end, gate: Gate::Off, armed_end: false };
+        driver.write(Gate::Off)?;
+        Ok(driver)
+    }
+
+    /// The gate as last driven.
+    pub const fn gate(&self) -> Gate {
+        self.gate
+    }
+
+    /// The timer (its state, for telemetry and tests).
+    pub const fn timer(&self) -> &T {
+        &self.timer
+    }
+
+    /// Fast path: carry out `command`: drive the pin if the gate changes,
+    /// then arm the timer at its deadline or disarm it.
+    ///
+    /// Errors: the pin's error. A failed turn-on is followed by an attempt
+    /// to drive the gate off, and the timer is disarmed.
+    #[inline]
+    pub fn apply(&mut self, command: Command) -> Result<(), P::Error> {
+        if command.gate != self.gate {
+            if let Err(e) = self.write(command.gate) {
+                self.timer.disarm();
+                self.armed_end = false;
+                // Best effort: the error being reported is the first one.
+                let _ = self.write(Gate::Off);
+                return Err(e);
+            }
+        }
+        match command.wake {
+            Some(at) => {
+                let ends = self.gate.is_on() && self.pulse_end == PulseEnd::Hardware;
+                self.timer.arm(at, ends);
+                self.armed_end = ends;
+            }
+            None => {
+                self.timer.disarm();
+                self.armed_end = false;
+            }
+        }
+        Ok(())
+    }
+
+    /// Fast path, first in the compare interrupt: when the compare ended
+    /// the pulse in hardware, the gate is now off (the next
+    /// [`apply`](Self::apply) drives it on again if the law still asks).
+    #[inline]
+    pub fn compare_fired(&mut self) {
+        if self.armed_end {
+            self.gate = Gate::Off;
+            self.armed_end = false;
+        }
+    }
+
+    /// Fast path: gate off now and timer disarmed, whatever the law says
+    /// (a fault input, a watchdog warning).
+    ///
+    /// Errors: the pin's error.
+    pub fn shut_down(&mut self) -> Result<(), P::Error> {
+        self.timer.disarm();
+        self.armed_end = false;
+        self.write(Gate::Off)
+    }
+
+    /// Give back the pin and the timer (gate left as it is: call
+    /// [`shut_down`](Self::shut_down) first).
+    pub fn release(self) -> (P, T) {
+        (self.pin, self.timer)
+    }
+
+    /// Drive the pin's level for `gate`; the gate counts as changed only
+    /// once the pin took it.
+    #[inline(always)]
+    fn write(&mut self, gate: Gate) -> Result<(), P::Error> {
+        let high = gate.is_on() == (self.polarity == Polarity::ActiveHigh);
+        if high {
+            self.pin.set_high()?;
+        } else {
+            self.pin.set_low()?;
+        }
+        self.gate = gate;
+        Ok(())
+    }
+}
