@@ -7,7 +7,7 @@
 #   vectors core=<m0|m4> match=<true|false> count=<n>
 # Exits non-zero on a mismatch, a budget overrun or a reachable panic.
 # RIPPLECTL_BUDGETS=report prints overruns without failing (CI uses it while
-# the supervisor's budget is still open; see the README's table).
+# budgets are still over; see the README's table).
 set -euo pipefail
 cd "$(dirname "$0")"
 export CARGO_TERM_COLOR=never
