@@ -88,6 +88,37 @@ impl Meter {
         hprintln!("insns core={} op={} n={}", core_name(), op, n);
         n
     }
+
+    /// Mean instructions per call of `f(code, now)` over the recorded
+    /// `codes`, one sample every 64 ticks from `base`.
+    fn count_stream(&self, codes: &[u16], base: u32, mut f: impl FnMut(u16, Instant)) -> u32 {
+        let input = |i: u32| {
+            let code = codes.get(i as usize).copied().unwrap_or(0);
+            (code, Instant(base.wrapping_add(i.wrapping_mul(64))))
+        };
+        self.count(
+            |i| {
+                black_box(input(i));
+            },
+            |i| {
+                let (code, now) = input(i);
+                f(code, now);
+            },
+        )
+    }
+
+    /// [`count_stream`](Self::count_stream), printed as `op`.
+    fn report_stream(
+        &self,
+        op: &str,
+        codes: &[u16],
+        base: u32,
+        f: impl FnMut(u16, Instant),
+    ) -> u32 {
+        let n = self.count_stream(codes, base, f);
+        hprintln!("insns core={} op={} n={}", core_name(), op, n);
+        n
+    }
 }
 
 /// A ripple of output codes sweeping the hysteretic band.
@@ -146,29 +177,15 @@ fn main() -> ! {
     let b = next_base(64 * CALLS);
     let mut copy = rig.guard.clone();
     regulating_codes(&mut codes, b, |c, t| copy.on_sample(c, t).gate.is_on());
-    let stream = |i: u32| codes.get(i as usize).copied().unwrap_or(0);
-    meter.report(
-        "hysteretic_guard",
-        |i| {
-            black_box((stream(i), at(i, 64, b)));
-        },
-        |i| {
-            black_box(rig.guard.on_sample(stream(i), at(i, 64, b)));
-        },
-    );
+    meter.report_stream("hysteretic_guard", &codes, b, |c, t| {
+        black_box(rig.guard.on_sample(c, t));
+    });
     let b = next_base(64 * CALLS);
     let mut copy = rig.on_time.clone();
     regulating_codes(&mut codes, b, |c, t| copy.on_sample(c, t).gate.is_on());
-    let stream = |i: u32| codes.get(i as usize).copied().unwrap_or(0);
-    meter.report(
-        "on_time_guard",
-        |i| {
-            black_box((stream(i), at(i, 64, b)));
-        },
-        |i| {
-            black_box(rig.on_time.on_sample(stream(i), at(i, 64, b)));
-        },
-    );
+    meter.report_stream("on_time_guard", &codes, b, |c, t| {
+        black_box(rig.on_time.on_sample(c, t));
+    });
     let b = next_base(320 * CALLS);
     meter.report(
         "passthrough_guard",
@@ -212,44 +229,23 @@ fn main() -> ! {
     let b = next_base(70_000);
     rig.stack.housekeeping(2900, &vin, &vout, Instant(b));
 
-    // Regulating: the output reading follows the gate (a code down per
-    // sample while off, three up while on), so the stack runs its normal
-    // cycle (about 21 samples, peak current below the limit). The codes are
-    // recorded on a copy first, so the baseline consumes the same stream.
+    // Regulating: the stack's own closed loop around the buck model (see
+    // `regulating_codes`), peak current below the limit.
     let b = next_base(64 * CALLS);
     let mut copy = rig.stack.clone();
     regulating_codes(&mut codes, b, |c, t| copy.on_sample(c, t).gate.is_on());
-    let stream = |i: u32| codes.get(i as usize).copied().unwrap_or(0);
-    let whole = meter.report(
-        "supervisor_stack",
-        |i| {
-            black_box((stream(i), at(i, 64, b)));
-        },
-        |i| {
-            black_box(rig.stack.on_sample(stream(i), at(i, 64, b)));
-        },
-    );
+    let whole = meter.report_stream("supervisor_stack", &codes, b, |c, t| {
+        black_box(rig.stack.on_sample(c, t));
+    });
     // Its own share: the stack less the law and guard, and less the
     // estimator's per-reading update (budgeted on its own), on the same
     // stream.
     let mut guard = rig.guard.clone();
-    let law = meter.count(
-        |i| {
-            black_box((stream(i), at(i, 64, b)));
-        },
-        |i| {
-            black_box(guard.on_sample(stream(i), at(i, 64, b)));
-        },
-    );
+    let law = meter.count_stream(&codes, b, |c, t| {
+        black_box(guard.on_sample(c, t));
+    });
     let mut est_alone = rig.stack.estimator().clone();
-    let reading = meter.count(
-        |i| {
-            black_box((stream(i), at(i, 64, b)));
-        },
-        |i| {
-            est_alone.on_output_code(stream(i), at(i, 64, b));
-        },
-    );
+    let reading = meter.count_stream(&codes, b, |c, t| est_alone.on_output_code(c, t));
     hprintln!("insns core={} op=supervisor n={}", core_name(), whole.saturating_sub(law + reading));
 
     // Overload: the open-loop sweep holds the gate on for 32 samples, so
