@@ -18,9 +18,12 @@
 //! Each limit that acts is counted in [`ClampCounts`] (once per switching
 //! cycle and reason), for telemetry.
 //!
-//! Timing is wrap-safe: each call compares wrapping tick differences, and
-//! "limit already met" facts are latched, so the guard stays correct as long
-//! as it is called at least once every 2³¹ ticks. It asks to be woken
+//! Timing is wrap-safe: each edge sets the deadlines of the state it
+//! enters (the ends of the minimum and maximum on-time at a turn-on; the
+//! earliest next turn-on at a turn-off), each call compares `now` with them
+//! through wrapping differences, and "limit already met" facts are latched,
+//! so the guard stays correct as long as it is called at least once every
+//! 2³¹ ticks. It asks to be woken
 //! ([`Command::wake`]) at every deadline it depends on, which keeps that true
 //! even in edge mode on an idle converter.
 
@@ -175,8 +178,16 @@ pub struct FrequencyGuard<L> {
     gate: Gate,
     rise: Instant,
     fall: Instant,
-    off_met: bool,
-    period_met: bool,
+    // Set at each turn-on: the ends of the minimum and maximum on-time and
+    // of the maximum period.
+    min_on_end: Instant,
+    max_on_end: Instant,
+    max_period_end: Instant,
+    // Set at each turn-off: the earliest turn-on, with both the minimum
+    // off-time and the minimum period met.
+    turn_on_at: Instant,
+    // `turn_on_at` reached (latched).
+    may_turn_on: bool,
     slow_noted: bool,
     pulse_due: bool,
     on_clamp_noted: bool,
@@ -194,8 +205,11 @@ impl<L: Law> FrequencyGuard<L> {
             gate: Gate::Off,
             rise: Instant(0),
             fall: Instant(0),
-            off_met: true,
-            period_met: true,
+            min_on_end: Instant(0),
+            max_on_end: Instant(0),
+            max_period_end: Instant(0),
+            turn_on_at: Instant(0),
+            may_turn_on: true,
             slow_noted: true,
             pulse_due: false,
             on_clamp_noted: false,
@@ -245,7 +259,9 @@ impl<L: Law> FrequencyGuard<L> {
     fn switch_on(&mut self, now: Instant) {
         self.gate = Gate::On;
         self.rise = now;
-        self.period_met = false;
+        self.min_on_end = now.after(self.window.min_on);
+        self.max_on_end = now.after(self.window.max_on);
+        self.max_period_end = now.after(self.window.max_period);
         self.slow_noted = false;
         self.pulse_due = false;
         self.on_clamp_noted = false;
@@ -256,23 +272,25 @@ impl<L: Law> FrequencyGuard<L> {
     fn switch_off(&mut self, now: Instant) {
         self.gate = Gate::Off;
         self.fall = now;
-        self.off_met = false;
+        // The later of the minimum off-time's end and the minimum period's.
+        let period_left = self.window.min_period.saturating_sub(now.ticks_since(self.rise));
+        self.turn_on_at = now.after(self.window.min_off.max(period_left));
+        self.may_turn_on = false;
         self.off_clamp_noted = false;
         self.inner.on_gate(Gate::Off, now);
     }
 
     #[inline(always)]
     fn while_on(&mut self, demand: Gate, now: Instant) -> Command {
-        let on_for = now.ticks_since(self.rise);
-        if on_for >= self.window.max_on {
+        if now.has_reached(self.max_on_end) {
             self.counts.max_on = self.counts.max_on.wrapping_add(1);
             self.switch_off(now);
             return self.while_off(demand, now);
         }
         if demand.is_on() {
-            return Command::until(Gate::On, self.rise.after(self.window.max_on));
+            return Command::until(Gate::On, self.max_on_end);
         }
-        if on_for >= self.window.min_on {
+        if now.has_reached(self.min_on_end) {
             self.switch_off(now);
             return self.while_off(Gate::Off, now);
         }
@@ -280,25 +298,21 @@ impl<L: Law> FrequencyGuard<L> {
             self.on_clamp_noted = true;
             self.counts.min_on = self.counts.min_on.wrapping_add(1);
         }
-        Command::until(Gate::On, self.rise.after(self.window.min_on))
+        Command::until(Gate::On, self.min_on_end)
     }
 
     #[inline(always)]
     fn while_off(&mut self, demand: Gate, now: Instant) -> Command {
-        let since_rise = now.ticks_since(self.rise);
         // Latched: test before computing, so a met limit costs one load.
-        if !self.off_met {
-            self.off_met = now.ticks_since(self.fall) >= self.window.min_off;
-        }
-        if !self.period_met {
-            self.period_met = since_rise >= self.window.min_period;
+        if !self.may_turn_on {
+            self.may_turn_on = now.has_reached(self.turn_on_at);
         }
         if demand.is_on() {
             return self.turn_on_when_allowed(now);
         }
         if !self.slow_noted {
-            if since_rise < self.window.max_period {
-                return Command::until(Gate::Off, self.rise.after(self.window.max_period));
+            if !now.has_reached(self.max_period_end) {
+                return Command::until(Gate::Off, self.max_period_end);
             }
             self.slow_noted = true;
             self.counts.slow_periods = self.counts.slow_periods.wrapping_add(1);
@@ -312,33 +326,19 @@ impl<L: Law> FrequencyGuard<L> {
 
     #[inline(always)]
     fn turn_on_when_allowed(&mut self, now: Instant) -> Command {
-        if self.off_met && self.period_met {
+        if self.may_turn_on {
             self.switch_on(now);
-            return Command::until(Gate::On, now.after(self.window.max_on));
+            return Command::until(Gate::On, self.max_on_end);
         }
         if !self.off_clamp_noted {
             self.off_clamp_noted = true;
-            if self.off_met {
+            if now.ticks_since(self.fall) >= self.window.min_off {
                 self.counts.min_period = self.counts.min_period.wrapping_add(1);
             } else {
                 self.counts.min_off = self.counts.min_off.wrapping_add(1);
             }
         }
-        let off_end = self.fall.after(self.window.min_off);
-        let period_end = self.rise.after(self.window.min_period);
-        let wake = match (self.off_met, self.period_met) {
-            (false, true) => off_end,
-            (true, false) => period_end,
-            // Both pending: the later of the two deadlines.
-            _ => {
-                if now.earlier_of(off_end, period_end) == off_end {
-                    period_end
-                } else {
-                    off_end
-                }
-            }
-        };
-        Command::until(Gate::Off, wake)
+        Command::until(Gate::Off, self.turn_on_at)
     }
 
     /// Light-load pulse: wait out the minimum off-time, then pulse for the
@@ -346,13 +346,15 @@ impl<L: Law> FrequencyGuard<L> {
     /// `min_on` ends it).
     #[inline(always)]
     fn forced_pulse(&mut self, now: Instant) -> Command {
-        if !self.off_met {
-            return Command::until(Gate::Off, self.fall.after(self.window.min_off));
+        // Past the maximum period the minimum period is met: only the
+        // minimum off-time can still hold the turn-on.
+        if !self.may_turn_on {
+            return Command::until(Gate::Off, self.turn_on_at);
         }
         self.counts.forced_pulses = self.counts.forced_pulses.wrapping_add(1);
         self.switch_on(now);
         self.on_clamp_noted = true;
-        Command::until(Gate::On, now.after(self.window.min_on))
+        Command::until(Gate::On, self.min_on_end)
     }
 
     #[inline(always)]

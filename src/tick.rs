@@ -30,6 +30,13 @@ impl Instant {
         Instant(self.0.wrapping_add(ticks))
     }
 
+    /// Whether `self` is at or past `deadline`, a deadline set less than
+    /// 2³¹ ticks before it came due (one subtraction and a sign test).
+    #[inline(always)]
+    pub const fn has_reached(self, deadline: Instant) -> bool {
+        self.ticks_since(deadline) <= MAX_DURATION_TICKS
+    }
+
     /// Of two future instants, the one that comes first as seen from `self`.
     #[inline(always)]
     pub const fn earlier_of(self, a: Instant, b: Instant) -> Instant {

@@ -247,19 +247,12 @@ impl OnTime {
         self.demand
     }
 
-    #[inline(always)]
-    fn on_time_over(&self, now: Instant) -> bool {
-        // At or past the end: the wrapping difference is below 2³¹ (the
-        // on-time itself is at most 2³¹ − 1 ticks).
-        now.ticks_since(self.on_until) <= crate::tick::MAX_DURATION_TICKS
-    }
-
     /// The command for the present state: while on, a deadline at the end
     /// of the on-time.
     #[inline(always)]
     fn command(&mut self, now: Instant) -> Command {
         if self.gate_on {
-            if self.on_time_over(now) {
+            if now.has_reached(self.on_until) {
                 self.demand = Gate::Off;
             }
             if self.demand.is_on() {
