@@ -381,20 +381,23 @@ fn earliest(now: Instant, a: Option<Instant>, b: Option<Instant>) -> Option<Inst
     }
 }
 
+// The three entry points are forced inline: each is the law's call and the
+// filter, and an outer stage (a supervisor) then compiles into one body with
+// them rather than calling out and passing the command through memory.
 impl<L: Law> Law for FrequencyGuard<L> {
-    #[inline]
+    #[inline(always)]
     fn on_sample(&mut self, code: u16, now: Instant) -> Command {
         let demand = self.inner.on_sample(code, now);
         self.filter(demand, now)
     }
 
-    #[inline]
+    #[inline(always)]
     fn on_edge(&mut self, level: bool, now: Instant) -> Command {
         let demand = self.inner.on_edge(level, now);
         self.filter(demand, now)
     }
 
-    #[inline]
+    #[inline(always)]
     fn on_timer(&mut self, now: Instant) -> Command {
         let demand = self.inner.on_timer(now);
         self.filter(demand, now)
