@@ -128,6 +128,10 @@ pub struct CycleCurrents {
 
 /// Sums over the cycles completed since the slow path last took them
 /// (fast path: additions only).
+///
+/// The tick sums are 32-bit: the cycles of a window span less than the
+/// window, so take windows at least every 2³² ticks (67 s at 64 MHz; the
+/// crate's slow path runs at 1–20 kHz).
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct WindowTotals {
@@ -135,10 +139,10 @@ pub struct WindowTotals {
     pub cycles: u32,
     /// Cycles that ended in DCM.
     pub dcm_cycles: u32,
-    /// Sum of on-ticks.
-    pub on_ticks: u64,
-    /// Sum of periods, ticks.
-    pub period_ticks: u64,
+    /// Sum of on-ticks (wraps at 2³²).
+    pub on_ticks: u32,
+    /// Sum of periods, ticks (wraps at 2³²).
+    pub period_ticks: u32,
     /// Sum of cycle peaks, 2⁻¹⁶ A.
     pub peak_sum: i64,
     /// Sum of cycle valleys, 2⁻¹⁶ A.
@@ -475,7 +479,7 @@ impl CurrentEstimator {
     /// stored).
     #[inline]
     pub fn current_at(&self, now: Instant) -> Amps {
-        Amps::from_bits(self.segment_end(now.ticks_since(self.since)).0)
+        Amps::from_bits(self.segment_end(self.gate.is_on(), now.ticks_since(self.since)).0)
     }
 
     /// Ticks from the last edge until the current would reach `limit` while
@@ -499,42 +503,45 @@ impl CurrentEstimator {
 
     /// Fast path: the gate switched to `gate` at `at`. Returns the cycle
     /// completed by a turn-on.
-    #[inline]
+    #[inline(always)]
     pub fn on_gate(&mut self, gate: Gate, at: Instant) -> Option<CycleCurrents> {
         if gate == self.gate {
             return None;
         }
-        self.close_segment(at);
+        // Each arm closes the segment the gate leaves, of the other kind.
         self.gate = gate;
         match gate {
             Gate::Off => {
+                self.close_segment_of(true, at);
                 // The cycle began at the turn-on: so far it is all on-time.
                 self.cycle.on_ticks = self.cycle.period_ticks;
                 self.cycle.peak = Amps::from_bits(self.current);
                 None
             }
             Gate::On => {
-                let done = self.cycle;
-                self.cycle = CycleCurrents {
+                self.close_segment_of(false, at);
+                // Nothing to count before the first turn-on.
+                let complete = self.cycle.period_ticks != 0;
+                if complete {
+                    self.count_cycle();
+                }
+                let next = CycleCurrents {
                     valley: Amps::from_bits(self.current),
                     ..CycleCurrents::default()
                 };
-                if done.period_ticks == 0 {
-                    return None;
-                }
-                self.count_cycle(&done);
-                Some(done)
+                let done = core::mem::replace(&mut self.cycle, next);
+                complete.then_some(done)
             }
         }
     }
 
     #[inline(always)]
-    fn count_cycle(&mut self, c: &CycleCurrents) {
-        let t = &mut self.totals;
+    fn count_cycle(&mut self) {
+        let (t, c) = (&mut self.totals, &self.cycle);
         t.cycles = t.cycles.wrapping_add(1);
         t.dcm_cycles = t.dcm_cycles.wrapping_add(u32::from(c.dcm));
-        t.on_ticks = t.on_ticks.wrapping_add(u64::from(c.on_ticks));
-        t.period_ticks = t.period_ticks.wrapping_add(u64::from(c.period_ticks));
+        t.on_ticks = t.on_ticks.wrapping_add(c.on_ticks);
+        t.period_ticks = t.period_ticks.wrapping_add(c.period_ticks);
         t.peak_sum = t.peak_sum.wrapping_add(i64::from(c.peak.to_bits()));
         t.valley_sum = t.valley_sum.wrapping_add(i64::from(c.valley.to_bits()));
     }
@@ -654,12 +661,11 @@ impl CurrentEstimator {
         }
     }
 
-    /// The current after `ticks` more of the present segment, and whether
-    /// it reached an off-segment's floor (zero for a diode stage), without
-    /// storing anything.
+    /// The current after `ticks` more of the present segment (an on-segment
+    /// if `on`), and whether it reached an off-segment's floor (zero for a
+    /// diode stage), without storing anything.
     #[inline(always)]
-    fn segment_end(&self, ticks: u32) -> (i32, bool) {
-        let on = self.gate.is_on();
+    fn segment_end(&self, on: bool, ticks: u32) -> (i32, bool) {
         let slope = if on { self.on_base } else { self.off_base } - self.vout_term;
         let n = ticks.min(self.max_segment) as i32;
         // |slope| ≤ 2·cap and n ≤ i32::MAX / (2·cap): the product fits; and
@@ -671,8 +677,16 @@ impl CurrentEstimator {
 
     #[inline(always)]
     fn close_segment(&mut self, now: Instant) {
+        self.close_segment_of(self.gate.is_on(), now);
+    }
+
+    /// [`close_segment`](Self::close_segment) where the segment's kind is
+    /// known (at an edge: the one the gate leaves), so the compiler keeps
+    /// only that kind's slope and floor.
+    #[inline(always)]
+    fn close_segment_of(&mut self, on: bool, now: Instant) {
         let ticks = now.ticks_since(self.since);
-        let (i1, clamped) = self.segment_end(ticks);
+        let (i1, clamped) = self.segment_end(on, ticks);
         self.cycle.dcm |= clamped;
         self.cycle.period_ticks = self.cycle.period_ticks.wrapping_add(ticks);
         self.current = i1;
