@@ -3,9 +3,20 @@
 //! Under `qemu-system-arm -icount shift=0` every guest instruction advances
 //! virtual time by the same step, and SysTick counts virtual time, so SysTick
 //! ticks are proportional to instructions. The ratio is calibrated against a
-//! loop of known length (two instructions per turn); each operation runs
-//! `CALLS` times and the harness's own cost (the same loop with an empty
-//! body) is subtracted.
+//! loop of known length (two instructions per turn).
+//!
+//! Each operation is a handler: a function the compiler may not inline into
+//! the measuring loop, as an interrupt handler's body is (the crate's code is
+//! inlined into it as the compiler sees fit). It runs `CALLS` times; the
+//! same loop calling an empty handler with the same arguments is
+//! subtracted, so a count is everything the core executes for the call
+//! (register saves, loads, the work, the returned command) less the bare
+//! call and return.
+//!
+//! The supervisor has no count of its own: its share is the whole stack's
+//! count less those of what it hands each sample on to (the guarded law,
+//! and the current estimator's reading and gate edges), each measured alone
+//! on the same events.
 #![no_std]
 #![no_main]
 
@@ -16,7 +27,7 @@ use cortex_m_semihosting::{debug, hprintln};
 use panic_semihosting as _;
 use ripplectl::estimate::{Amps, CurrentEstimator};
 use ripplectl::reference::{GuardModel, HystereticModel};
-use ripplectl::{Gate, Instant, Law};
+use ripplectl::{Command, Gate, Instant, Law};
 use ripplectl_target::Rig;
 
 const CALLS: u32 = 2_048;
@@ -69,55 +80,158 @@ fn run(mut f: impl FnMut(u32)) -> u32 {
     since(s)
 }
 
+/// A handler: one fast-path call made the way firmware makes it, from an
+/// interrupt handler's body, never inlined into the measuring loop. `a` is
+/// the event's argument (a code, a level or gate as 0/1, or the packed
+/// estimator event of [`estimator_events`]).
+type Handler<T> = fn(&mut T, u32, Instant) -> Command;
+
+/// The empty handler: the call, its arguments and its return, no work.
+#[inline(never)]
+fn idle<T>(obj: &mut T, a: u32, now: Instant) -> Command {
+    // SAFETY: no instructions; it only keeps the arguments live.
+    unsafe {
+        core::arch::asm!("/* {0} {1} {2} */", in(reg) obj as *mut T, in(reg) a, in(reg) now.0,
+            options(nostack, preserves_flags));
+    }
+    Command::hold(Gate::Off)
+}
+
+/// A law's output reading.
+#[inline(never)]
+fn sample<L: Law>(law: &mut L, code: u32, now: Instant) -> Command {
+    law.on_sample(code as u16, now)
+}
+
+/// A law's comparator edge (`level` 0/1).
+#[inline(never)]
+fn edge<L: Law>(law: &mut L, level: u32, now: Instant) -> Command {
+    law.on_edge(level != 0, now)
+}
+
+fn gate_of(on: bool) -> Gate {
+    if on {
+        Gate::On
+    } else {
+        Gate::Off
+    }
+}
+
+/// The estimator told of a gate edge (`on` 0/1).
+#[inline(never)]
+fn estimator_gate(est: &mut CurrentEstimator, on: u32, now: Instant) -> Command {
+    let gate = gate_of(on != 0);
+    est.on_gate(gate, now);
+    Command::hold(gate)
+}
+
+/// The estimator given an output reading.
+#[inline(never)]
+fn estimator_reading(est: &mut CurrentEstimator, code: u32, now: Instant) -> Command {
+    est.on_output_code(code as u16, now);
+    Command::hold(Gate::Off)
+}
+
+/// Bit 16 of a packed estimator event: the gate switched at this reading;
+/// bit 17: to on. Bits 0–15: the output code.
+const SWITCHED: u32 = 1 << 16;
+const SWITCHED_ON: u32 = 1 << 17;
+
+/// The estimator's work inside the supervisor for one sample: the reading,
+/// then the gate edge when the sample switched it.
+#[inline(never)]
+fn estimator_events(est: &mut CurrentEstimator, a: u32, now: Instant) -> Command {
+    est.on_output_code(a as u16, now);
+    if a & SWITCHED != 0 {
+        est.on_gate(gate_of(a & SWITCHED_ON != 0), now);
+    }
+    Command::hold(Gate::Off)
+}
+
+/// Volts per output code of the demo's channel (12 bits, 3.3 V, 4.7/14.7
+/// divider).
+const VOLTS_PER_CODE: f64 = 3.3 / 4096.0 / (4.7 / 14.7);
+
+/// Seconds per tick of the demo's 64 MHz timer.
+const TICK_S: f64 = 1.0 / 64e6;
+
+/// The f64 hysteretic oracle given what firmware has, an ADC code, turned
+/// into volts as a floating-point firmware would.
+#[inline(never)]
+fn hysteretic_f64(model: &mut HystereticModel, code: u32, _: Instant) -> Command {
+    Command::hold(gate_of(model.sample(f64::from(code) * VOLTS_PER_CODE)))
+}
+
+/// The f64 guard oracle given the law's demand (0/1) and a timer reading,
+/// turned into seconds.
+#[inline(never)]
+fn guard_f64(model: &mut GuardModel, demand: u32, now: Instant) -> Command {
+    Command::hold(gate_of(model.step(demand != 0, f64::from(now.0) * TICK_S)))
+}
+
 struct Meter {
     per_tick: u64,
 }
 
 impl Meter {
-    /// Mean instructions per call of `f` beyond `baseline`: both get the
-    /// same inputs, the baseline only consumes them, so input preparation
-    /// and loop overhead cancel.
-    fn count(&self, baseline: impl FnMut(u32), f: impl FnMut(u32)) -> u32 {
-        let empty = run(baseline);
-        let t = run(f).saturating_sub(empty);
+    /// Mean instructions per call of `handler` on `obj` with inputs
+    /// `input(i)`, beyond the same calls of [`idle`]: input preparation,
+    /// the call itself and loop overhead cancel.
+    fn count<T>(
+        &self,
+        obj: &mut T,
+        input: impl Fn(u32) -> (u32, Instant),
+        handler: Handler<T>,
+    ) -> u32 {
+        let empty = run(|i| {
+            let (a, now) = input(i);
+            black_box(idle(&mut *obj, a, now));
+        });
+        let t = run(|i| {
+            let (a, now) = input(i);
+            black_box(handler(&mut *obj, a, now));
+        })
+        .saturating_sub(empty);
         ((u64::from(t) * self.per_tick / u64::from(CALLS) + (1 << 15)) >> 16) as u32
     }
 
-    fn report(&self, op: &str, baseline: impl FnMut(u32), f: impl FnMut(u32)) -> u32 {
-        let n = self.count(baseline, f);
-        hprintln!("insns core={} op={} n={}", core_name(), op, n);
-        n
+    /// Instructions of one call of `handler` on a fresh copy of `start`
+    /// with input `(a, now)`, beyond [`idle`] on the same copy: the copy is
+    /// made in both loops, so it cancels. For an event whose cost depends on
+    /// the state it meets (an estimator's turn-on completes a cycle, its
+    /// turn-off does not).
+    fn count_from<T: Clone>(&self, start: &T, a: u32, now: Instant, handler: Handler<T>) -> u32 {
+        let empty = run(|_| {
+            let mut obj = start.clone();
+            black_box(idle(&mut obj, a, now));
+        });
+        let t = run(|_| {
+            let mut obj = start.clone();
+            black_box(handler(&mut obj, a, now));
+        })
+        .saturating_sub(empty);
+        ((u64::from(t) * self.per_tick / u64::from(CALLS) + (1 << 15)) >> 16) as u32
     }
 
-    /// Mean instructions per call of `f(code, now)` over the recorded
-    /// `codes`, one sample every 64 ticks from `base`.
-    fn count_stream(&self, codes: &[u16], base: u32, mut f: impl FnMut(u16, Instant)) -> u32 {
-        let input = |i: u32| {
-            let code = codes.get(i as usize).copied().unwrap_or(0);
-            (code, Instant(base.wrapping_add(i.wrapping_mul(64))))
-        };
-        self.count(
-            |i| {
-                black_box(input(i));
-            },
-            |i| {
-                let (code, now) = input(i);
-                f(code, now);
-            },
-        )
-    }
-
-    /// [`count_stream`](Self::count_stream), printed as `op`.
-    fn report_stream(
+    /// [`count`](Self::count), printed as `op`.
+    fn report<T>(
         &self,
         op: &str,
-        codes: &[u16],
-        base: u32,
-        f: impl FnMut(u16, Instant),
+        obj: &mut T,
+        input: impl Fn(u32) -> (u32, Instant),
+        handler: Handler<T>,
     ) -> u32 {
-        let n = self.count_stream(codes, base, f);
+        let n = self.count(obj, input, handler);
         hprintln!("insns core={} op={} n={}", core_name(), op, n);
         n
+    }
+}
+
+/// Call `i` of a stream of `codes`, one every 64 ticks (1 µs) from `base`.
+fn stream(codes: &[u16], base: u32) -> impl Fn(u32) -> (u32, Instant) + '_ {
+    move |i| {
+        let code = codes.get(i as usize).copied().unwrap_or(0);
+        (u32::from(code), Instant(base.wrapping_add(i.wrapping_mul(64))))
     }
 }
 
@@ -162,8 +276,6 @@ fn main() -> ! {
 
     let meter = Meter { per_tick: calibrate() };
     let mut rig = Rig::demo().unwrap();
-    // Inputs are functions of the call index (times advance with it), so
-    // each baseline prepares exactly what its operation consumes.
     let at = |i: u32, step: u32, base: u32| Instant(base.wrapping_add(i.wrapping_mul(step)));
     let mut base = 0u32;
     let mut next_base = |calls_span: u32| {
@@ -176,50 +288,33 @@ fn main() -> ! {
     let mut codes = [0u16; CALLS as usize];
     let b = next_base(64 * CALLS);
     let mut copy = rig.guard.clone();
-    regulating_codes(&mut codes, b, |c, t| copy.on_sample(c, t).gate.is_on());
-    meter.report_stream("hysteretic_guard", &codes, b, |c, t| {
-        black_box(rig.guard.on_sample(c, t));
-    });
+    regulating_codes(&mut codes, b, |c, t| sample(&mut copy, c.into(), t).gate.is_on());
+    meter.report("hysteretic_guard", &mut rig.guard, stream(&codes, b), sample);
     let b = next_base(64 * CALLS);
     let mut copy = rig.on_time.clone();
-    regulating_codes(&mut codes, b, |c, t| copy.on_sample(c, t).gate.is_on());
-    meter.report_stream("on_time_guard", &codes, b, |c, t| {
-        black_box(rig.on_time.on_sample(c, t));
-    });
+    regulating_codes(&mut codes, b, |c, t| sample(&mut copy, c.into(), t).gate.is_on());
+    meter.report("on_time_guard", &mut rig.on_time, stream(&codes, b), sample);
     let b = next_base(320 * CALLS);
-    meter.report(
-        "passthrough_guard",
-        |i| {
-            black_box((i & 1 == 0, at(i, 320, b)));
-        },
-        |i| {
-            black_box(rig.edge.on_edge(i & 1 == 0, at(i, 320, b)));
-        },
-    );
+    let levels = |i: u32| (u32::from(i & 1 == 0), at(i, 320, b));
+    meter.report("passthrough_guard", &mut rig.edge, levels, edge);
+    // The estimator's edges, each from the state it meets in a cycle of
+    // 560 ticks (8.75 µs) at 1 A: the turn-off ends an on-time; the
+    // turn-on ends an off-time and completes the cycle (its window sums).
     let mut est: CurrentEstimator = rig.estimator.clone();
-    let b = next_base(560 * CALLS);
+    let b = next_base(560);
     est.restart_at(Instant(b));
     est.shift(Amps::from_num(1));
-    let gate = |i: u32| if i & 1 == 0 { Gate::On } else { Gate::Off };
-    meter.report(
-        "estimator_edge",
-        |i| {
-            black_box((gate(i), at(i, 560, b)));
-        },
-        |i| {
-            black_box(est.on_gate(gate(i), at(i, 560, b)));
-        },
-    );
+    est.on_gate(Gate::On, Instant(b));
+    let (turn_off, turn_on) = (Instant(b + 120), Instant(b + 560));
+    let n = meter.count_from(&est, 0, turn_off, estimator_gate);
+    hprintln!("insns core={} op=estimator_turn_off n={}", core_name(), n);
+    est.on_gate(Gate::Off, turn_off);
+    let n = meter.count_from(&est, 1, turn_on, estimator_gate);
+    hprintln!("insns core={} op=estimator_turn_on n={}", core_name(), n);
+    est.on_gate(Gate::On, turn_on);
     let b = next_base(64 * CALLS);
-    meter.report(
-        "estimator_sample",
-        |i| {
-            black_box((code(i), at(i, 64, b)));
-        },
-        |i| {
-            est.on_output_code(code(i), at(i, 64, b));
-        },
-    );
+    let ripple = |i: u32| (u32::from(code(i)), at(i, 64, b));
+    meter.report("estimator_sample", &mut est, ripple, estimator_reading);
 
     // The supervisor, brought into regulation first.
     let (vin, vout) = (rig.vin, rig.vout);
@@ -230,60 +325,49 @@ fn main() -> ! {
     rig.stack.housekeeping(2900, &vin, &vout, Instant(b));
 
     // Regulating: the stack's own closed loop around the buck model (see
-    // `regulating_codes`), peak current below the limit.
+    // `regulating_codes`), peak current below the limit. The estimator's
+    // events are kept for its share below: each reading, packed with
+    // whether (and how) the gate switched at it.
     let b = next_base(64 * CALLS);
     let mut copy = rig.stack.clone();
-    regulating_codes(&mut codes, b, |c, t| copy.on_sample(c, t).gate.is_on());
-    let whole = meter.report_stream("supervisor_stack", &codes, b, |c, t| {
-        black_box(rig.stack.on_sample(c, t));
+    let mut events = [0u32; CALLS as usize];
+    let mut k = 0;
+    regulating_codes(&mut codes, b, |c, t| {
+        let was_on = copy.gate().is_on();
+        let on = sample(&mut copy, c.into(), t).gate.is_on();
+        let switched = if on != was_on { SWITCHED } else { 0 };
+        events[k] = u32::from(c) | switched | if on { SWITCHED_ON } else { 0 };
+        k += 1;
+        on
     });
-    // Its own share: the stack less the law and guard, and less the
-    // estimator's per-reading update (budgeted on its own), on the same
-    // stream.
-    let mut guard = rig.guard.clone();
-    let law = meter.count_stream(&codes, b, |c, t| {
-        black_box(guard.on_sample(c, t));
-    });
-    let mut est_alone = rig.stack.estimator().clone();
-    let reading = meter.count_stream(&codes, b, |c, t| est_alone.on_output_code(c, t));
-    hprintln!("insns core={} op=supervisor n={}", core_name(), whole.saturating_sub(law + reading));
+    let (mut est_alone, mut law_alone) = (rig.stack.estimator().clone(), rig.stack.inner().clone());
+    let whole = meter.report("supervisor_stack", &mut rig.stack, stream(&codes, b), sample);
+    // Its own share: the stack less what it hands on, each on the same
+    // stream: the law and guard, and the estimator (budgeted on its own,
+    // per event) given the same readings and gate edges.
+    let law = meter.count(&mut law_alone, stream(&codes, b), sample);
+    let estimator_input = |i: u32| (events.get(i as usize).copied().unwrap_or(0), at(i, 64, b));
+    let estimator = meter.count(&mut est_alone, estimator_input, estimator_events);
+    let own = whole.saturating_sub(law + estimator);
+    hprintln!("insns core={} op=supervisor n={}", core_name(), own);
 
     // Overload: the open-loop sweep holds the gate on for 32 samples, so
     // every cycle ends at the current limit (limit, forced turn-off, the
     // law asked what follows): the event path, reported beside the budget.
     let b = next_base(64 * CALLS);
-    meter.report(
-        "supervisor_stack_limited",
-        |i| {
-            black_box((code(i), at(i, 64, b)));
-        },
-        |i| {
-            black_box(rig.stack.on_sample(code(i), at(i, 64, b)));
-        },
-    );
+    let sweep = |i: u32| (u32::from(code(i)), at(i, 64, b));
+    meter.report("supervisor_stack_limited", &mut rig.stack, sweep, sample);
 
-    // The f64 oracles (soft float on both cores' f64) for comparison.
+    // The f64 oracles (soft float on both cores' f64) for comparison, on
+    // the same raw inputs: a ripple sweeping the band, and a demand toggling
+    // every 16 µs.
     let mut model = HystereticModel::new(5.0, 0.04);
-    let volts = |i: u32| 4.96 + f64::from(i & 63) * 0.00125;
-    meter.report(
-        "hysteretic_f64",
-        |i| {
-            black_box(volts(i));
-        },
-        |i| {
-            black_box(model.sample(volts(i)));
-        },
-    );
+    let b = next_base(64 * CALLS);
+    let ripple = |i: u32| (u32::from(code(i)), at(i, 64, b));
+    meter.report("hysteretic_f64", &mut model, ripple, hysteretic_f64);
     let mut guard = GuardModel::new(150e-9, 300e-9, 40e-6, 1.0 / 140e3);
-    meter.report(
-        "guard_f64",
-        |i| {
-            black_box((i & 16 == 0, f64::from(i) * 1e-6));
-        },
-        |i| {
-            black_box(guard.step(i & 16 == 0, f64::from(i) * 1e-6));
-        },
-    );
+    let demands = |i: u32| (u32::from(i & 16 == 0), at(i, 64, b));
+    meter.report("guard_f64", &mut guard, demands, guard_f64);
     debug::exit(debug::EXIT_SUCCESS);
     loop {
         cortex_m::asm::wfi();
