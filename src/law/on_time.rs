@@ -266,16 +266,20 @@ impl OnTime {
 impl Law for OnTime {
     #[inline]
     fn on_sample(&mut self, code: u16, now: Instant) -> Command {
-        if !self.gate_on {
-            match self.ripple {
-                None if code <= self.reference => self.demand = Gate::On,
-                None => {}
-                Some(r) => self.valley_with_ripple(r, code, now),
-            }
+        if self.gate_on {
+            return self.command(now);
         }
+        let Some(r) = self.ripple else {
+            // The plain valley compare; nothing is ever predicted.
+            if code <= self.reference {
+                self.demand = Gate::On;
+            }
+            return Command::hold(self.demand);
+        };
+        self.valley_with_ripple(r, code, now);
         match (self.demand, self.predicted) {
             (Gate::Off, Some(at)) => Command::until(Gate::Off, at),
-            _ => self.command(now),
+            _ => Command::hold(self.demand),
         }
     }
 
