@@ -403,6 +403,11 @@ impl<L: Law> Law for FrequencyGuard<L> {
         self.filter(demand, now)
     }
 
+    /// The window's minimum on-time.
+    fn min_on_ticks(&self) -> u32 {
+        self.window.min_on
+    }
+
     /// An outer stage (a supervisor) switched the gate itself, e.g. a fault
     /// turn-off: the guard times its limits from that edge.
     fn on_gate(&mut self, gate: Gate, at: Instant) {

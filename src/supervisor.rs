@@ -21,6 +21,12 @@
 //! - **Over-current**: cycle by cycle, the on-time ends when the estimated
 //!   current reaches the limit: a timer deadline is set for the predicted
 //!   crossing at each turn-on, and every call while on checks it (fast path).
+//!   Not before the wrapped stage's minimum on-time ([`Law::min_on_ticks`],
+//!   leading-edge blanking), so the limit never makes a pulse shorter than
+//!   the guard allows; a turn-on with the estimate already at the limit is
+//!   refused instead (valley hold-off, retried by the guard's next turn-on).
+//!   A pulse begun just below the limit can so pass it by up to the on-slope
+//!   times the minimum on-time.
 //! - **Short circuit**: that many consecutive cycles ended by the limit
 //!   while the output reads below half the present reference: off for the
 //!   hiccup time, then soft-start again. (Charging the output capacitor at
@@ -324,6 +330,10 @@ pub struct Supervisor<L> {
     limited_this_cycle: bool,
     // Predicted crossing of the current limit, set at each turn-on.
     limit_at: Option<Instant>,
+    // The wrapped stage's minimum on-time, ticks, and the end of the
+    // present pulse's blanking: the limit acts from then on.
+    blanking: u32,
+    blank_end: Instant,
     limited_streak: u16,
     retries: u16,
     stuck_streak: u16,
@@ -334,8 +344,11 @@ impl<L: Law + Regulate> Supervisor<L> {
     /// Wrap `inner`, whose present reference becomes the setpoint. Starts
     /// [`State::Off`]; the first [`housekeeping`](Self::housekeeping) with a
     /// good input begins the soft-start.
+    ///
+    /// The current limit keeps pulses at least `inner`'s
+    /// [`min_on_ticks`](Law::min_on_ticks), read here once.
     pub fn new(inner: L, estimator: CurrentEstimator, limits: Limits) -> Self {
-        let target = inner.reference_code();
+        let (target, blanking) = (inner.reference_code(), inner.min_on_ticks());
         Self {
             inner,
             estimator,
@@ -357,6 +370,8 @@ impl<L: Law + Regulate> Supervisor<L> {
             has_reading: false,
             limited_this_cycle: false,
             limit_at: None,
+            blanking,
+            blank_end: Instant(0),
             limited_streak: 0,
             retries: 0,
             stuck_streak: 0,
@@ -520,14 +535,14 @@ impl<L: Law + Regulate> Supervisor<L> {
     #[inline(always)]
     fn finish_with(&mut self, cmd: Command, now: Instant, current_now: Amps) -> Command {
         if cmd.gate != self.gate {
-            if let Some(fault) = self.follow_gate(cmd.gate, now) {
+            if let Some(fault) = self.follow_gate(cmd.gate, now, current_now) {
                 return fault;
             }
         }
         if !self.gate.is_on() {
             return cmd;
         }
-        if current_now >= self.limits.current_limit {
+        if current_now >= self.limits.current_limit && now.has_reached(self.blank_end) {
             return self.limit_current(now);
         }
         let wake = match (cmd.wake, self.limit_at) {
@@ -538,11 +553,13 @@ impl<L: Law + Regulate> Supervisor<L> {
     }
 
     /// The gate switches to `gate` at `now`: tell the estimator, check the
-    /// cycle it completes, and at a turn-on predict when the current will
-    /// reach the limit (the deadline then stands for the whole on-time; the
-    /// check at every call covers a slope that grew since).
+    /// cycle it completes, and at a turn-on set the blanking and predict
+    /// when the current will reach the limit (the deadline then stands for
+    /// the whole on-time; the check at every call covers a slope that grew
+    /// since). A turn-on at or above the limit gets no blanking: the limit
+    /// ends it at once (the hold-off).
     #[inline(always)]
-    fn follow_gate(&mut self, gate: Gate, now: Instant) -> Option<Command> {
+    fn follow_gate(&mut self, gate: Gate, now: Instant, current_now: Amps) -> Option<Command> {
         self.gate = gate;
         if let Some(done) = self.estimator.on_gate(gate, now) {
             if let Some(fault) = self.end_of_cycle(&done, now) {
@@ -550,8 +567,11 @@ impl<L: Law + Regulate> Supervisor<L> {
             }
         }
         if gate.is_on() {
+            let limit = self.limits.current_limit;
+            let blanking = if current_now >= limit { 0 } else { self.blanking };
+            self.blank_end = now.after(blanking);
             self.limit_at =
-                self.estimator.ticks_to_reach(self.limits.current_limit).map(|t| now.after(t));
+                self.estimator.ticks_to_reach(limit).map(|t| now.after(t.max(blanking)));
         }
         None
     }
@@ -720,5 +740,10 @@ impl<L: Law + Regulate> Law for Supervisor<L> {
         }
         let cmd = self.inner.on_timer(now);
         self.finish(cmd, now)
+    }
+
+    /// The wrapped stage's.
+    fn min_on_ticks(&self) -> u32 {
+        self.blanking
     }
 }

@@ -37,6 +37,11 @@ fn hard_short_is_limited_and_hiccups() {
         "peak {} A, limit {limit} A",
         out.recorder.il_peak_a
     );
+    // The limit ends pulses, but not before the guard's minimum on-time
+    // (its blanking): no pulse is shorter, cold start and short included.
+    let min_on = f64::from(s.control.window.min_on_s);
+    let shortest = out.recorder.cycles.iter().map(|c| c.on_s).fold(f64::INFINITY, f64::min);
+    assert!(shortest >= min_on, "shortest pulse {shortest} s, minimum on-time {min_on} s");
     let shorts: Vec<f64> =
         out.faults.iter().filter(|(k, _)| k.name() == "short-circuit").map(|f| f.1).collect();
     assert!(!shorts.is_empty(), "faults: {:?}", kinds(&out));

@@ -4,7 +4,7 @@ mod common;
 
 use common::cases;
 use proptest::prelude::*;
-use ripplectl::estimate::{CurrentEstimator, InductorModel};
+use ripplectl::estimate::{Amps, CurrentEstimator, InductorModel};
 use ripplectl::law::{Hysteretic, HystereticConfig, Regulate};
 use ripplectl::supervisor::{FaultKind, Limits, ProtectionConfig, State, Supervisor};
 use ripplectl::{AdcChannel, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig};
@@ -91,6 +91,45 @@ proptest! {
         prop_assert!(s.faults().count() <= ripplectl::supervisor::FAULT_LOG_LEN);
     }
 
+    /// The current limit never ends a pulse before the guard's minimum
+    /// on-time (leading-edge blanking): every pulse that ends while the
+    /// supervisor keeps switching lasted at least that long. The stream is
+    /// made to reach the limit: regulating, readings below the band (the law
+    /// asks for "on") and timer calls, often only a few ticks apart. (Faults
+    /// may end a pulse at once: they stop switching.)
+    #[test]
+    fn pulses_keep_the_minimum_on_time_under_the_current_limit(
+        events in prop::collection::vec(
+            (
+                prop_oneof![3 => 1u32..24, 1 => 1u32..2_000],
+                prop_oneof![
+                    3 => (1900u16..1990).prop_map(Event::Sample),
+                    2 => Just(Event::Timer),
+                ],
+            ),
+            1..600,
+        ),
+    ) {
+        let (mut s, mut t) = regulating(u32::MAX - 80_000);
+        let min_on = s.inner().window().min_on;
+        let mut rise = None;
+        for (dt, e) in &events {
+            t = t.wrapping_add(*dt);
+            apply(&mut s, e, Instant(t));
+            let switching = matches!(s.state(), State::SoftStart | State::Regulating);
+            match (s.gate(), rise) {
+                (Gate::On, None) => rise = Some(t),
+                (Gate::Off, Some(r)) => {
+                    if switching {
+                        prop_assert!(t.wrapping_sub(r) >= min_on, "pulse of {} ticks", t.wrapping_sub(r));
+                    }
+                    rise = None;
+                }
+                _ => {}
+            }
+        }
+    }
+
     /// An over-voltage reading turns the gate off in the same call, whatever
     /// came before.
     #[test]
@@ -172,4 +211,50 @@ fn invalid_protection_is_named() {
     assert_eq!(with(&|p| p.short_cycles = 0).unwrap_err(), CountZero);
     assert_eq!(with(&|p| p.vin_max_v = 60.0).unwrap_err(), VoltageOutsideAdcRange);
     assert_eq!(with(&|p| p.soft_start_s = 0.0).unwrap_err(), DurationBelowOneTick);
+}
+
+/// The demo stack brought into regulation at 28 V in (the ramp done), from
+/// `t`; returns it and the instant it regulates from.
+fn regulating(t: u32) -> (Stack, u32) {
+    let mut s = stack();
+    let (vout, vin) = channels();
+    s.on_sample(1984, Instant(t));
+    s.housekeeping(2900, &vin, &vout, Instant(t));
+    let t = t.wrapping_add(70_000);
+    s.housekeeping(2900, &vin, &vout, Instant(t));
+    assert_eq!(s.state(), State::Regulating);
+    (s, t)
+}
+
+/// Put the estimate at `amps` at `t` (its segment closed there first).
+fn estimate_at(s: &mut Stack, amps: f32, t: u32) {
+    let e = s.estimator_mut();
+    e.update(Instant(t));
+    let delta = Amps::from_num(amps) - e.current();
+    e.shift(delta);
+}
+
+#[test]
+fn a_turn_on_at_the_limit_is_refused_and_one_below_it_is_blanked() {
+    let (mut s, t0) = regulating(5_000);
+    let min_on = s.inner().window().min_on;
+    // The law asks for "on" (output below its band) with the estimate
+    // already past the 4 A limit: no pulse, and no fault.
+    let t1 = t0 + 1_000;
+    estimate_at(&mut s, 5.0, t1);
+    assert_eq!(s.on_sample(1900, Instant(t1)).gate, Gate::Off);
+    assert_eq!(s.gate(), Gate::Off);
+    assert_eq!((s.state(), s.faults().count()), (State::Regulating, 0));
+    // Just below the limit: the pulse starts, the limit would be crossed
+    // within a couple of ticks, but acts only at the minimum on-time.
+    let t2 = t1 + 1_000;
+    estimate_at(&mut s, 3.99, t2);
+    let cmd = s.on_sample(1900, Instant(t2));
+    assert_eq!(cmd.gate, Gate::On);
+    assert_eq!(cmd.wake, Some(Instant(t2 + min_on)), "deadline at the blanking's end");
+    let early = s.on_timer(Instant(t2 + 2));
+    assert_eq!(early.gate, Gate::On, "cut inside the blanking");
+    assert!(s.estimator().current_at(Instant(t2 + 2)) >= s.limits().current_limit);
+    assert_eq!(s.on_timer(Instant(t2 + min_on)).gate, Gate::Off);
+    assert_eq!(s.state(), State::Regulating);
 }

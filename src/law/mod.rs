@@ -103,6 +103,13 @@ pub trait Law {
     fn on_gate(&mut self, gate: Gate, at: Instant) {
         let _ = (gate, at);
     }
+
+    /// The shortest pulse this stage makes, timer ticks (`u32`): an outer
+    /// stage that ends pulses itself (the supervisor's current limit) keeps
+    /// each pulse at least this long. Default: 0, no minimum.
+    fn min_on_ticks(&self) -> u32 {
+        0
+    }
 }
 
 /// A law whose regulation reference can be moved on the slow path

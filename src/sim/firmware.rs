@@ -165,6 +165,14 @@ impl Law for Controller {
     fn on_gate(&mut self, gate: Gate, at: Instant) {
         self.law().on_gate(gate, at)
     }
+
+    fn min_on_ticks(&self) -> u32 {
+        match self {
+            Self::Hysteretic(g) => g.min_on_ticks(),
+            Self::OnTime(g) => g.min_on_ticks(),
+            Self::PassThrough(g, _) => g.min_on_ticks(),
+        }
+    }
 }
 
 /// The analog retrofit's reference is the board's own comparator: the
