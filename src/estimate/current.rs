@@ -41,7 +41,9 @@
 //!   steepest slope (75 µs for 47 µH and a 40 V input). Readings and edges
 //!   start new segments, so only a stretch with neither is cut short: keep
 //!   readings (or [`CurrentEstimator::update`]) coming faster than that; an
-//!   idle DCM gap beyond it changes nothing at zero current.
+//!   idle DCM gap beyond it changes nothing at zero current;
+//! - window sums ([`WindowTotals`]): ticks in `u32` (take a window at least
+//!   every 2³² ticks), currents in `i64` raw `Amps` bits.
 
 use crate::error::{finite, ConfigError};
 use crate::law::Gate;
