@@ -127,8 +127,7 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
     pub fn apply(&mut self, command: Command) -> Result<(), P::Error> {
         if command.gate != self.gate {
             if let Err(e) = self.write(command.gate) {
-                self.timer.disarm();
-                self.armed_end = false;
+                self.disarm();
                 // Best effort: the error being reported is the first one.
                 let _ = self.write(Gate::Off);
                 return Err(e);
@@ -140,10 +139,7 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
                 self.timer.arm(at, ends);
                 self.armed_end = ends;
             }
-            None => {
-                self.timer.disarm();
-                self.armed_end = false;
-            }
+            None => self.disarm(),
         }
         Ok(())
     }
@@ -164,8 +160,7 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
     ///
     /// Errors: the pin's error.
     pub fn shut_down(&mut self) -> Result<(), P::Error> {
-        self.timer.disarm();
-        self.armed_end = false;
+        self.disarm();
         self.write(Gate::Off)
     }
 
@@ -173,6 +168,13 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
     /// [`shut_down`](Self::shut_down) first).
     pub fn release(self) -> (P, T) {
         (self.pin, self.timer)
+    }
+
+    /// Cancel the compare, and with it any hardware pulse end.
+    #[inline(always)]
+    fn disarm(&mut self) {
+        self.timer.disarm();
+        self.armed_end = false;
     }
 
     /// Drive the pin's level for `gate`; the gate counts as changed only

@@ -30,7 +30,7 @@
 use crate::error::{finite, ConfigError};
 use crate::law::{Command, Gate, Law, Regulate};
 use crate::scale::TimerClock;
-use crate::tick::Instant;
+use crate::tick::{earliest, Instant};
 
 /// What the guard does when the law has not switched for longer than
 /// `1/f_min`.
@@ -369,15 +369,6 @@ impl<L: Law> FrequencyGuard<L> {
         let inner_wake =
             if self.gate == before { demand.wake } else { self.inner.on_timer(now).wake };
         Command { gate: guarded.gate, wake: earliest(now, guarded.wake, inner_wake) }
-    }
-}
-
-#[inline(always)]
-fn earliest(now: Instant, a: Option<Instant>, b: Option<Instant>) -> Option<Instant> {
-    match (a, b) {
-        (Some(a), Some(b)) => Some(now.earlier_of(a, b)),
-        (a, None) => a,
-        (None, b) => b,
     }
 }
 

@@ -51,7 +51,7 @@ use crate::error::{finite, ConfigError};
 use crate::estimate::current::{Amps, CurrentEstimator, CycleCurrents};
 use crate::law::{Command, Gate, Law, Regulate};
 use crate::scale::{AdcChannel, TimerClock};
-use crate::tick::Instant;
+use crate::tick::{earliest, Instant};
 use heapless::Deque;
 
 /// Capacity of the fault log.
@@ -545,11 +545,7 @@ impl<L: Law + Regulate> Supervisor<L> {
         if current_now >= self.limits.current_limit && now.has_reached(self.blank_end) {
             return self.limit_current(now);
         }
-        let wake = match (cmd.wake, self.limit_at) {
-            (Some(a), Some(b)) => Some(now.earlier_of(a, b)),
-            (a, b) => a.or(b),
-        };
-        Command { gate: Gate::On, wake }
+        Command { gate: Gate::On, wake: earliest(now, cmd.wake, self.limit_at) }
     }
 
     /// The gate switches to `gate` at `now`: tell the estimator, check the

@@ -47,3 +47,14 @@ impl Instant {
         }
     }
 }
+
+/// Of two optional deadlines, the one due first as seen from `now` (either
+/// alone if the other is absent): how stages merge their wake-ups.
+#[inline(always)]
+pub(crate) fn earliest(now: Instant, a: Option<Instant>, b: Option<Instant>) -> Option<Instant> {
+    match (a, b) {
+        (Some(a), Some(b)) => Some(now.earlier_of(a, b)),
+        (a, None) => a,
+        (None, b) => b,
+    }
+}

@@ -169,11 +169,22 @@ fn guard_f64(model: &mut GuardModel, demand: u32, now: Instant) -> Command {
     Command::hold(gate_of(model.step(demand != 0, f64::from(now.0) * TICK_S)))
 }
 
+/// One measurement line: `insns core=<m0|m4> op=<op> n=<n>`.
+fn print(op: &str, n: u32) {
+    hprintln!("insns core={} op={} n={}", core_name(), op, n);
+}
+
 struct Meter {
     per_tick: u64,
 }
 
 impl Meter {
+    /// Mean instructions per call from the SysTick ticks of `CALLS` calls,
+    /// rounded.
+    fn per_call(&self, ticks: u32) -> u32 {
+        ((u64::from(ticks) * self.per_tick / u64::from(CALLS) + (1 << 15)) >> 16) as u32
+    }
+
     /// Mean instructions per call of `handler` on `obj` with inputs
     /// `input(i)`, beyond the same calls of [`idle`]: input preparation,
     /// the call itself and loop overhead cancel.
@@ -192,7 +203,7 @@ impl Meter {
             black_box(handler(&mut *obj, a, now));
         })
         .saturating_sub(empty);
-        ((u64::from(t) * self.per_tick / u64::from(CALLS) + (1 << 15)) >> 16) as u32
+        self.per_call(t)
     }
 
     /// Instructions of one call of `handler` on a fresh copy of `start`
@@ -210,7 +221,7 @@ impl Meter {
             black_box(handler(&mut obj, a, now));
         })
         .saturating_sub(empty);
-        ((u64::from(t) * self.per_tick / u64::from(CALLS) + (1 << 15)) >> 16) as u32
+        self.per_call(t)
     }
 
     /// [`count`](Self::count), printed as `op`.
@@ -222,7 +233,7 @@ impl Meter {
         handler: Handler<T>,
     ) -> u32 {
         let n = self.count(obj, input, handler);
-        hprintln!("insns core={} op={} n={}", core_name(), op, n);
+        print(op, n);
         n
     }
 }
@@ -307,10 +318,10 @@ fn main() -> ! {
     est.on_gate(Gate::On, Instant(b));
     let (turn_off, turn_on) = (Instant(b + 120), Instant(b + 560));
     let n = meter.count_from(&est, 0, turn_off, estimator_gate);
-    hprintln!("insns core={} op=estimator_turn_off n={}", core_name(), n);
+    print("estimator_turn_off", n);
     est.on_gate(Gate::Off, turn_off);
     let n = meter.count_from(&est, 1, turn_on, estimator_gate);
-    hprintln!("insns core={} op=estimator_turn_on n={}", core_name(), n);
+    print("estimator_turn_on", n);
     est.on_gate(Gate::On, turn_on);
     let b = next_base(64 * CALLS);
     let ripple = |i: u32| (u32::from(code(i)), at(i, 64, b));
@@ -349,7 +360,7 @@ fn main() -> ! {
     let estimator_input = |i: u32| (events.get(i as usize).copied().unwrap_or(0), at(i, 64, b));
     let estimator = meter.count(&mut est_alone, estimator_input, estimator_events);
     let own = whole.saturating_sub(law + estimator);
-    hprintln!("insns core={} op=supervisor n={}", core_name(), own);
+    print("supervisor", own);
 
     // Overload: the open-loop sweep holds the gate on for 32 samples, so
     // every cycle ends at the current limit (limit, forced turn-off, the
