@@ -1,0 +1,79 @@
+//! `ripplectl`: run the firmware's control code against a simulated buck
+//! converter before flashing it.
+
+mod failure;
+mod simulate;
+mod sweep;
+
+use clap::{Parser, Subcommand};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+#[derive(Parser)]
+#[command(
+    name = "ripplectl",
+    version,
+    about = "Simulate ripple-based buck control firmware before flashing it"
+)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand)]
+enum Command {
+    /// Run one scenario (the built-in greenhouse demo unless --scenario).
+    Simulate {
+        /// Scenario file (TOML); see the README for the schema.
+        #[arg(long)]
+        scenario: Option<PathBuf>,
+        /// Write waveforms (CSV), a plot (SVG), the report and the JSON
+        /// summary into this directory.
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Print the summary as JSON on stdout instead of the table.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Run a grid of input voltage × load and compare the switching
+    /// frequency with the closed-form prediction.
+    Sweep {
+        /// Scenario file (TOML) to take the converter and firmware from.
+        #[arg(long)]
+        scenario: Option<PathBuf>,
+        /// Input voltages, V (default: 5 points across the scenario's input range).
+        #[arg(long, value_delimiter = ',')]
+        vin: Vec<f64>,
+        /// Load currents, A (default: 10 %, 50 % and 100 % of 2 A).
+        #[arg(long, value_delimiter = ',')]
+        load: Vec<f64>,
+        /// Simulated time per point, s.
+        #[arg(long, default_value_t = 4e-3)]
+        duration: f64,
+        /// Write the table (CSV), the plot (SVG) and the JSON into this directory.
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Print the grid as JSON on stdout instead of the table.
+        #[arg(long)]
+        json: bool,
+    },
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match &cli.command {
+        Command::Simulate { scenario, out, json } => {
+            simulate::simulate(scenario.as_deref(), out.as_deref(), *json)
+        }
+        Command::Sweep { scenario, vin, load, duration, out, json } => {
+            sweep::sweep(scenario.as_deref(), vin, load, *duration, out.as_deref(), *json)
+        }
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(f) => {
+            eprintln!("ripplectl: {}", f.message);
+            ExitCode::from(f.code)
+        }
+    }
+}

@@ -1,0 +1,41 @@
+//! `ripplectl simulate`: one scenario, its report and files.
+
+use crate::failure::{bad_input, failed, load_scenario, Failure};
+use ripplectl::sim::{self, report, Summary};
+use std::path::Path;
+use std::time::Instant;
+
+pub fn simulate(scenario: Option<&Path>, out: Option<&Path>, json: bool) -> Result<(), Failure> {
+    let scenario = load_scenario(scenario)?;
+    let started = Instant::now();
+    let output = sim::run(&scenario).map_err(bad_input)?;
+    let summary = Summary::of(&output, &scenario.name, started.elapsed().as_secs_f64());
+    let window = scenario.control.window;
+    let table = report::table(&summary, &window);
+    let summary_json = serde_json::to_string_pretty(&summary).map_err(failed)?;
+    if let Some(dir) = out {
+        let svg =
+            sim::plot::run_svg(&output.recorder.slices, &output.recorder.cycles, &summary, &window)
+                .map_err(failed)?;
+        report::write_all(
+            dir,
+            &[
+                ("waveforms.csv", report::slices_csv(&output.recorder.slices).into_bytes()),
+                ("cycles.csv", report::cycles_csv(&output.recorder.cycles).into_bytes()),
+                ("run.svg", svg.into_bytes()),
+                ("report.txt", table.clone().into_bytes()),
+                ("summary.json", summary_json.clone().into_bytes()),
+            ],
+        )
+        .map_err(|e| failed(format!("{}: {e}", dir.display())))?;
+    }
+    if json {
+        println!("{summary_json}");
+    } else {
+        print!("{table}");
+        if let Some(dir) = out {
+            println!("  written to {}", dir.display());
+        }
+    }
+    Ok(())
+}

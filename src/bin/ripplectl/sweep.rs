@@ -1,0 +1,99 @@
+//! `ripplectl sweep`: a grid of input voltage × load in parallel.
+
+use crate::failure::{bad_input, failed, load_scenario, Failure};
+use indicatif::{ProgressBar, ProgressStyle};
+use ripplectl::sim::{self, report};
+use std::path::Path;
+
+fn sweep_table(points: &[sim::sweep::SweepPoint]) -> String {
+    let mut s = String::from(
+        "   vin V   load A   f predicted   f simulated   error     ripple    efficiency\n",
+    );
+    for p in points {
+        let err = 100.0 * (p.fsw_simulated_hz - p.fsw_predicted_hz) / p.fsw_predicted_hz;
+        s += &format!(
+            "  {:6.1}   {:6.2}   {:>11}   {:>11}   {:+5.1} %   {:>8}   {:6.1} %\n",
+            p.vin_v,
+            p.load_a,
+            report::eng(p.fsw_predicted_hz, "Hz"),
+            report::eng(p.fsw_simulated_hz, "Hz"),
+            err,
+            report::eng(p.vout_ripple_pp_v, "V"),
+            100.0 * p.efficiency_true
+        );
+    }
+    s
+}
+
+fn sweep_csv(points: &[sim::sweep::SweepPoint]) -> String {
+    let mut s = String::from("vin_v,load_a,fsw_predicted_hz,fsw_simulated_hz,vout_mean_v,vout_ripple_pp_v,efficiency_true,il_peak_a\n");
+    for p in points {
+        s += &format!(
+            "{},{},{},{},{},{},{},{}\n",
+            p.vin_v,
+            p.load_a,
+            p.fsw_predicted_hz,
+            p.fsw_simulated_hz,
+            p.vout_mean_v,
+            p.vout_ripple_pp_v,
+            p.efficiency_true,
+            p.il_peak_a
+        );
+    }
+    s
+}
+
+pub fn sweep(
+    scenario: Option<&Path>,
+    vin: &[f64],
+    load: &[f64],
+    duration: f64,
+    out: Option<&Path>,
+    json: bool,
+) -> Result<(), Failure> {
+    let base = load_scenario(scenario)?;
+    if !(duration.is_finite() && duration > 0.0) {
+        return Err(bad_input("--duration must be a positive number of seconds"));
+    }
+    let vins: Vec<f64> = if vin.is_empty() {
+        let (lo, hi) = base.profile().input_range();
+        (0..5).map(|k| lo + (hi - lo) * f64::from(k) / 4.0).collect()
+    } else {
+        vin.to_vec()
+    };
+    let loads: Vec<f64> = if load.is_empty() { vec![0.2, 1.0, 2.0] } else { load.to_vec() };
+    let setpoint = base.control.law.setpoint_v();
+    if let Some(v) = vins.iter().find(|&&v| !(v.is_finite() && v > setpoint)) {
+        return Err(bad_input(format!("--vin {v}: must exceed the {setpoint} V setpoint")));
+    }
+    if let Some(l) = loads.iter().find(|&&l| !(l.is_finite() && l > 0.0)) {
+        return Err(bad_input(format!("--load {l}: must be a positive current")));
+    }
+    let bar = ProgressBar::new((vins.len() * loads.len()) as u64);
+    bar.set_style(
+        ProgressStyle::with_template("{bar:40} {pos}/{len} points {elapsed}").map_err(failed)?,
+    );
+    let points =
+        sim::sweep::sweep(&base, &vins, &loads, duration, &|| bar.inc(1)).map_err(bad_input)?;
+    bar.finish_and_clear();
+    let grid_json = serde_json::to_string_pretty(&points).map_err(failed)?;
+    if let Some(dir) = out {
+        let svg = sim::plot::sweep_svg(&points, &format!("{}: switching frequency", base.name))
+            .map_err(failed)?;
+        report::write_all(
+            dir,
+            &[
+                ("sweep.csv", sweep_csv(&points).into_bytes()),
+                ("sweep.svg", svg.into_bytes()),
+                ("sweep.json", grid_json.clone().into_bytes()),
+            ],
+        )
+        .map_err(|e| failed(format!("{}: {e}", dir.display())))?;
+    }
+    if json {
+        println!("{grid_json}");
+    } else {
+        print!("{}", sweep_table(&points));
+    }
+    Ok(())
+}
