@@ -6,7 +6,7 @@ use ripplectl::estimate::{CurrentEstimator, InductorModel};
 use ripplectl::law::{
     ComparatorPassThrough, EmulatedRipple, Hysteretic, HystereticConfig, OnTime, OnTimeConfig,
 };
-use ripplectl::supervisor::{Limits, ProtectionConfig, Supervisor};
+use ripplectl::stack::{Stack, StackConfig, StackParts};
 use ripplectl::{AdcChannel, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig};
 use std::hint::black_box;
 
@@ -87,24 +87,40 @@ fn bench_estimator(c: &mut Criterion) {
     });
 }
 
-fn bench_supervisor(c: &mut Criterion) {
-    let clock = TimerClock::new(64_000_000).unwrap();
-    let vout = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0).unwrap();
-    let vin = AdcChannel::new(12, 3.3, 0.0826, 0.0).unwrap();
-    let law = Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).unwrap();
-    let limits = Limits::new(&ProtectionConfig::demo(), &vout, &vin, &clock, 1984).unwrap();
-    let mut stack = Supervisor::new(demo_guard(law), demo_estimator(&clock, &vout), limits);
-    stack.on_sample(1984, Instant(0));
-    stack.housekeeping(2900, &vin, &vout, Instant(0));
-    stack.housekeeping(2900, &vin, &vout, Instant(70_000));
+/// The demo stack (the one wiring shared with the simulator and the
+/// target), brought into regulation.
+fn regulating_stack() -> Stack<Hysteretic> {
+    let config = StackConfig::demo();
+    let parts = StackParts::new(&config).unwrap();
+    let cfg = HystereticConfig { setpoint_v: config.setpoint_v, band_v: 0.04 };
+    let mut stack = Stack::new(Hysteretic::new(&cfg, &config.output_adc).unwrap(), parts);
+    stack.on_conversion(1984, 2900, Instant(0));
+    stack.housekeeping(Instant(0));
+    stack.on_conversion(1984, 2900, Instant(70_000));
+    stack.housekeeping(Instant(70_000));
+    stack
+}
+
+fn bench_stack(c: &mut Criterion) {
+    let mut stack = regulating_stack();
     let codes = ripple_codes();
     let mut t = 70_000u32;
     let mut i = 0usize;
-    c.bench_function("supervisor + guard + hysteretic on_sample", |b| {
+    c.bench_function("stack (supervisor, estimator, guard, hysteretic) per conversion", |b| {
         b.iter(|| {
             t = t.wrapping_add(64);
             i = (i + 1) & 63;
-            black_box(stack.on_sample(black_box(codes[i]), Instant(t)))
+            black_box(stack.on_conversion(black_box(codes[i]), 2900, Instant(t)))
+        })
+    });
+    c.bench_function("stack housekeeping (slow path, 100 conversions a window)", |b| {
+        b.iter(|| {
+            for _ in 0..100 {
+                t = t.wrapping_add(64);
+                i = (i + 1) & 63;
+                black_box(stack.on_conversion(codes[i], 2900, Instant(t)));
+            }
+            black_box(stack.housekeeping(Instant(t)))
         })
     });
 }
@@ -138,6 +154,6 @@ criterion_group!(
     bench_passthrough,
     bench_on_time,
     bench_estimator,
-    bench_supervisor
+    bench_stack
 );
 criterion_main!(benches);

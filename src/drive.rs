@@ -10,8 +10,8 @@
 //!
 //! ```text
 //!   ADC done ──▶ stack.on_sample(code, now) ──┐
-//!   compare  ──▶ driver.compare_fired();      ├──▶ driver.apply(command)
-//!                stack.on_timer(now) ─────────┘      ├─ pin: set_high / set_low (on change)
+//!   compare  ──▶ at = driver.compare_fired(now) ├──▶ driver.apply(command)
+//!                stack.on_timer(at or now) ──┘       ├─ pin: set_high / set_low (on change)
 //!                                                     └─ timer: arm(wake) / disarm
 //! ```
 //!
@@ -21,10 +21,15 @@
 //! that shows as period jitter. Timers with an output-compare "clear on
 //! match" (or one-pulse) mode can end the pulse at the compare tick
 //! themselves. Build the driver with [`PulseEnd::Hardware`] when every
-//! deadline armed while the gate is on ends the pulse, as with the on-time
-//! law (on-time end, current limit, maximum on-time); the hysteretic law's
-//! guard may arm a minimum on-time that keeps the gate on, so use
-//! [`PulseEnd::Software`] there.
+//! deadline armed while the gate is on ends the pulse. Inside a
+//! [`FrequencyGuard`](crate::FrequencyGuard) and a
+//! [`Supervisor`](crate::supervisor::Supervisor) that holds for the crate's
+//! laws: while on, the guard arms the maximum on-time (the law asks for
+//! "on") or the minimum on-time's end (the law already asked for "off"),
+//! the on-time law its on-time's end, the supervisor the predicted current
+//! limit (a slope that fell since the turn-on ends such a pulse early: on
+//! the safe side). A law of your own that arms deadlines while on which
+//! must not end the pulse needs [`PulseEnd::Software`].
 //!
 //! All methods are fast-path code: no division, no float, no panic, bounded
 //! time. Pin errors are returned after the gate was driven to its safe
@@ -87,7 +92,8 @@ pub struct GateDriver<P, T> {
     polarity: Polarity,
     pulse_end: PulseEnd,
     gate: Gate,
-    armed_end: bool,
+    // The compare armed to end the pulse in hardware, if any.
+    armed_end: Option<Instant>,
 }
 
 impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
@@ -102,8 +108,7 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
         pulse_end: PulseEnd,
     ) -> Result<Self, P::Error> {
         timer.disarm();
-        let mut driver =
-            Self { pin, timer, polarity, pulse_end, gate: Gate::Off, armed_end: false };
+        let mut driver = Self { pin, timer, polarity, pulse_end, gate: Gate::Off, armed_end: None };
         driver.write(Gate::Off)?;
         Ok(driver)
     }
@@ -137,22 +142,27 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
             Some(at) => {
                 let ends = self.gate.is_on() && self.pulse_end == PulseEnd::Hardware;
                 self.timer.arm(at, ends);
-                self.armed_end = ends;
+                self.armed_end = ends.then_some(at);
             }
             None => self.disarm(),
         }
         Ok(())
     }
 
-    /// Fast path, first in the compare interrupt: when the compare ended
-    /// the pulse in hardware, the gate is now off (the next
-    /// [`apply`](Self::apply) drives it on again if the law still asks).
+    /// Fast path, first in the compare interrupt (`now`: the timer's
+    /// reading in the handler): when the compare ended the pulse in
+    /// hardware, the gate is now off, and this returns the compare's
+    /// instant, when the edge really happened: hand that, not `now`, to
+    /// [`Law::on_timer`](crate::Law::on_timer), so the estimator and the
+    /// guard time the turn-off right despite the interrupt's latency. The
+    /// next [`apply`](Self::apply) drives the gate on again if the law
+    /// still asks. `None`: no hardware pulse end was due (use `now`).
     #[inline]
-    pub fn compare_fired(&mut self) {
-        if self.armed_end {
-            self.gate = Gate::Off;
-            self.armed_end = false;
-        }
+    pub fn compare_fired(&mut self, now: Instant) -> Option<Instant> {
+        let at = self.armed_end.filter(|&at| now.has_reached(at))?;
+        self.gate = Gate::Off;
+        self.armed_end = None;
+        Some(at)
     }
 
     /// Fast path: gate off now and timer disarmed, whatever the law says
@@ -174,7 +184,7 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
     #[inline(always)]
     fn disarm(&mut self) {
         self.timer.disarm();
-        self.armed_end = false;
+        self.armed_end = None;
     }
 
     /// Drive the pin's level for `gate`; the gate counts as changed only

@@ -1,128 +1,230 @@
-//! Configuration errors.
+//! Configuration errors: which parameter, and what is wrong with it.
 //!
-//! Every value handed to a constructor is checked once, at configuration time.
-//! An impossible or inconsistent value returns one of these variants; nothing
-//! is clamped silently and nothing panics.
+//! Every value handed to a constructor is checked once, at configuration
+//! time. An impossible or inconsistent value returns a [`ConfigError`] that
+//! names the parameter (as the configuration struct spells its field, e.g.
+//! `band_v`, `f_min_hz`) and one [`ErrorKind`]; nothing is clamped silently
+//! and nothing panics.
+//!
+//! Constructors are `const fn`, so a firmware can hold its configuration in
+//! a `const` evaluated by the compiler. There, [`unwrap_config`] turns a
+//! refusal into a build error whose message names the parameter:
+//!
+//! ```
+//! use ripplectl::{unwrap_config, TimerClock};
+//! const CLOCK: TimerClock = unwrap_config(TimerClock::new(64_000_000));
+//! # assert_eq!(CLOCK.hz(), 64_000_000);
+//! ```
+//!
+//! ```compile_fail
+//! use ripplectl::{unwrap_config, TimerClock};
+//! // error[E0080]: evaluation panicked: clock_hz: must be positive
+//! const CLOCK: TimerClock = unwrap_config(TimerClock::new(0));
+//! ```
 
 use core::fmt;
 
-/// Why a configuration was refused.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+/// What is wrong with a refused value.
+#[derive(Clone, Copy, Debug, PartialEq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub enum ConfigError {
-    /// A value was NaN or infinite.
+#[non_exhaustive]
+pub enum ErrorKind {
+    /// NaN or infinite.
     NotFinite,
-    /// ADC resolution outside 1..=16 bits.
-    AdcBitsOutOfRange,
-    /// ADC reference voltage not strictly positive.
-    AdcReferenceNotPositive,
-    /// Divider ratio (ADC-pin volts per signal volt) not strictly positive.
-    DividerRatioNotPositive,
-    /// ADC offset at or beyond the reference voltage in magnitude.
-    AdcOffsetOutOfRange,
-    /// A voltage converts to a code below 0 or above the ADC's full-scale code.
-    VoltageOutsideAdcRange,
-    /// Timer clock of 0 Hz.
-    ClockZero,
-    /// A duration was negative.
-    DurationNegative,
-    /// A duration needs more than 2³¹ − 1 timer ticks, beyond what wrapping
-    /// tick arithmetic can compare.
-    DurationTooLong,
-    /// A duration that must be at least one tick rounds to zero ticks.
-    DurationBelowOneTick,
-    /// Output setpoint not strictly positive.
-    SetpointNotPositive,
-    /// Upper threshold (setpoint + half band) above the ADC's full-scale code.
-    SetpointAboveAdcRange,
-    /// Hysteresis band not strictly positive.
-    BandNotPositive,
-    /// Hysteresis band narrower than one ADC code at the ADC pin.
-    BandBelowOneCode,
-    /// Lower threshold (setpoint − half band) below code 0.
-    ThresholdBelowAdcRange,
-    /// A frequency was not strictly positive.
-    FrequencyNotPositive,
-    /// Minimum switching frequency at or above the maximum.
-    FrequencyWindowInverted,
-    /// Minimum on-time longer than the maximum on-time.
-    MinOnExceedsMaxOn,
-    /// Minimum on-time plus minimum off-time reach the longest allowed period
-    /// (1 / f_min): the window cannot be met.
-    PulsesExceedMaxPeriod,
-    /// Inductance not strictly positive.
-    InductanceNotPositive,
-    /// Capacitance not strictly positive.
-    CapacitanceNotPositive,
-    /// A resistance or forward voltage was negative.
-    ResistanceNegative,
-    /// An observer pole outside the unit circle's interior (0 < pole < 1).
-    ObserverPoleOutOfRange,
-    /// The observer's model is not observable from the output voltage.
+    /// Must be strictly positive.
+    NotPositive,
+    /// Must not be negative.
+    Negative,
+    /// Must lie within `[min, max]` (in the parameter's own unit).
+    OutOfRange {
+        /// Smallest value accepted.
+        min: f32,
+        /// Largest value accepted.
+        max: f32,
+    },
+    /// Must be below the parameter named here (an inverted pair).
+    NotBelow(&'static str),
+    /// Must be above the parameter named here (an inverted pair).
+    NotAbove(&'static str),
+    /// Finer than the hardware resolves: rounds to zero timer ticks, or is
+    /// narrower than one ADC code.
+    BelowResolution,
+    /// Needs more than 2³¹ − 1 timer ticks, beyond what wrapping tick
+    /// arithmetic can compare.
+    TooLong,
+    /// The averaged model would not see the inductor current through the
+    /// output voltage (the observer's resistance is zero).
     NotObservable,
-    /// A protection threshold is out of order (e.g. UVLO off above UVLO on,
-    /// over-voltage below the setpoint).
-    ThresholdsOutOfOrder,
-    /// A current limit not strictly positive.
-    CurrentLimitNotPositive,
-    /// A count that must be at least one is zero.
-    CountZero,
     /// The output's own ripple is too small for a plain valley on-time loop
     /// (`ESR·C` not above half the on-time): configure emulated ripple.
     RippleTooSmall,
 }
 
-impl ConfigError {
-    /// A one-line description, the same text as [`fmt::Display`].
-    pub const fn message(self) -> &'static str {
+impl ErrorKind {
+    /// What is wrong, as a phrase that follows the parameter's name.
+    pub const fn phrase(self) -> &'static str {
         match self {
-            Self::NotFinite => "a value is NaN or infinite",
-            Self::AdcBitsOutOfRange => "ADC resolution must be 1 to 16 bits",
-            Self::AdcReferenceNotPositive => "ADC reference voltage must be positive",
-            Self::DividerRatioNotPositive => "divider ratio must be positive",
-            Self::AdcOffsetOutOfRange => "ADC offset must be smaller than the reference",
-            Self::VoltageOutsideAdcRange => "voltage lies outside the ADC's range",
-            Self::ClockZero => "timer clock must be above 0 Hz",
-            Self::DurationNegative => "duration must not be negative",
-            Self::DurationTooLong => "duration exceeds 2^31 - 1 timer ticks",
-            Self::DurationBelowOneTick => "duration rounds to zero timer ticks",
-            Self::SetpointNotPositive => "setpoint must be positive",
-            Self::SetpointAboveAdcRange => "setpoint plus half band exceeds the ADC's range",
-            Self::BandNotPositive => "hysteresis band must be positive",
-            Self::BandBelowOneCode => "hysteresis band is narrower than one ADC code",
-            Self::ThresholdBelowAdcRange => "setpoint minus half band is below ADC code 0",
-            Self::FrequencyNotPositive => "frequency must be positive",
-            Self::FrequencyWindowInverted => "minimum frequency must be below maximum frequency",
-            Self::MinOnExceedsMaxOn => "minimum on-time exceeds maximum on-time",
-            Self::PulsesExceedMaxPeriod => {
-                "minimum on-time plus minimum off-time reach the longest allowed period"
+            Self::NotFinite => "must be a finite number",
+            Self::NotPositive => "must be positive",
+            Self::Negative => "must not be negative",
+            Self::OutOfRange { .. } => "is out of range",
+            Self::NotBelow(_) => "must be below",
+            Self::NotAbove(_) => "must be above",
+            Self::BelowResolution => "is finer than one timer tick or ADC code",
+            Self::TooLong => "exceeds 2^31 - 1 timer ticks",
+            Self::NotObservable => {
+                "leaves the inductor current unobservable from the output voltage"
             }
-            Self::InductanceNotPositive => "inductance must be positive",
-            Self::CapacitanceNotPositive => "capacitance must be positive",
-            Self::ResistanceNegative => "resistances and forward voltages must not be negative",
-            Self::ObserverPoleOutOfRange => "observer poles must lie strictly between 0 and 1",
-            Self::NotObservable => "the observer cannot see the current through the output voltage",
-            Self::ThresholdsOutOfOrder => "protection thresholds are out of order",
-            Self::CurrentLimitNotPositive => "current limit must be positive",
-            Self::CountZero => "a count must be at least one",
-            Self::RippleTooSmall => "ESR times C is below half the on-time: the plain on-time loop would be unstable; add emulated ripple",
+            Self::RippleTooSmall => "gives too little ripple for a plain valley loop (ESR·C below half the on-time): configure emulated ripple",
+        }
+    }
+}
+
+/// A refused configuration value.
+#[derive(Clone, Copy, Debug, PartialEq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+#[non_exhaustive]
+pub struct ConfigError {
+    /// The parameter, as its configuration struct spells the field.
+    pub parameter: &'static str,
+    /// What is wrong with it.
+    pub kind: ErrorKind,
+}
+
+impl ConfigError {
+    /// `parameter` refused for `kind`.
+    pub const fn new(parameter: &'static str, kind: ErrorKind) -> Self {
+        Self { parameter, kind }
+    }
+
+    /// The same refusal under another parameter name (a builder that
+    /// derived the value from its own parameter).
+    pub const fn renamed(self, parameter: &'static str) -> Self {
+        Self { parameter, kind: self.kind }
+    }
+
+    /// Stop a compile-time evaluation with a message that names the
+    /// parameter and the kind (`band_v: must be positive`).
+    pub const fn fail(self) -> ! {
+        let mut buf = [b' '; 192];
+        let mut n = 0;
+        let other = match self.kind {
+            ErrorKind::NotBelow(o) | ErrorKind::NotAbove(o) => o,
+            _ => "",
+        };
+        let parts = [self.parameter, ": ", self.kind.phrase(), " ", other];
+        let mut i = 0;
+        while i < parts.len() {
+            let bytes = parts[i].as_bytes();
+            let mut j = 0;
+            while j < bytes.len() && n < buf.len() {
+                buf[n] = bytes[j];
+                n += 1;
+                j += 1;
+            }
+            i += 1;
+        }
+        let (text, _) = buf.split_at(n);
+        match core::str::from_utf8(text) {
+            Ok(message) => panic!("{}", message),
+            Err(_) => panic!("{}", self.parameter),
+        }
+    }
+}
+
+impl fmt::Display for ErrorKind {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.phrase())?;
+        match *self {
+            Self::NotBelow(other) | Self::NotAbove(other) => write!(f, " `{other}`"),
+            Self::OutOfRange { min, max } => write!(f, " [{min}, {max}]"),
+            _ => Ok(()),
         }
     }
 }
 
 impl fmt::Display for ConfigError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        f.write_str(self.message())
+        write!(f, "`{}` {}", self.parameter, self.kind)
     }
 }
 
 impl core::error::Error for ConfigError {}
 
-/// Refuse NaN and infinities.
-pub(crate) fn finite(x: f32) -> Result<f32, ConfigError> {
+/// The value of a configuration result, for `const` items: a refusal stops
+/// the build with a message naming the parameter ([`ConfigError::fail`]).
+/// At run time it panics the same way; use the `Result` there instead.
+pub const fn unwrap_config<T: Copy>(result: Result<T, ConfigError>) -> T {
+    match result {
+        Ok(value) => value,
+        Err(e) => e.fail(),
+    }
+}
+
+/// `?` for `const fn`: return the error, or give the value.
+macro_rules! attempt {
+    ($e:expr) => {
+        match $e {
+            Ok(v) => v,
+            Err(e) => return Err(e),
+        }
+    };
+}
+pub(crate) use attempt;
+
+/// Refuse NaN and infinities, under the parameter's name.
+pub(crate) const fn finite(parameter: &'static str, x: f64) -> Result<f64, ConfigError> {
     if x.is_finite() {
         Ok(x)
     } else {
-        Err(ConfigError::NotFinite)
+        Err(ConfigError::new(parameter, ErrorKind::NotFinite))
+    }
+}
+
+/// Require a finite `x > 0`.
+pub(crate) const fn positive(parameter: &'static str, x: f64) -> Result<f64, ConfigError> {
+    let x = attempt!(finite(parameter, x));
+    if x > 0.0 {
+        Ok(x)
+    } else {
+        Err(ConfigError::new(parameter, ErrorKind::NotPositive))
+    }
+}
+
+/// Require a finite `x ≥ 0`.
+pub(crate) const fn non_negative(parameter: &'static str, x: f64) -> Result<f64, ConfigError> {
+    let x = attempt!(finite(parameter, x));
+    if x >= 0.0 {
+        Ok(x)
+    } else {
+        Err(ConfigError::new(parameter, ErrorKind::Negative))
+    }
+}
+
+/// Require a finite `x` within `[min, max]`.
+pub(crate) const fn within(
+    parameter: &'static str,
+    x: f64,
+    min: f64,
+    max: f64,
+) -> Result<f64, ConfigError> {
+    let x = attempt!(finite(parameter, x));
+    if x >= min && x <= max {
+        Ok(x)
+    } else {
+        Err(ConfigError::new(parameter, ErrorKind::OutOfRange { min: min as f32, max: max as f32 }))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn display_names_the_parameter() {
+        let e = ConfigError::new("f_min_hz", ErrorKind::NotBelow("f_max_hz"));
+        assert_eq!(e.to_string(), "`f_min_hz` must be below `f_max_hz`");
+        let e = ConfigError::new("adc_bits", ErrorKind::OutOfRange { min: 1.0, max: 16.0 });
+        assert_eq!(e.to_string(), "`adc_bits` is out of range [1, 16]");
     }
 }

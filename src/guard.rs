@@ -27,8 +27,8 @@
 //! ([`Command::wake`]) at every deadline it depends on, which keeps that true
 //! even in edge mode on an idle converter.
 
-use crate::error::{finite, ConfigError};
-use crate::law::{Command, Gate, Law, Regulate};
+use crate::error::{attempt, positive, ConfigError, ErrorKind};
+use crate::law::{Command, Conditions, Gate, Law, Regulate};
 use crate::scale::TimerClock;
 use crate::tick::{earliest, Instant};
 
@@ -118,33 +118,34 @@ pub struct Window {
 impl Window {
     /// Convert and check a [`WindowConfig`] for a timer clock.
     ///
-    /// Errors: [`ConfigError::NotFinite`], [`ConfigError::FrequencyNotPositive`],
-    /// [`ConfigError::FrequencyWindowInverted`], [`ConfigError::DurationNegative`],
-    /// [`ConfigError::DurationTooLong`], [`ConfigError::DurationBelowOneTick`]
-    /// (an on-, off- or maximum on-time, or a period), [`ConfigError::MinOnExceedsMaxOn`],
-    /// [`ConfigError::PulsesExceedMaxPeriod`].
-    pub fn new(config: &WindowConfig, clock: &TimerClock) -> Result<Self, ConfigError> {
-        let f_min = finite(config.f_min_hz)?;
-        let f_max = finite(config.f_max_hz)?;
-        if f_min <= 0.0 || f_max <= 0.0 {
-            return Err(ConfigError::FrequencyNotPositive);
-        }
+    /// Errors name the field: not finite or not positive; `f_min_hz` not
+    /// below `f_max_hz` ([`ErrorKind::NotBelow`], also when both round to
+    /// the same period); a time that rounds to zero ticks
+    /// ([`ErrorKind::BelowResolution`]) or exceeds 2³¹ − 1 ticks;
+    /// `min_on_s` above `max_on_s`; `min_on_s` + `min_off_s` not below the
+    /// longest period `1/f_min_hz` (reported on `min_off_s`).
+    pub const fn new(config: &WindowConfig, clock: &TimerClock) -> Result<Self, ConfigError> {
+        let f_min = attempt!(positive("f_min_hz", config.f_min_hz as f64));
+        let f_max = attempt!(positive("f_max_hz", config.f_max_hz as f64));
         if f_min >= f_max {
-            return Err(ConfigError::FrequencyWindowInverted);
+            return Err(ConfigError::new("f_min_hz", ErrorKind::NotBelow("f_max_hz")));
         }
-        let min_on = clock.to_ticks_nonzero(config.min_on_s)?.raw;
-        let min_off = clock.to_ticks_nonzero(config.min_off_s)?.raw;
-        let max_on = clock.to_ticks_nonzero(config.max_on_s)?.raw;
+        let min_on = attempt!(clock.ticks_nonzero_for("min_on_s", config.min_on_s as f64)).raw;
+        let min_off = attempt!(clock.ticks_nonzero_for("min_off_s", config.min_off_s as f64)).raw;
+        let max_on = attempt!(clock.ticks_nonzero_for("max_on_s", config.max_on_s as f64)).raw;
         if min_on > max_on {
-            return Err(ConfigError::MinOnExceedsMaxOn);
+            return Err(ConfigError::new("min_on_s", ErrorKind::NotBelow("max_on_s")));
         }
-        let min_period = clock.period_ticks(f_max)?.raw;
-        let max_period = clock.period_ticks(f_min)?.raw;
+        let min_period = attempt!(clock.period_ticks_for("f_max_hz", f_max)).raw;
+        let max_period = attempt!(clock.period_ticks_for("f_min_hz", f_min)).raw;
         if max_period <= min_period {
-            return Err(ConfigError::FrequencyWindowInverted);
+            return Err(ConfigError::new("f_min_hz", ErrorKind::NotBelow("f_max_hz")));
         }
-        if u64::from(min_on) + u64::from(min_off) >= u64::from(max_period) {
-            return Err(ConfigError::PulsesExceedMaxPeriod);
+        if min_on as u64 + min_off as u64 >= max_period as u64 {
+            return Err(ConfigError::new(
+                "min_off_s",
+                ErrorKind::NotBelow("1/f_min_hz - min_on_s"),
+            ));
         }
         Ok(Self { min_on, min_off, max_on, min_period, max_period, light_load: config.light_load })
     }
@@ -399,6 +400,10 @@ impl<L: Law> Law for FrequencyGuard<L> {
         self.window.min_on
     }
 
+    fn comparator_code(&self) -> Option<u16> {
+        self.inner.comparator_code()
+    }
+
     /// An outer stage (a supervisor) switched the gate itself, e.g. a fault
     /// turn-off: the guard times its limits from that edge.
     fn on_gate(&mut self, gate: Gate, at: Instant) {
@@ -418,5 +423,9 @@ impl<L: Regulate> Regulate for FrequencyGuard<L> {
 
     fn set_reference(&mut self, code: u16) {
         self.inner.set_reference(code);
+    }
+
+    fn retune(&mut self, conditions: &Conditions) {
+        self.inner.retune(conditions);
     }
 }

@@ -17,18 +17,25 @@
 //! | [`reference`](mod@reference) | `f64` models in SI units: the oracle for tests |
 //! | [`estimate`] | inductor current (fast path), observer and efficiency (slow path) |
 //! | [`supervisor`] | start-up, UVLO, soft-start, OVP, OCP, hiccup, sensor faults, fault log |
+//! | [`stack`] | the whole firmware: supervisor, guarded law, estimator, slow path, interrupt entry points |
 //! | [`drive`] | commands to hardware: gate pin (embedded-hal) and one-shot timer |
-//! | [`error`] | configuration errors |
+//! | [`error`] | configuration errors: the parameter and what is wrong |
+//! | [`units`] | the slow path's fixed-point quantities |
+//! | [`math`] | `const fn` functions for configuration; fixed-point `log₂`/`2^x` |
 //! | [`design`] | closed-form predictions: frequency, ripple, CCM/DCM, peak current |
 //! | `sim` | (feature `std`) switched plant, MCU model, scenarios, reports, plots |
 //!
 //! ## Fast path and slow path
 //!
 //! Methods marked *fast path* run in the switching interrupt: integer
-//! arithmetic only, no division, no float, no panic, no loop. Everything
-//! else (constructors, retuning) is *slow path* and may divide and use
-//! floats. Configuration is checked once; invalid values give a named
-//! [`ConfigError`], never a panic or a silent clamp.
+//! arithmetic only, no division, no float, no panic, no loop. The *slow
+//! path* (housekeeping, 1–20 kHz) may divide but stays integer: no float at
+//! run time anywhere in the [`stack`]. *Configuration* (SI units in, codes,
+//! ticks and fixed-point coefficients out) is `const fn`: a firmware
+//! evaluates it at compile time in `const` items, so its image carries no
+//! floating-point code; the host runs the same functions at start-up.
+//! Configuration is checked once; a refused value gives a [`ConfigError`]
+//! naming the parameter, never a panic or a silent clamp.
 //!
 //! ## Safety
 //!
@@ -47,15 +54,18 @@ pub mod error;
 pub mod estimate;
 pub mod guard;
 pub mod law;
+pub mod math;
 pub mod reference;
 pub mod scale;
+pub mod stack;
 pub mod supervisor;
 pub mod tick;
+pub mod units;
 
 #[cfg(feature = "std")]
 pub mod sim;
 
-pub use error::ConfigError;
+pub use error::{unwrap_config, ConfigError, ErrorKind};
 pub use guard::{ClampCounts, FrequencyGuard, LightLoad, Window, WindowConfig};
 pub use law::{Command, Gate, Law};
 pub use scale::{AdcChannel, Quantized, TimerClock};

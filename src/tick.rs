@@ -4,7 +4,7 @@
 //! 2³² ticks (67 s at 64 MHz), so two readings are only ever compared through
 //! their wrapping difference: [`Instant::ticks_since`]. Durations are plain
 //! `u32` tick counts and must stay below 2³¹ so the difference is unambiguous;
-//! configuration refuses longer ones ([`crate::ConfigError::DurationTooLong`]).
+//! configuration refuses longer ones ([`crate::ErrorKind::TooLong`]).
 
 /// A reading of the free-running timer, in ticks of the configured clock.
 ///

@@ -5,7 +5,6 @@
 use ripplectl::sim::scenario::LawParams;
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::{self, RunError, Scenario};
-use ripplectl::ConfigError;
 
 fn ceramic() -> Scenario {
     let text = std::fs::read_to_string(
@@ -42,7 +41,9 @@ fn period_jitter(s: &Scenario) -> f64 {
 #[test]
 fn the_ripple_check_refuses_the_plain_loop() {
     let s = without_emulated_ripple(ceramic(), false);
-    assert_eq!(sim::run(&s).unwrap_err(), RunError::Config(ConfigError::RippleTooSmall));
+    let RunError::Config(e) = sim::run(&s).unwrap_err();
+    assert_eq!(e.key, "plant.esr_ohm", "{e}");
+    assert!(e.message.contains("emulated ripple"), "{e}");
     // The polymer output (40 mΩ, 220 µF: ESR·C = 8.8 µs ≫ T_on/2) passes.
     let mut polymer = s.clone();
     polymer.plant.esr_ohm = 0.040;

@@ -92,12 +92,13 @@ fn a_hardware_pulse_end_is_followed_and_re_driven() {
     );
     d.apply(Command::until(Gate::On, Instant(200))).unwrap();
     assert_eq!(d.timer().armed, Some((Instant(200), true)));
-    d.compare_fired();
+    // The handler runs after its entry latency: the edge was at the compare.
+    assert_eq!(d.compare_fired(Instant(216)), Some(Instant(200)));
     assert_eq!(d.gate(), Gate::Off);
     d.apply(Command::hold(Gate::On)).unwrap();
     // That command armed nothing: a later compare (a stale interrupt)
     // leaves the driven gate alone.
-    d.compare_fired();
+    assert_eq!(d.compare_fired(Instant(300)), None);
     assert_eq!(d.gate(), Gate::On, "no pulse end was armed");
     finish(d);
 }
@@ -140,7 +141,8 @@ fn on_time_law_through_the_driver() {
     assert_eq!(d.gate(), Gate::On);
     assert_eq!(d.timer().armed, Some((t_on.after(on_ticks), true)));
     // The compare fires: the hardware ended the pulse, and the law agrees.
-    d.compare_fired();
+    let at = d.compare_fired(t_on.after(on_ticks + 16));
+    assert_eq!(at, Some(t_on.after(on_ticks)));
     let cmd = stack.on_timer(t_on.after(on_ticks));
     assert_eq!(cmd.gate, Gate::Off);
     d.apply(cmd).unwrap();

@@ -7,7 +7,9 @@ use common::{cases, Harness};
 use proptest::prelude::*;
 use ripplectl::law::ComparatorPassThrough;
 use ripplectl::reference::GuardModel;
-use ripplectl::{ConfigError, FrequencyGuard, LightLoad, TimerClock, Window, WindowConfig};
+use ripplectl::{
+    ConfigError, ErrorKind, FrequencyGuard, LightLoad, TimerClock, Window, WindowConfig,
+};
 
 /// Gate edges (unwrapped ticks) checked against the window.
 fn check_waveform(edges: &[(u64, bool)], end: u64, w: &Window) -> Result<(), String> {
@@ -192,21 +194,25 @@ fn inconsistent_windows_are_named() {
         f(&mut c);
         Window::new(&c, &clock)
     };
-    assert_eq!(with(&|c| c.f_min_hz = 200e3), Err(ConfigError::FrequencyWindowInverted));
-    assert_eq!(with(&|c| c.f_min_hz = 140e3), Err(ConfigError::FrequencyWindowInverted));
-    assert_eq!(with(&|c| c.min_on_s = 50e-6), Err(ConfigError::MinOnExceedsMaxOn));
-    assert_eq!(with(&|c| c.f_max_hz = 0.0), Err(ConfigError::FrequencyNotPositive));
-    assert_eq!(with(&|c| c.min_off_s = -1e-9), Err(ConfigError::DurationNegative));
-    assert_eq!(with(&|c| c.max_on_s = 1e-10), Err(ConfigError::DurationBelowOneTick));
-    assert_eq!(with(&|c| c.min_off_s = 0.0), Err(ConfigError::DurationBelowOneTick));
+    fn refused<T>(p: &'static str, k: ErrorKind) -> Result<T, ConfigError> {
+        Err(ConfigError::new(p, k))
+    }
+    let below = |p, other| refused(p, ErrorKind::NotBelow(other));
+    assert_eq!(with(&|c| c.f_min_hz = 200e3), below("f_min_hz", "f_max_hz"));
+    assert_eq!(with(&|c| c.f_min_hz = 140e3), below("f_min_hz", "f_max_hz"));
+    assert_eq!(with(&|c| c.min_on_s = 50e-6), below("min_on_s", "max_on_s"));
+    assert_eq!(with(&|c| c.f_max_hz = 0.0), refused("f_max_hz", ErrorKind::NotPositive));
+    assert_eq!(with(&|c| c.min_off_s = -1e-9), refused("min_off_s", ErrorKind::Negative));
+    assert_eq!(with(&|c| c.max_on_s = 1e-10), refused("max_on_s", ErrorKind::BelowResolution));
+    assert_eq!(with(&|c| c.min_off_s = 0.0), refused("min_off_s", ErrorKind::BelowResolution));
     assert_eq!(
         with(&|c| {
             c.min_on_s = 30e-6;
             c.min_off_s = 25e-6;
         }),
-        Err(ConfigError::PulsesExceedMaxPeriod)
+        below("min_off_s", "1/f_min_hz - min_on_s")
     );
-    assert_eq!(with(&|c| c.max_on_s = f32::NAN), Err(ConfigError::NotFinite));
+    assert_eq!(with(&|c| c.max_on_s = f32::NAN), refused("max_on_s", ErrorKind::NotFinite));
 }
 
 #[test]

@@ -6,7 +6,7 @@ use common::{cases, ideal_adc};
 use proptest::prelude::*;
 use ripplectl::law::{Hysteretic, HystereticConfig, Threshold};
 use ripplectl::reference::HystereticModel;
-use ripplectl::{AdcChannel, ConfigError, Gate, Instant, Law};
+use ripplectl::{AdcChannel, ConfigError, ErrorKind, Gate, Instant, Law};
 
 fn channel() -> impl Strategy<Value = AdcChannel> {
     (8u8..=16, 1.0f32..5.0, 0.05f32..1.0)
@@ -37,8 +37,9 @@ proptest! {
     fn threshold_conversion_error_at_most_half_a_code((adc, cfg, _s) in law_and_samples()) {
         if let Ok(law) = Hysteretic::new(&cfg, &adc) {
             let half = f64::from(cfg.band_v) / 2.0;
-            let lo = adc.exact_code(f64::from(cfg.setpoint_v - cfg.band_v / 2.0));
-            let hi = adc.exact_code(f64::from(cfg.setpoint_v + cfg.band_v / 2.0));
+            let setpoint = f64::from(cfg.setpoint_v);
+            let lo = adc.exact_code(setpoint - half);
+            let hi = adc.exact_code(setpoint + half);
             prop_assert!((f64::from(law.lower_code()) - lo).abs() <= 0.5 + 1e-3, "lower");
             prop_assert!((f64::from(law.upper_code()) - hi).abs() <= 0.5 + 1e-3, "upper");
             prop_assert!(half > 0.0 && law.lower_code() < law.upper_code());
@@ -122,10 +123,15 @@ fn invalid_configurations_are_named() {
     let build =
         |setpoint_v, band_v| Hysteretic::new(&HystereticConfig { setpoint_v, band_v }, &adc);
     // One code at the output is 2.52 mV.
-    assert_eq!(build(5.0, 0.002).unwrap_err(), ConfigError::BandBelowOneCode);
-    assert_eq!(build(11.0, 0.04).unwrap_err(), ConfigError::SetpointAboveAdcRange);
-    assert_eq!(build(0.01, 0.04).unwrap_err(), ConfigError::ThresholdBelowAdcRange);
-    assert_eq!(build(-1.0, 0.04).unwrap_err(), ConfigError::SetpointNotPositive);
-    assert_eq!(build(5.0, 0.0).unwrap_err(), ConfigError::BandNotPositive);
-    assert_eq!(build(5.0, f32::INFINITY).unwrap_err(), ConfigError::NotFinite);
+    fn refused<T>(p: &'static str, k: ErrorKind) -> Result<T, ConfigError> {
+        Err(ConfigError::new(p, k))
+    }
+    assert_eq!(build(5.0, 0.002), refused("band_v", ErrorKind::BelowResolution));
+    let range = |e: ConfigError| (e.parameter, matches!(e.kind, ErrorKind::OutOfRange { .. }));
+    // The channel reads 0 to 10.32 V.
+    assert_eq!(range(build(11.0, 0.04).unwrap_err()), ("setpoint_v", true));
+    assert_eq!(range(build(0.01, 0.04).unwrap_err()), ("band_v", true));
+    assert_eq!(build(-1.0, 0.04), refused("setpoint_v", ErrorKind::NotPositive));
+    assert_eq!(build(5.0, 0.0), refused("band_v", ErrorKind::NotPositive));
+    assert_eq!(build(5.0, f32::INFINITY), refused("band_v", ErrorKind::NotFinite));
 }

@@ -9,7 +9,8 @@ use ripplectl::law::{
     DcCorrection, FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
 };
 use ripplectl::reference::OnTimeModel;
-use ripplectl::{AdcChannel, ConfigError, Gate, Instant, Law, TimerClock};
+use ripplectl::units::{Volts, ONE};
+use ripplectl::{AdcChannel, ConfigError, ErrorKind, Gate, Instant, Law, TimerClock};
 
 proptest! {
     #![proptest_config(cases(10_000))]
@@ -73,9 +74,14 @@ fn on_time_converts_and_refuses() {
     assert_eq!(law.reference_code(), 1984);
     let bad =
         |setpoint_v, on_time_s| OnTime::new(&OnTimeConfig { setpoint_v, on_time_s }, &adc, &clock);
-    assert_eq!(bad(5.0, 1e-9).unwrap_err(), ConfigError::DurationBelowOneTick);
-    assert_eq!(bad(-5.0, 2e-6).unwrap_err(), ConfigError::SetpointNotPositive);
-    assert_eq!(bad(20.0, 2e-6).unwrap_err(), ConfigError::SetpointAboveAdcRange);
+    fn refused<T>(p: &'static str, k: ErrorKind) -> Result<T, ConfigError> {
+        Err(ConfigError::new(p, k))
+    }
+    assert_eq!(bad(5.0, 1e-9), refused("on_time_s", ErrorKind::BelowResolution));
+    assert_eq!(bad(-5.0, 2e-6), refused("setpoint_v", ErrorKind::NotPositive));
+    let e = bad(20.0, 2e-6).unwrap_err();
+    assert_eq!(e.parameter, "setpoint_v");
+    assert!(matches!(e.kind, ErrorKind::OutOfRange { .. }), "{e}");
 }
 
 #[test]
@@ -86,30 +92,35 @@ fn feed_forward_holds_the_ccm_frequency() {
     let clock = TimerClock::new(64_000_000).unwrap();
     let ff = OnTimeFeedForward::new(5.0, 100e3, &clock).unwrap();
     for vin in [18.0f32, 24.0, 32.0] {
-        let ticks = ff.on_ticks(vin, 1.0);
+        let ticks = ff.on_ticks(Volts::from_num(vin), ONE);
         let f = ripplectl::design::on_time_frequency(f64::from(vin), 5.0, f64::from(ticks) / 64e6);
         assert!((f - 100e3).abs() / 100e3 < 0.005, "{vin} V: {f} Hz");
     }
-    assert_eq!(ff.on_ticks(f32::NAN, 1.0), 1);
+    // A trim of 0.8 shortens the on-time by that factor.
+    let full = f64::from(ff.on_ticks(Volts::from_num(24), ONE));
+    let trimmed = f64::from(ff.on_ticks(Volts::from_num(24), ONE * 4 / 5));
+    assert!((trimmed / full - 0.8).abs() < 0.01, "{trimmed} / {full}");
+    assert_eq!(ff.on_ticks(Volts::ZERO, ONE), 1);
 }
 
 #[test]
 fn trim_integrates_bounded_and_holds_for_the_guard() {
-    let mut trim = FrequencyTrim::new(100e3, 0.5, 0.5, 1.5).unwrap();
-    // 10 % long periods (90 kHz): the on-time shrinks.
-    let t1 = trim.update(Some(11e-6), false);
-    assert!(t1 < 1.0 && (t1 - 0.95).abs() < 1e-6, "{t1}");
-    // Held while the guard binds.
-    assert_eq!(trim.update(Some(20e-6), true), t1);
+    let clock = TimerClock::new(64_000_000).unwrap();
+    let mut trim = FrequencyTrim::new(100e3, 0.5, 0.5, 1.5, &clock).unwrap();
+    // 10 % long periods (90 kHz: 704 ticks against 640, over 10 cycles):
+    // trim ← 1 − 0.5·0.1 = 0.95.
+    let t1 = trim.update(10, 7_040, false);
+    assert!((f64::from(t1) / f64::from(ONE) - 0.95).abs() < 1e-4, "{t1}");
+    // Held while the guard binds, and without cycles.
+    assert_eq!(trim.update(10, 12_800, true), t1);
+    assert_eq!(trim.update(0, 0, false), t1);
     // Bounded.
     for _ in 0..100 {
-        trim.update(Some(20e-6), false);
+        trim.update(10, 12_800, false);
     }
-    assert_eq!(trim.trim(), 0.5);
-    assert_eq!(
-        FrequencyTrim::new(100e3, 2.0, 0.5, 1.5).unwrap_err(),
-        ConfigError::ThresholdsOutOfOrder
-    );
+    assert_eq!(trim.trim(), ONE / 2);
+    let e = FrequencyTrim::new(100e3, 2.0, 0.5, 1.5, &clock).unwrap_err();
+    assert_eq!(e.parameter, "trim_gain");
 }
 
 #[test]
@@ -122,7 +133,7 @@ fn dc_correction_moves_the_reference_by_the_error() {
     // The mean sits 8 codes high: the reference comes down, bounded.
     let mut r = 0;
     for _ in 0..50 {
-        r = dc.update(1992.0, &mut law);
+        r = dc.update(1992 << 16, &mut law);
     }
     assert_eq!(r, 1964);
     assert_eq!(law.reference_code(), 1964);

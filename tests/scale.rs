@@ -8,7 +8,7 @@
 mod common;
 
 use proptest::prelude::*;
-use ripplectl::{AdcChannel, ConfigError, TimerClock};
+use ripplectl::{AdcChannel, ConfigError, ErrorKind, TimerClock};
 
 #[test]
 fn lsb_is_reference_over_two_to_the_n() {
@@ -27,7 +27,14 @@ fn half_scale_and_full_scale_codes() {
     let top = f64::from(adc.to_volts(4095));
     assert!((top - (3.3 - 3.3 / 4096.0)).abs() < 1e-6);
     // A voltage beyond FS − ½ LSB has no code.
-    assert_eq!(adc.to_code(3.3), Err(ConfigError::VoltageOutsideAdcRange));
+    let e = adc.to_code(3.3).unwrap_err();
+    assert_eq!(e.parameter, "signal_v");
+    let ErrorKind::OutOfRange { min, max } = e.kind else { panic!("{e}") };
+    // The range reported is the codes' edges in volts: −½ LSB to FS − ½ LSB.
+    assert!(
+        (f64::from(min) + 3.3 / 8192.0).abs() < 1e-6
+            && (f64::from(max) - (3.3 - 3.3 / 8192.0)).abs() < 1e-6
+    );
 }
 
 #[test]
@@ -47,18 +54,32 @@ fn divider_and_offset_refer_codes_to_the_signal() {
 
 #[test]
 fn bad_channels_and_clocks_are_named() {
-    assert_eq!(AdcChannel::new(0, 3.3, 1.0, 0.0), Err(ConfigError::AdcBitsOutOfRange));
-    assert_eq!(AdcChannel::new(17, 3.3, 1.0, 0.0), Err(ConfigError::AdcBitsOutOfRange));
-    assert_eq!(AdcChannel::new(12, 0.0, 1.0, 0.0), Err(ConfigError::AdcReferenceNotPositive));
-    assert_eq!(AdcChannel::new(12, 3.3, -0.5, 0.0), Err(ConfigError::DividerRatioNotPositive));
-    assert_eq!(AdcChannel::new(12, 3.3, 1.0, 3.3), Err(ConfigError::AdcOffsetOutOfRange));
-    assert_eq!(AdcChannel::new(12, f32::NAN, 1.0, 0.0), Err(ConfigError::NotFinite));
-    assert_eq!(TimerClock::new(0), Err(ConfigError::ClockZero));
+    fn refused<T>(p: &'static str, k: ErrorKind) -> Result<T, ConfigError> {
+        Err(ConfigError::new(p, k))
+    }
+    let bits = ErrorKind::OutOfRange { min: 1.0, max: 16.0 };
+    assert_eq!(AdcChannel::new(0, 3.3, 1.0, 0.0), refused("adc_bits", bits));
+    assert_eq!(AdcChannel::new(17, 3.3, 1.0, 0.0), refused("adc_bits", bits));
+    assert_eq!(
+        AdcChannel::new(12, 0.0, 1.0, 0.0),
+        refused("adc_reference_v", ErrorKind::NotPositive)
+    );
+    assert_eq!(
+        AdcChannel::new(12, 3.3, -0.5, 0.0),
+        refused("divider_ratio", ErrorKind::NotPositive)
+    );
+    let offset = ErrorKind::OutOfRange { min: -3.3, max: 3.3 };
+    assert_eq!(AdcChannel::new(12, 3.3, 1.0, 3.3), refused("adc_offset_v", offset));
+    assert_eq!(
+        AdcChannel::new(12, f32::NAN, 1.0, 0.0),
+        refused("adc_reference_v", ErrorKind::NotFinite)
+    );
+    assert_eq!(TimerClock::new(0), refused("clock_hz", ErrorKind::NotPositive));
     let clock = TimerClock::new(64_000_000).unwrap();
-    assert_eq!(clock.to_ticks(-1e-6), Err(ConfigError::DurationNegative));
-    assert_eq!(clock.to_ticks(40.0), Err(ConfigError::DurationTooLong));
-    assert_eq!(clock.to_ticks_nonzero(1e-9), Err(ConfigError::DurationBelowOneTick));
-    assert_eq!(clock.period_ticks(0.0), Err(ConfigError::FrequencyNotPositive));
+    assert_eq!(clock.to_ticks(-1e-6), refused("seconds", ErrorKind::Negative));
+    assert_eq!(clock.to_ticks(40.0), refused("seconds", ErrorKind::TooLong));
+    assert_eq!(clock.to_ticks_nonzero(1e-9), refused("seconds", ErrorKind::BelowResolution));
+    assert_eq!(clock.period_ticks(0.0), refused("hz_signal", ErrorKind::NotPositive));
 }
 
 #[test]

@@ -27,7 +27,9 @@ fn stack() -> Stack {
     let clock = TimerClock::new(64_000_000).unwrap();
     let law = Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).unwrap();
     let guard = FrequencyGuard::new(law, Window::new(&WindowConfig::demo(), &clock).unwrap());
-    let est = CurrentEstimator::new(&InductorModel::demo(), &clock, 40.0).unwrap();
+    let mut est = CurrentEstimator::new(&InductorModel::demo(), &clock, 40.0).unwrap();
+    est.follow_output(&vout);
+    est.follow_input(&vin);
     let limits = Limits::new(&protection(), &vout, &vin, &clock, 1984).unwrap();
     Supervisor::new(guard, est, limits)
 }
@@ -54,13 +56,12 @@ fn event() -> impl Strategy<Value = (u32, Event)> {
 }
 
 fn apply(s: &mut Stack, e: &Event, now: Instant) -> Option<Gate> {
-    let (vout, vin) = channels();
     match *e {
         Event::Sample(c) => Some(s.on_sample(c, now).gate),
         Event::Edge(l) => Some(s.on_edge(l, now).gate),
         Event::Timer => Some(s.on_timer(now).gate),
         Event::Housekeeping(v) => {
-            s.housekeeping(v, &vin, &vout, now);
+            s.housekeeping(v, now);
             None
         }
     }
@@ -138,10 +139,9 @@ proptest! {
         ovp_code in 2183u16..4095,
     ) {
         let mut s = stack();
-        let (vout, vin) = channels();
         let mut t = 1_000u32;
         s.on_sample(1984, Instant(t));
-        s.housekeeping(2900, &vin, &vout, Instant(t));
+        s.housekeeping(2900, Instant(t));
         for (dt, e) in &events {
             t = t.wrapping_add(*dt);
             apply(&mut s, e, Instant(t));
@@ -168,29 +168,29 @@ fn over_voltage_threshold_is_the_configured_one() {
 #[test]
 fn uvlo_hysteresis_and_soft_start() {
     let mut s = stack();
-    let (vout, vin) = channels();
+    let (_, vin) = channels();
     let code = |v: f32| vin.to_code(v).unwrap().raw;
     let mut t = Instant(0);
     s.on_sample(0, t);
     // 15.5 V: between UVLO off and on: stays off.
-    s.housekeeping(code(15.5), &vin, &vout, t);
+    s.housekeeping(code(15.5), t);
     assert_eq!(s.state(), State::Off);
-    s.housekeeping(code(16.5), &vin, &vout, t);
+    s.housekeeping(code(16.5), t);
     assert_eq!(s.state(), State::SoftStart);
     assert_eq!(s.inner().reference_code(), 0, "ramp starts at the present output");
     // Half-way through the 1 ms ramp the reference is half-way.
     t = t.after(32_000);
-    s.housekeeping(code(24.0), &vin, &vout, t);
+    s.housekeeping(code(24.0), t);
     let half = s.inner().reference_code();
     assert!((i32::from(half) - 1984 / 2).abs() <= 2, "reference {half}");
     t = t.after(40_000);
-    s.housekeeping(code(24.0), &vin, &vout, t);
+    s.housekeeping(code(24.0), t);
     assert_eq!(s.state(), State::Regulating);
     assert_eq!(s.inner().reference_code(), 1984);
     // A sag to 15.5 V keeps running (hysteresis); 14.5 V stops and logs.
-    s.housekeeping(code(15.5), &vin, &vout, t);
+    s.housekeeping(code(15.5), t);
     assert_eq!(s.state(), State::Regulating);
-    s.housekeeping(code(14.5), &vin, &vout, t);
+    s.housekeeping(code(14.5), t);
     assert_eq!(s.state(), State::Off);
     assert_eq!(s.faults().last().unwrap().kind, FaultKind::InputUndervoltage);
 }
@@ -204,24 +204,33 @@ fn invalid_protection_is_named() {
         f(&mut p);
         Limits::new(&p, &vout, &vin, &clock, 1984)
     };
-    use ripplectl::ConfigError::*;
-    assert_eq!(with(&|p| p.uvlo_off_v = 17.0).unwrap_err(), ThresholdsOutOfOrder);
-    assert_eq!(with(&|p| p.ovp_v = 4.0).unwrap_err(), ThresholdsOutOfOrder);
-    assert_eq!(with(&|p| p.current_limit_a = 0.0).unwrap_err(), CurrentLimitNotPositive);
-    assert_eq!(with(&|p| p.short_cycles = 0).unwrap_err(), CountZero);
-    assert_eq!(with(&|p| p.vin_max_v = 60.0).unwrap_err(), VoltageOutsideAdcRange);
-    assert_eq!(with(&|p| p.soft_start_s = 0.0).unwrap_err(), DurationBelowOneTick);
+    use ripplectl::{ConfigError, ErrorKind};
+    let named = |r: Result<Limits, ConfigError>| r.map(|_| ()).map_err(|e| (e.parameter, e.kind));
+    let below = |other| ErrorKind::NotBelow(other);
+    assert_eq!(named(with(&|p| p.uvlo_off_v = 17.0)), Err(("uvlo_off_v", below("uvlo_on_v"))));
+    assert_eq!(named(with(&|p| p.ovp_v = 4.0)), Err(("setpoint_v", below("ovp_v"))));
+    assert_eq!(
+        named(with(&|p| p.current_limit_a = 0.0)),
+        Err(("current_limit_a", ErrorKind::NotPositive))
+    );
+    assert_eq!(named(with(&|p| p.short_cycles = 0)), Err(("short_cycles", ErrorKind::NotPositive)));
+    let e = with(&|p| p.vin_max_v = 60.0).unwrap_err();
+    assert_eq!(e.parameter, "vin_max_v");
+    assert!(matches!(e.kind, ErrorKind::OutOfRange { .. }));
+    assert_eq!(
+        named(with(&|p| p.soft_start_s = 0.0)),
+        Err(("soft_start_s", ErrorKind::BelowResolution))
+    );
 }
 
 /// The demo stack brought into regulation at 28 V in (the ramp done), from
 /// `t`; returns it and the instant it regulates from.
 fn regulating(t: u32) -> (Stack, u32) {
     let mut s = stack();
-    let (vout, vin) = channels();
     s.on_sample(1984, Instant(t));
-    s.housekeeping(2900, &vin, &vout, Instant(t));
+    s.housekeeping(2900, Instant(t));
     let t = t.wrapping_add(70_000);
-    s.housekeeping(2900, &vin, &vout, Instant(t));
+    s.housekeeping(2900, Instant(t));
     assert_eq!(s.state(), State::Regulating);
     (s, t)
 }

@@ -43,16 +43,19 @@
 //!   readings (or [`CurrentEstimator::update`]) coming faster than that; an
 //!   idle DCM gap beyond it changes nothing at zero current;
 //! - window sums ([`WindowTotals`]): ticks in `u32` (take a window at least
-//!   every 2³² ticks), currents in `i64` raw `Amps` bits.
+//!   every 2³² ticks), currents in `i64` raw `Amps` bits;
+//! - a window's phases ([`Phases`]): currents in [`Amps`], shares of the
+//!   window as [`Fraction`]s (2¹⁶ = 1), mean squares in A² with 16 fraction
+//!   bits (`i64`). The slow path forms them with integer arithmetic only
+//!   (divisions included), so a core without an FPU links no float code.
 
-use crate::error::{finite, ConfigError};
+use crate::error::{attempt, non_negative, positive, ConfigError};
 use crate::law::Gate;
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
-use fixed::types::{I16F16, I8F24};
-
-/// Current, amperes: `I16F16` (see the module's formats).
-pub type Amps = I16F16;
+pub use crate::units::Amps;
+use crate::units::{clamp_i32, ratio, scale, to_fixed_i32, to_fixed_i64, Fraction};
+use fixed::types::I8F24;
 
 /// Largest current magnitude held, in `Amps` bits: 2 048 A.
 const CURRENT_LIMIT_BITS: i32 = 2_048 << 16;
@@ -93,22 +96,42 @@ impl InductorModel {
     }
 
     /// Resistance in the current's path while on, Ω.
-    pub fn on_resistance(&self) -> f32 {
+    pub const fn on_resistance(&self) -> f32 {
         self.r_on_ohm + self.dcr_ohm
     }
 
     /// Resistance in the current's path while off, Ω.
-    pub fn off_resistance(&self) -> f32 {
-        self.r_low_ohm.unwrap_or(self.diode_rd_ohm) + self.dcr_ohm
+    pub const fn off_resistance(&self) -> f32 {
+        let path = match self.r_low_ohm {
+            Some(r) => r,
+            None => self.diode_rd_ohm,
+        };
+        path + self.dcr_ohm
     }
 
     /// Freewheeling drop while off, V (0 for a synchronous stage).
-    pub fn freewheel_v(&self) -> f32 {
+    pub const fn freewheel_v(&self) -> f32 {
         if self.r_low_ohm.is_some() {
             0.0
         } else {
             self.diode_vf_v
         }
+    }
+
+    /// Check every value (configuration).
+    ///
+    /// Errors: `l_h` not positive; `r_on_ohm`, `dcr_ohm`, `diode_vf_v`,
+    /// `diode_rd_ohm` or `r_low_ohm` negative; any of them not finite.
+    pub const fn check(&self) -> Result<(), ConfigError> {
+        attempt!(positive("l_h", self.l_h as f64));
+        attempt!(non_negative("r_on_ohm", self.r_on_ohm as f64));
+        attempt!(non_negative("dcr_ohm", self.dcr_ohm as f64));
+        attempt!(non_negative("diode_vf_v", self.diode_vf_v as f64));
+        attempt!(non_negative("diode_rd_ohm", self.diode_rd_ohm as f64));
+        if let Some(r) = self.r_low_ohm {
+            attempt!(non_negative("r_low_ohm", r as f64));
+        }
+        Ok(())
     }
 }
 
@@ -151,79 +174,101 @@ pub struct WindowTotals {
     pub valley_sum: i64,
 }
 
-/// A window's currents by phase (slow path, SI units), from the cycle sums:
-/// the mean cycle's trapezoid (CCM) or triangle (DCM).
-#[derive(Clone, Copy, Debug, Default, PartialEq)]
+/// A window's currents by phase, from the cycle sums: the mean cycle's
+/// trapezoid (CCM) or triangle (DCM). Integer only (slow path).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Phases {
     /// Completed cycles.
     pub cycles: u32,
     /// Cycles that ended in DCM.
     pub dcm_cycles: u32,
-    /// Time covered by the cycles, s.
-    pub time_s: f32,
-    /// Mean peak and valley, A.
-    pub peak_a: f32,
-    /// Mean valley, A.
-    pub valley_a: f32,
-    /// Time on, s.
-    pub on_s: f32,
-    /// Time off and conducting, s.
-    pub off_s: f32,
-    /// `∫ i dt` on, A·s.
-    pub charge_on: f32,
-    /// `∫ i dt` off, A·s.
-    pub charge_off: f32,
-    /// `∫ i² dt` on, A²·s.
-    pub charge_sq_on: f32,
-    /// `∫ i² dt` off, A²·s.
-    pub charge_sq_off: f32,
+    /// Time the cycles cover, timer ticks.
+    pub period_ticks: u32,
+    /// Switching frequency over the window, Hz (0 without cycles).
+    pub f_sw_hz: u32,
+    /// Mean cycle peak.
+    pub peak: Amps,
+    /// Mean cycle valley (0 in DCM).
+    pub valley: Amps,
+    /// Current at the end of the conducting off-time: the valley in CCM,
+    /// zero in DCM.
+    pub off_end: Amps,
+    /// Share of the window the switch was on (the duty cycle).
+    pub duty: Fraction,
+    /// Share of the window the current freewheeled (off and conducting).
+    pub off_fraction: Fraction,
+}
+
+/// `(a² + a·b + b²)/3`: the mean square of a current ramping from `a` to
+/// `b`, A² with 16 fraction bits. Each product of two `Amps` (≤ 2²⁷ in
+/// magnitude) fits 2⁵⁴, their sum 2⁵⁶.
+fn ramp_mean_square(a: Amps, b: Amps) -> i64 {
+    let (a, b) = (i64::from(a.to_bits()), i64::from(b.to_bits()));
+    ((a * a + a * b + b * b) / 3) >> 16
+}
+
+/// `x · f` for A² with 16 fraction bits and a [`Fraction`].
+fn share_of(x: i64, f: Fraction) -> i64 {
+    x.saturating_mul(i64::from(f)) >> 16
+}
+
+/// The mean of a ramp from `a` to `b`.
+fn midpoint(a: Amps, b: Amps) -> Amps {
+    Amps::from_bits(((i64::from(a.to_bits()) + i64::from(b.to_bits())) / 2) as i32)
 }
 
 impl Phases {
-    /// Mean current, A.
-    pub fn average_a(&self) -> f32 {
-        if self.time_s > 0.0 {
-            (self.charge_on + self.charge_off) / self.time_s
-        } else {
-            0.0
-        }
+    /// Mean current over the window.
+    pub fn average(&self) -> Amps {
+        self.average_on().saturating_add(self.average_off())
     }
 
-    /// Duty cycle.
-    pub fn duty(&self) -> f32 {
-        self.fraction(self.on_s)
+    /// The on-phase's charge over the window's time (its share of the
+    /// mean current).
+    pub fn average_on(&self) -> Amps {
+        scale(midpoint(self.valley, self.peak), self.duty)
     }
 
-    /// Conducting off-time fraction.
-    pub fn off_fraction(&self) -> f32 {
-        self.fraction(self.off_s)
+    /// The conducting off-phase's share of the mean current.
+    pub fn average_off(&self) -> Amps {
+        scale(midpoint(self.peak, self.off_end), self.off_fraction)
     }
 
-    /// Switching frequency, Hz.
-    pub fn f_sw_hz(&self) -> f32 {
-        if self.time_s > 0.0 {
-            self.cycles as f32 / self.time_s
-        } else {
-            0.0
-        }
+    /// The on-phase's share of the mean square current, A² (16 fraction
+    /// bits).
+    pub fn mean_square_on(&self) -> i64 {
+        share_of(ramp_mean_square(self.valley, self.peak), self.duty)
     }
 
-    fn fraction(&self, t: f32) -> f32 {
-        if self.time_s > 0.0 {
-            t / self.time_s
-        } else {
-            0.0
-        }
+    /// The off-phase's share of the mean square current, A² (16 fraction
+    /// bits).
+    pub fn mean_square_off(&self) -> i64 {
+        share_of(ramp_mean_square(self.peak, self.off_end), self.off_fraction)
+    }
+
+    /// Mean square current over the window, A² (16 fraction bits).
+    pub fn mean_square(&self) -> i64 {
+        self.mean_square_on().saturating_add(self.mean_square_off())
+    }
+
+    /// Mean peak-to-peak ripple, never negative.
+    pub fn ripple(&self) -> Amps {
+        self.peak.saturating_sub(self.valley).max(Amps::ZERO)
     }
 }
 
 /// Piecewise-linear inductor-current estimator.
-#[derive(Clone, Debug)]
+#[derive(Clone, Copy, Debug, PartialEq)]
 pub struct CurrentEstimator {
-    tick_s: f32,
+    clock_hz: u32,
     model: InductorModel,
-    inv_l_tick: f32,
+    // Timer tick over the inductance, s/H (configuration only).
+    inv_l_tick: f64,
+    // Resistive drops' slopes per ampere of mean current, I8F24 A/tick per
+    // A, times 2¹⁶ (so `amps bits · k >> 32` is the slope's bits).
+    drop_on_per_amp: i64,
+    drop_off_per_amp: i64,
     max_segment: u32,
     slope_cap: i32,
     // Slope parts, I8F24 bits of A/tick.
@@ -251,18 +296,6 @@ pub struct CurrentEstimator {
     totals: WindowTotals,
 }
 
-/// `x` as the fixed-point type `F`, saturating at its range's edges; NaN
-/// gives zero. (The `fixed` crate's own saturating conversion panics on NaN;
-/// nothing here may panic on any input.)
-pub(crate) fn saturate<F: fixed::traits::Fixed>(x: f32) -> F {
-    match F::checked_from_num(x) {
-        Some(v) => v,
-        None if x > 0.0 => F::MAX,
-        None if x < 0.0 => F::MIN,
-        None => F::from_bits(F::Bits::default()),
-    }
-}
-
 /// A channel's code as a slope share: `(code × term) >> shift` in `I8F24`
 /// A/tick, with as many fraction bits as keep full scale × term below 2³¹
 /// (one 32-bit multiply per reading).
@@ -274,15 +307,15 @@ struct CodeScale {
 
 impl CodeScale {
     /// For `adc` (offset ignored: its share is below one code's worth).
-    fn new(adc: &AdcChannel, inv_l_tick: f32) -> Self {
-        let per_code = adc.lsb_signal_v() as f32 * inv_l_tick * (1u32 << 24) as f32;
-        let full = f32::from(adc.full_scale_code()).max(1.0);
+    const fn new(adc: &AdcChannel, inv_l_tick: f64) -> Self {
+        let per_code = adc.lsb_signal_v() * inv_l_tick * (1u32 << 24) as f64;
+        let full = adc.full_scale_code() as f64;
         let mut shift = 24u32;
-        while shift > 0 && per_code * (1u64 << shift) as f32 * full >= i32::MAX as f32 {
+        while shift > 0 && per_code * (1u64 << shift) as f64 * full >= i32::MAX as f64 {
             shift -= 1;
         }
-        let term = per_code * (1u64 << shift) as f32;
-        let most = i32::MAX as f32 / full;
+        let term = per_code * (1u64 << shift) as f64;
+        let most = i32::MAX as f64 / full;
         Self { term: if term >= most { most as u32 } else { term as u32 }, shift }
     }
 
@@ -298,61 +331,55 @@ fn within(v: i32, cap: i32) -> i32 {
     v.max(-cap).min(cap)
 }
 
-/// `x` A/tick in `I8F24` bits, within ±`cap`.
-fn slope_bits(x: f32, cap: i32) -> i32 {
-    within(saturate::<I8F24>(x).to_bits(), cap)
+/// `x` A/tick in `I8F24` bits, within ±`cap` (configuration).
+const fn slope_bits(x: f64, cap: i32) -> i32 {
+    let bits = to_fixed_i32(x, 24);
+    if bits > cap {
+        cap
+    } else if bits < -cap {
+        -cap
+    } else {
+        bits
+    }
 }
 
 impl CurrentEstimator {
     /// An estimator for `model` on a timer `clock`, for input voltages up to
     /// `vin_max_v` (the input channel's full scale: it bounds the slopes),
-    /// at rest (zero current, gate off). Call [`set_voltages`](Self::set_voltages)
-    /// and [`restart_at`](Self::restart_at) before relying on it.
+    /// at rest (zero current, gate off). Follow the channels
+    /// ([`follow_output`](Self::follow_output),
+    /// [`follow_input`](Self::follow_input)) and call
+    /// [`restart_at`](Self::restart_at) before relying on it.
     ///
-    /// Errors: [`ConfigError::NotFinite`]; [`ConfigError::InductanceNotPositive`]
-    /// when `l_h ≤ 0`; [`ConfigError::ResistanceNegative`] for a negative
-    /// resistance or forward voltage; [`ConfigError::VoltageOutsideAdcRange`]
-    /// for a non-positive `vin_max_v`.
-    pub fn new(
+    /// Errors: those of [`InductorModel::check`]; `vin_max_v` not positive
+    /// (reported as `vin_full_scale_v`).
+    pub const fn new(
         model: &InductorModel,
         clock: &TimerClock,
         vin_max_v: f32,
     ) -> Result<Self, ConfigError> {
-        if finite(model.l_h)? <= 0.0 {
-            return Err(ConfigError::InductanceNotPositive);
-        }
-        for r in [
-            model.r_on_ohm,
-            model.dcr_ohm,
-            model.diode_vf_v,
-            model.diode_rd_ohm,
-            model.r_low_ohm.unwrap_or(0.0),
-        ] {
-            if finite(r)? < 0.0 {
-                return Err(ConfigError::ResistanceNegative);
-            }
-        }
-        if finite(vin_max_v)? <= 0.0 {
-            return Err(ConfigError::VoltageOutsideAdcRange);
-        }
-        let tick_s = clock.tick_s() as f32;
-        let inv_l_tick = tick_s / model.l_h;
+        attempt!(model.check());
+        let vin_max = attempt!(positive("vin_full_scale_v", vin_max_v as f64));
+        let inv_l_tick = clock.tick_s() / model.l_h as f64;
         // No slope can exceed the full input plus the freewheel drop.
-        let cap = slope_bits((vin_max_v + model.diode_vf_v) * inv_l_tick, i32::MAX).max(1);
+        let cap = slope_bits((vin_max + model.diode_vf_v as f64) * inv_l_tick, i32::MAX);
+        let cap = if cap < 1 { 1 } else { cap };
         Ok(Self {
-            tick_s,
+            clock_hz: clock.hz(),
             model: *model,
             inv_l_tick,
+            drop_on_per_amp: to_fixed_i64(model.on_resistance() as f64 * inv_l_tick, 40),
+            drop_off_per_amp: to_fixed_i64(model.off_resistance() as f64 * inv_l_tick, 40),
             // |slope| ≤ 2·cap (see `on_base`), so slope × ticks fits.
             max_segment: (i32::MAX / cap / 2) as u32,
             slope_cap: cap,
             vin_term: 0,
             vout_term: 0,
-            freewheel_term: slope_bits(model.freewheel_v() * inv_l_tick, cap),
+            freewheel_term: slope_bits(model.freewheel_v() as f64 * inv_l_tick, cap),
             drop_on: 0,
             drop_off: 0,
-            out_code: CodeScale::default(),
-            in_code: CodeScale::default(),
+            out_code: CodeScale { term: 0, shift: 0 },
+            in_code: CodeScale { term: 0, shift: 0 },
             on_base: 0,
             off_base: 0,
             off_floor: if model.r_low_ohm.is_none() { 0 } else { -CURRENT_LIMIT_BITS },
@@ -360,8 +387,21 @@ impl CurrentEstimator {
             gate: Gate::Off,
             since: Instant(0),
             current: 0,
-            cycle: CycleCurrents::default(),
-            totals: WindowTotals::default(),
+            cycle: CycleCurrents {
+                peak: Amps::ZERO,
+                valley: Amps::ZERO,
+                on_ticks: 0,
+                period_ticks: 0,
+                dcm: false,
+            },
+            totals: WindowTotals {
+                cycles: 0,
+                dcm_cycles: 0,
+                on_ticks: 0,
+                period_ticks: 0,
+                peak_sum: 0,
+                valley_sum: 0,
+            },
         })
     }
 
@@ -375,9 +415,9 @@ impl CurrentEstimator {
         self.max_segment
     }
 
-    /// One tick in seconds.
-    pub const fn tick_s(&self) -> f32 {
-        self.tick_s
+    /// The timer clock, Hz.
+    pub const fn clock_hz(&self) -> u32 {
+        self.clock_hz
     }
 
     /// Start timing from `now` (the first segment would otherwise run from
@@ -389,37 +429,43 @@ impl CurrentEstimator {
             CycleCurrents { valley: Amps::from_bits(self.current), ..CycleCurrents::default() };
     }
 
-    /// Slow path: the input and output voltages the slopes use, volts.
+    /// The input and output voltages the slopes use, volts (configuration
+    /// and host tests: floating point; the slow path uses
+    /// [`set_voltage_codes`](Self::set_voltage_codes)).
     pub fn set_voltages(&mut self, vin_v: f32, vout_v: f32) {
         let cap = self.slope_cap;
-        self.vin_term = slope_bits(vin_v * self.inv_l_tick, cap);
-        self.vout_term = slope_bits(vout_v * self.inv_l_tick, cap);
+        self.vin_term = slope_bits(f64::from(vin_v) * self.inv_l_tick, cap);
+        self.vout_term = slope_bits(f64::from(vout_v) * self.inv_l_tick, cap);
         self.refresh_bases();
         self.refresh_reciprocal();
     }
 
-    /// Slow path: the same from raw ADC codes of the input and output
-    /// channels.
-    pub fn set_voltage_codes(
-        &mut self,
-        vin: u16,
-        vin_adc: &AdcChannel,
-        vout: u16,
-        vout_adc: &AdcChannel,
-    ) {
-        self.set_voltages(vin_adc.to_volts(vin), vout_adc.to_volts(vout));
+    /// Slow path: the slopes' voltages from raw codes of the followed input
+    /// and output channels (integer only; a channel not followed keeps its
+    /// share).
+    pub fn set_voltage_codes(&mut self, vin: u16, vout: u16) {
+        if self.in_code.term != 0 {
+            self.vin_term = self.in_code.slope(vin).min(self.slope_cap);
+        }
+        if self.out_code.term != 0 {
+            self.vout_term = self.out_code.slope(vout).min(self.slope_cap);
+        }
+        self.refresh_bases();
+        self.refresh_reciprocal();
     }
 
-    /// Slow path, once: let [`on_output_code`](Self::on_output_code) follow
-    /// the output through `adc`'s codes (offset ignored: its share is below
-    /// one code's worth of slope).
-    pub fn follow_output(&mut self, adc: &AdcChannel) {
+    /// Configuration, once: let [`on_output_code`](Self::on_output_code)
+    /// and [`set_voltage_codes`](Self::set_voltage_codes) follow the output
+    /// through `adc`'s codes (offset ignored: its share is below one code's
+    /// worth of slope).
+    pub const fn follow_output(&mut self, adc: &AdcChannel) {
         self.out_code = CodeScale::new(adc, self.inv_l_tick);
     }
 
-    /// Slow path, once: let [`on_input_code`](Self::on_input_code) follow
-    /// the input through `adc`'s codes.
-    pub fn follow_input(&mut self, adc: &AdcChannel) {
+    /// Configuration, once: let [`on_input_code`](Self::on_input_code) and
+    /// [`set_voltage_codes`](Self::set_voltage_codes) follow the input
+    /// through `adc`'s codes.
+    pub const fn follow_input(&mut self, adc: &AdcChannel) {
         self.in_code = CodeScale::new(adc, self.inv_l_tick);
     }
 
@@ -468,12 +514,12 @@ impl CurrentEstimator {
     }
 
     /// The present on-slope, `I8F24` A/tick.
-    fn slope_on(&self) -> I8F24 {
+    pub fn slope_on(&self) -> I8F24 {
         I8F24::from_bits(self.on_base - self.vout_term)
     }
 
     /// The present off-slope, `I8F24` A/tick.
-    fn slope_off(&self) -> I8F24 {
+    pub fn slope_off(&self) -> I8F24 {
         I8F24::from_bits(self.off_base - self.vout_term)
     }
 
@@ -584,26 +630,30 @@ impl CurrentEstimator {
         let totals = core::mem::take(&mut self.totals);
         let phases = self.phases(&totals);
         if phases.cycles > 0 {
-            self.set_drops(phases.average_a());
+            self.set_drops(phases.average());
         }
         phases
     }
 
-    /// Slow path: the resistive drops at mean current `i_a`.
-    fn set_drops(&mut self, i_a: f32) {
-        let cap = self.slope_cap;
-        self.drop_on = slope_bits(i_a * self.model.on_resistance() * self.inv_l_tick, cap);
-        self.drop_off = slope_bits(i_a * self.model.off_resistance() * self.inv_l_tick, cap);
+    /// Slow path: the resistive drops at mean current `i`.
+    fn set_drops(&mut self, i: Amps) {
+        let drop = |k: i64| {
+            within(clamp_i32(i64::from(i.to_bits()).saturating_mul(k) >> 32), self.slope_cap)
+        };
+        self.drop_on = drop(self.drop_on_per_amp);
+        self.drop_off = drop(self.drop_off_per_amp);
         self.refresh_bases();
         self.refresh_reciprocal();
     }
 
-    /// Slow path: ticks per ampere of the on-slope, for [`ticks_to_reach`](Self::ticks_to_reach).
+    /// Slow path: ticks per ampere of the on-slope, for
+    /// [`ticks_to_reach`](Self::ticks_to_reach): `2⁴⁰ / slope` in 2⁻¹⁶ ticks
+    /// per ampere (one division).
     fn refresh_reciprocal(&mut self) {
-        let on = self.slope_on().to_num::<f32>();
-        self.ticks_per_amp_on = if on > 0.0 {
-            let v = 65_536.0 / on;
-            if v >= u32::MAX as f32 {
+        let on = self.on_base - self.vout_term;
+        self.ticks_per_amp_on = if on > 0 {
+            let v = (1u64 << 40) / on as u64;
+            if v > u64::from(u32::MAX) {
                 u32::MAX
             } else {
                 v as u32
@@ -613,53 +663,64 @@ impl CurrentEstimator {
         };
     }
 
-    /// A cycle's average current (slow path): the trapezoid's mean
-    /// `(peak + valley)/2` in CCM; in DCM the triangle's charge
-    /// `½·peak·(T_on + T_fall)` over the period, `T_fall` at the off-slope.
-    pub fn cycle_average(&self, c: &CycleCurrents) -> Amps {
-        let (peak, valley) = (c.peak.to_num::<f32>(), c.valley.to_num::<f32>());
-        if !c.dcm || c.period_ticks == 0 {
-            return saturate(0.5 * (peak + valley));
+    /// Ticks for the off-slope to bring `peak` to zero (`u32::MAX` when it
+    /// does not fall).
+    fn fall_ticks(&self, peak: Amps) -> u32 {
+        let fall = -(self.off_base - self.vout_term);
+        if fall <= 0 {
+            return u32::MAX;
         }
-        let fall_per_tick = -self.slope_off().to_num::<f32>();
-        let rest = c.period_ticks.saturating_sub(c.on_ticks) as f32;
-        let t_fall = if fall_per_tick > 0.0 { (peak / fall_per_tick).min(rest) } else { rest };
-        saturate(0.5 * peak * (c.on_ticks as f32 + t_fall) / c.period_ticks as f32)
+        // peak: 2⁻¹⁶ A; fall: 2⁻²⁴ A per tick.
+        let t = (i64::from(peak.to_bits().max(0)) << 8) / i64::from(fall);
+        if t > i64::from(u32::MAX) {
+            u32::MAX
+        } else {
+            t as u32
+        }
     }
 
-    /// Phase currents of `totals` (slow path).
+    /// A cycle's average current (slow path, integer only): the trapezoid's
+    /// mean `(peak + valley)/2` in CCM; in DCM the triangle's charge
+    /// `½·peak·(T_on + T_fall)` over the period, `T_fall` at the off-slope.
+    pub fn cycle_average(&self, c: &CycleCurrents) -> Amps {
+        if !c.dcm || c.period_ticks == 0 {
+            return midpoint(c.peak, c.valley);
+        }
+        let rest = c.period_ticks.saturating_sub(c.on_ticks);
+        let t_fall = self.fall_ticks(c.peak).min(rest);
+        let conducting = u64::from(c.on_ticks) + u64::from(t_fall);
+        scale(midpoint(c.peak, Amps::ZERO), ratio(conducting, u64::from(c.period_ticks)))
+    }
+
+    /// Phase currents of `totals` (slow path, integer only).
     pub fn phases(&self, totals: &WindowTotals) -> Phases {
-        let n = totals.cycles as f32;
-        if totals.cycles == 0 {
+        if totals.cycles == 0 || totals.period_ticks == 0 {
             return Phases::default();
         }
-        let amps = |bits: i64| bits as f32 / 65_536.0 / n;
-        let (peak, valley) = (amps(totals.peak_sum), amps(totals.valley_sum));
-        let time_s = totals.period_ticks as f32 * self.tick_s;
-        let on_s = totals.on_ticks as f32 * self.tick_s;
-        let rest_s = time_s - on_s;
+        let n = i64::from(totals.cycles);
+        let mean = |sum: i64| Amps::from_bits(clamp_i32(sum / n));
+        let (peak, valley) = (mean(totals.peak_sum), mean(totals.valley_sum));
+        let time = u64::from(totals.period_ticks);
+        let rest = time.saturating_sub(u64::from(totals.on_ticks));
         // Off: CCM falls from peak to valley over the whole rest; DCM falls
         // from peak to zero at the off-slope, then idles.
-        let fall = -self.slope_off().to_num::<f32>() / self.tick_s;
         let dcm = totals.dcm_cycles * 2 > totals.cycles;
-        let (off_s, off_end) =
-            if dcm && fall > 0.0 { ((peak / fall * n).min(rest_s), 0.0) } else { (rest_s, valley) };
-        let trapezoid =
-            |t: f32, a: f32, b: f32| (t * 0.5 * (a + b), t * (a * a + a * b + b * b) / 3.0);
-        let (charge_on, charge_sq_on) = trapezoid(on_s, valley, peak);
-        let (charge_off, charge_sq_off) = trapezoid(off_s, peak, off_end);
+        let (off_ticks, off_end) = if dcm {
+            let fall = u64::from(self.fall_ticks(peak)).saturating_mul(u64::from(totals.cycles));
+            (fall.min(rest), Amps::ZERO)
+        } else {
+            (rest, valley)
+        };
         Phases {
             cycles: totals.cycles,
             dcm_cycles: totals.dcm_cycles,
-            time_s,
-            peak_a: peak,
-            valley_a: valley,
-            on_s,
-            off_s,
-            charge_on,
-            charge_off,
-            charge_sq_on,
-            charge_sq_off,
+            period_ticks: totals.period_ticks,
+            f_sw_hz: (u64::from(totals.cycles) * u64::from(self.clock_hz) / time) as u32,
+            peak,
+            valley,
+            off_end,
+            duty: ratio(u64::from(totals.on_ticks), time),
+            off_fraction: ratio(off_ticks, time),
         }
     }
 

@@ -11,11 +11,11 @@ pub mod efficiency;
 pub mod observer;
 
 pub use current::{Amps, CurrentEstimator, CycleCurrents, InductorModel, Phases, WindowTotals};
-pub use efficiency::{LossBreakdown, LossModel, MeasuredEfficiency, Steinmetz};
+pub use efficiency::{LossBreakdown, LossConfig, LossModel, MeasuredEfficiency, Steinmetz};
 pub use observer::{Observer, ObserverConfig};
 
 /// Amperes as [`Amps`], saturating at the range's edges; NaN gives zero
 /// (never panics, unlike the `fixed` crate's own saturating conversion).
-pub fn amps(a: f32) -> Amps {
-    current::saturate(a)
+pub const fn amps(a: f32) -> Amps {
+    crate::units::q16(a as f64)
 }

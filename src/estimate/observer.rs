@@ -21,10 +21,16 @@
 //! set from the measurement each step, which makes the DC level observable
 //! outright instead of through the resistive drop `R`.
 //!
-//! Configuration runs in `f64` (once); each update is a few dozen `f32`
-//! multiply-adds.
+//! Configuration runs in `f64`, in a `const fn` (at compile time in a
+//! firmware's `const`). Each update is integer only: the state in `I16F16`
+//! (amperes and volts), the coefficients with a common number of fraction
+//! bits chosen at configuration so the largest fits 31 bits (at least 24
+//! fraction bits for coefficients up to 64), products in 64 bits.
 
-use crate::error::{finite, ConfigError};
+use crate::error::{attempt, finite, non_negative, positive, ConfigError, ErrorKind};
+use crate::math::config::{exp, sqrt};
+use crate::units::{clamp_i32, to_fixed_i32, Amps, Volts};
+use fixed::types::I16F16;
 
 /// Observer settings, SI units.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -47,174 +53,274 @@ pub struct ObserverConfig {
 
 impl ObserverConfig {
     /// Poles at `e^{−2π·f·h}` for `f = bandwidth_hz·{1, 1.5, 2}`.
-    pub fn poles_for_bandwidth(bandwidth_hz: f32, period_s: f32) -> [f32; 3] {
-        let p = |k: f32| libm::expf(-2.0 * core::f32::consts::PI * bandwidth_hz * k * period_s);
-        [p(1.0), p(1.5), p(2.0)]
+    pub const fn poles_for_bandwidth(bandwidth_hz: f32, period_s: f32) -> [f32; 3] {
+        let w = -2.0 * core::f64::consts::PI * bandwidth_hz as f64 * period_s as f64;
+        [exp(w) as f32, exp(1.5 * w) as f32, exp(2.0 * w) as f32]
     }
 }
 
 type M3 = [[f64; 3]; 3];
 
-fn mul(a: &M3, b: &M3) -> M3 {
-    core::array::from_fn(|r| core::array::from_fn(|c| (0..3).map(|k| a[r][k] * b[k][c]).sum()))
+const fn mul(a: &M3, b: &M3) -> M3 {
+    let mut out = [[0.0; 3]; 3];
+    let mut r = 0;
+    while r < 3 {
+        let mut c = 0;
+        while c < 3 {
+            out[r][c] = a[r][0] * b[0][c] + a[r][1] * b[1][c] + a[r][2] * b[2][c];
+            c += 1;
+        }
+        r += 1;
+    }
+    out
 }
 
-fn identity() -> M3 {
-    core::array::from_fn(|r| core::array::from_fn(|c| if r == c { 1.0 } else { 0.0 }))
-}
+const IDENTITY: M3 = [[1.0, 0.0, 0.0], [0.0, 1.0, 0.0], [0.0, 0.0, 1.0]];
 
-fn det(m: &M3) -> f64 {
+const fn det(m: &M3) -> f64 {
     m[0][0] * (m[1][1] * m[2][2] - m[1][2] * m[2][1])
         - m[0][1] * (m[1][0] * m[2][2] - m[1][2] * m[2][0])
         + m[0][2] * (m[1][0] * m[2][1] - m[1][1] * m[2][0])
 }
 
+const fn row_norm(row: &[f64; 3]) -> f64 {
+    sqrt(row[0] * row[0] + row[1] * row[1] + row[2] * row[2])
+}
+
 /// The inverse, or `None` when `m` is singular relative to its scale (the
 /// determinant below 10⁻⁹ of the product of the row norms).
-fn inverse(m: &M3) -> Option<M3> {
+const fn inverse(m: &M3) -> Option<M3> {
     let d = det(m);
-    let scale: f64 = m.iter().map(|r| libm::sqrt(r.iter().map(|x| x * x).sum::<f64>())).product();
+    let scale = row_norm(&m[0]) * row_norm(&m[1]) * row_norm(&m[2]);
     if !d.is_finite() || !scale.is_finite() || d.abs() <= 1e-9 * scale {
         return None;
     }
-    let c =
-        |r0: usize, r1: usize, c0: usize, c1: usize| m[r0][c0] * m[r1][c1] - m[r0][c1] * m[r1][c0];
     let adj = [
-        [c(1, 2, 1, 2), -c(0, 2, 1, 2), c(0, 1, 1, 2)],
-        [-c(1, 2, 0, 2), c(0, 2, 0, 2), -c(0, 1, 0, 2)],
-        [c(1, 2, 0, 1), -c(0, 2, 0, 1), c(0, 1, 0, 1)],
+        [cofactor(m, [1, 2], [1, 2]), -cofactor(m, [0, 2], [1, 2]), cofactor(m, [0, 1], [1, 2])],
+        [-cofactor(m, [1, 2], [0, 2]), cofactor(m, [0, 2], [0, 2]), -cofactor(m, [0, 1], [0, 2])],
+        [cofactor(m, [1, 2], [0, 1]), -cofactor(m, [0, 2], [0, 1]), cofactor(m, [0, 1], [0, 1])],
     ];
-    Some(core::array::from_fn(|r| core::array::from_fn(|col| adj[r][col] / d)))
+    let mut out = [[0.0; 3]; 3];
+    let mut r = 0;
+    while r < 3 {
+        let mut col = 0;
+        while col < 3 {
+            out[r][col] = adj[r][col] / d;
+            col += 1;
+        }
+        r += 1;
+    }
+    Some(out)
+}
+
+/// The 2×2 minor of rows `r` and columns `c`.
+const fn cofactor(m: &M3, r: [usize; 2], c: [usize; 2]) -> f64 {
+    m[r[0]][c[0]] * m[r[1]][c[1]] - m[r[0]][c[1]] * m[r[1]][c[0]]
 }
 
 /// `(e^{A·h}, ∫₀ʰ e^{A·τ} dτ)` by their power series.
-fn discretize(a: &M3, h: f64) -> (M3, M3) {
-    let ah: M3 = core::array::from_fn(|r| core::array::from_fn(|c| a[r][c] * h));
-    let mut phi = identity();
-    let mut integral: M3 =
-        core::array::from_fn(|r| core::array::from_fn(|c| if r == c { h } else { 0.0 }));
-    let mut term = identity();
-    for k in 1..40 {
+const fn discretize(a: &M3, h: f64) -> (M3, M3) {
+    let mut ah = [[0.0; 3]; 3];
+    let mut integral = [[0.0; 3]; 3];
+    let mut r = 0;
+    while r < 3 {
+        let mut c = 0;
+        while c < 3 {
+            ah[r][c] = a[r][c] * h;
+            c += 1;
+        }
+        integral[r][r] = h;
+        r += 1;
+    }
+    let mut phi = IDENTITY;
+    let mut term = IDENTITY;
+    let mut k = 1;
+    while k < 40 {
         term = mul(&term, &ah);
-        let kf = f64::from(k);
-        for r in 0..3 {
-            for c in 0..3 {
+        let kf = k as f64;
+        let mut r = 0;
+        while r < 3 {
+            let mut c = 0;
+            while c < 3 {
                 term[r][c] /= kf;
                 phi[r][c] += term[r][c];
                 integral[r][c] += term[r][c] * h / (kf + 1.0);
+                c += 1;
             }
+            r += 1;
         }
+        k += 1;
     }
     (phi, integral)
 }
 
+/// Ackermann's formula (dual form) for the output `H = [0 1 0]`:
+/// `K = p(Φ)·O⁻¹·e₃` with `O = [H; HΦ; HΦ²]`.
+const fn ackermann(phi: &M3, poles: [f64; 3]) -> Option<[f64; 3]> {
+    let phi2 = mul(phi, phi);
+    let o: M3 = [[0.0, 1.0, 0.0], phi[1], phi2[1]];
+    let Some(o_inv) = inverse(&o) else { return None };
+    let [p1, p2, p3] = poles;
+    let (a2, a1, a0) = (-(p1 + p2 + p3), p1 * p2 + p1 * p3 + p2 * p3, -p1 * p2 * p3);
+    let phi3 = mul(&phi2, phi);
+    let mut gain = [0.0; 3];
+    let mut i = 0;
+    while i < 3 {
+        let mut k = 0;
+        while k < 3 {
+            let poly = phi3[i][k] + a2 * phi2[i][k] + a1 * phi[i][k] + a0 * IDENTITY[i][k];
+            gain[i] += poly * o_inv[k][2];
+            k += 1;
+        }
+        if !gain[i].is_finite() {
+            return None;
+        }
+        i += 1;
+    }
+    Some(gain)
+}
+
+/// The fraction bits that fit the largest coefficient in 31 bits (at most
+/// 30, at least 0).
+const fn fraction_bits(largest: f64) -> u32 {
+    let mut bits = 30;
+    while bits > 0 && largest * (1u64 << bits) as f64 >= 2_147_483_647.0 {
+        bits -= 1;
+    }
+    bits
+}
+
+/// Three coefficients with `frac` fraction bits.
+const fn quantize(v: [f64; 3], frac: u32) -> [i32; 3] {
+    [to_fixed_i32(v[0], frac), to_fixed_i32(v[1], frac), to_fixed_i32(v[2], frac)]
+}
+
 /// The observer.
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Observer {
-    phi: [[f32; 3]; 3],
-    gamma: [f32; 3],
-    gain: [f32; 3],
-    x: [f32; 3],
+    // Φ, Γ and K with `frac` fraction bits each.
+    phi: [[i32; 3]; 3],
+    gamma: [i32; 3],
+    gain: [i32; 3],
+    frac: u32,
+    // State [i_L, v_out, i_out], I16F16 bits.
+    x: [i32; 3],
 }
 
 impl Observer {
-    /// Build the observer.
+    /// Build the observer (a `const fn`).
     ///
-    /// Errors: [`ConfigError::NotFinite`], [`ConfigError::InductanceNotPositive`],
-    /// [`ConfigError::CapacitanceNotPositive`], [`ConfigError::ResistanceNegative`],
-    /// [`ConfigError::DurationBelowOneTick`] for a non-positive period,
-    /// [`ConfigError::ObserverPoleOutOfRange`], [`ConfigError::NotObservable`].
-    pub fn new(cfg: &ObserverConfig) -> Result<Self, ConfigError> {
-        if finite(cfg.l_h)? <= 0.0 {
-            return Err(ConfigError::InductanceNotPositive);
-        }
-        if finite(cfg.c_f)? <= 0.0 {
-            return Err(ConfigError::CapacitanceNotPositive);
-        }
-        if finite(cfg.r_ohm)? < 0.0 {
-            return Err(ConfigError::ResistanceNegative);
-        }
-        if finite(cfg.period_s)? <= 0.0 {
-            return Err(ConfigError::DurationBelowOneTick);
-        }
-        for p in cfg.poles {
-            if !(finite(p)? > 0.0 && p < 1.0) {
-                return Err(ConfigError::ObserverPoleOutOfRange);
+    /// Errors: `l_h`, `c_f` or `period_s` not positive; `r_ohm` negative;
+    /// a value not finite; a pole outside (0, 1) (parameter `poles`,
+    /// [`ErrorKind::OutOfRange`]); `r_ohm` zero or the model otherwise not
+    /// observable ([`ErrorKind::NotObservable`], on `r_ohm`).
+    pub const fn new(cfg: &ObserverConfig) -> Result<Self, ConfigError> {
+        let l = attempt!(positive("l_h", cfg.l_h as f64));
+        let c = attempt!(positive("c_f", cfg.c_f as f64));
+        let r = attempt!(non_negative("r_ohm", cfg.r_ohm as f64));
+        let h = attempt!(positive("period_s", cfg.period_s as f64));
+        let mut poles = [0.0; 3];
+        let mut k = 0;
+        while k < 3 {
+            let p = attempt!(finite("poles", cfg.poles[k] as f64));
+            if !(p > 0.0 && p < 1.0) {
+                return Err(ConfigError::new(
+                    "poles",
+                    ErrorKind::OutOfRange { min: 0.0, max: 1.0 },
+                ));
             }
+            poles[k] = p;
+            k += 1;
         }
-        let (l, c, r) = (f64::from(cfg.l_h), f64::from(cfg.c_f), f64::from(cfg.r_ohm));
         let a: M3 = [[-r / l, -1.0 / l, 0.0], [1.0 / c, 0.0, -1.0 / c], [0.0; 3]];
-        let (phi, integral) = discretize(&a, f64::from(cfg.period_s));
+        let (phi, integral) = discretize(&a, h);
         // Γ = ∫e^{Aτ}dτ · B with B = [1/L, 0, 0]ᵀ.
-        let gamma: [f64; 3] = core::array::from_fn(|k| integral[k][0] / l);
-        // Ackermann (dual form): K = p(Φ)·O⁻¹·e₃ with O = [H; HΦ; HΦ²], H = [0 1 0].
-        let phi2 = mul(&phi, &phi);
-        let o: M3 = [[0.0, 1.0, 0.0], phi[1], phi2[1]];
-        let o_inv = inverse(&o).ok_or(ConfigError::NotObservable)?;
-        let [p1, p2, p3] = cfg.poles.map(f64::from);
-        let (a2, a1, a0) = (-(p1 + p2 + p3), p1 * p2 + p1 * p3 + p2 * p3, -p1 * p2 * p3);
-        let phi3 = mul(&phi2, &phi);
-        let poly: M3 = core::array::from_fn(|i| {
-            core::array::from_fn(|j| {
-                phi3[i][j] + a2 * phi2[i][j] + a1 * phi[i][j] + a0 * identity()[i][j]
-            })
-        });
-        let gain: [f64; 3] =
-            core::array::from_fn(|i| (0..3).map(|k| poly[i][k] * o_inv[k][2]).sum());
-        if gain.iter().any(|g| !g.is_finite()) {
-            return Err(ConfigError::NotObservable);
+        let gamma = [integral[0][0] / l, integral[1][0] / l, integral[2][0] / l];
+        let Some(gain) = ackermann(&phi, poles) else {
+            return Err(ConfigError::new("r_ohm", ErrorKind::NotObservable));
+        };
+        let mut largest = 0.0f64;
+        let mut i = 0;
+        while i < 3 {
+            largest = largest.max(gamma[i].abs()).max(gain[i].abs());
+            let mut j = 0;
+            while j < 3 {
+                largest = largest.max(phi[i][j].abs());
+                j += 1;
+            }
+            i += 1;
         }
+        let frac = fraction_bits(largest);
         Ok(Self {
-            phi: phi.map(|row| row.map(|x| x as f32)),
-            gamma: gamma.map(|x| x as f32),
-            gain: gain.map(|x| x as f32),
-            x: [0.0; 3],
+            phi: [quantize(phi[0], frac), quantize(phi[1], frac), quantize(phi[2], frac)],
+            gamma: quantize(gamma, frac),
+            gain: quantize(gain, frac),
+            frac,
+            x: [0; 3],
         })
     }
 
-    /// Start from a known state `[i_L, v_out, i_out]`.
-    pub fn reset(&mut self, i_l: f32, v_out: f32, i_out: f32) {
-        self.x = [i_l, v_out, i_out];
+    /// Start from a known state.
+    pub fn reset(&mut self, i_l: Amps, v_out: Volts, i_out: Amps) {
+        self.x = [i_l.to_bits(), v_out.to_bits(), i_out.to_bits()];
     }
 
     /// One step: `u` the window's average switch-node voltage, `v_out` its
     /// average measured output, `i_out` a measured output current if the
-    /// board has one. Returns the inductor-current estimate, A.
-    pub fn update(&mut self, u: f32, v_out: f32, i_out: Option<f32>) -> f32 {
+    /// board has one. Returns the inductor-current estimate.
+    pub fn update(&mut self, u: Volts, v_out: Volts, i_out: Option<Amps>) -> Amps {
         if let Some(i) = i_out {
-            self.x[2] = i;
+            self.x[2] = i.to_bits();
         }
-        let innovation = v_out - self.x[1];
+        let innovation = v_out.to_bits().saturating_sub(self.x[1]);
         let x = self.x;
-        self.x = core::array::from_fn(|r| {
-            self.phi[r][0] * x[0]
-                + self.phi[r][1] * x[1]
-                + self.phi[r][2] * x[2]
-                + self.gamma[r] * u
-                + self.gain[r] * innovation
-        });
-        self.x[0]
+        let term = |c: i32, v: i32| i64::from(c) * i64::from(v);
+        for (r, next) in self.x.iter_mut().enumerate() {
+            let sum = term(self.phi[r][0], x[0])
+                .saturating_add(term(self.phi[r][1], x[1]))
+                .saturating_add(term(self.phi[r][2], x[2]))
+                .saturating_add(term(self.gamma[r], u.to_bits()))
+                .saturating_add(term(self.gain[r], innovation));
+            *next = clamp_i32(sum >> self.frac);
+        }
+        Amps::from_bits(self.x[0])
     }
 
-    /// Estimated inductor current, A.
-    pub fn current_a(&self) -> f32 {
-        self.x[0]
+    /// Estimated inductor current.
+    pub fn current(&self) -> Amps {
+        Amps::from_bits(self.x[0])
     }
 
-    /// Estimated load current, A.
-    pub fn load_a(&self) -> f32 {
-        self.x[2]
+    /// Estimated output voltage.
+    pub fn voltage(&self) -> Volts {
+        Volts::from_bits(self.x[1])
     }
 
-    /// The observer gain `K`.
-    pub fn gain(&self) -> [f32; 3] {
-        self.gain
+    /// Estimated load current.
+    pub fn load(&self) -> Amps {
+        Amps::from_bits(self.x[2])
     }
 
-    /// The error dynamics `Φ − K·H`, for checking the pole placement.
-    pub fn error_dynamics(&self) -> [[f32; 3]; 3] {
+    /// The observer gain `K` (host checks).
+    pub fn gain(&self) -> [f64; 3] {
+        self.gain.map(|g| self.coefficient(g))
+    }
+
+    /// The error dynamics `Φ − K·H` (host checks of the pole placement).
+    pub fn error_dynamics(&self) -> [[f64; 3]; 3] {
         core::array::from_fn(|r| {
-            core::array::from_fn(|c| self.phi[r][c] - if c == 1 { self.gain[r] } else { 0.0 })
+            core::array::from_fn(|c| {
+                let k = if c == 1 { self.gain[r] } else { 0 };
+                self.coefficient(self.phi[r][c]) - self.coefficient(k)
+            })
         })
     }
+
+    fn coefficient(&self, bits: i32) -> f64 {
+        f64::from(bits) / (1u64 << self.frac) as f64
+    }
 }
+
+/// `I16F16` is the state's format.
+const _: () = assert!(I16F16::FRAC_NBITS == 16);

@@ -12,7 +12,7 @@
 //!   [`Hysteretic::armed`] tells which of the two it is).
 
 use super::{Command, Gate, Law, Regulate};
-use crate::error::{finite, ConfigError};
+use crate::error::{attempt, positive, ConfigError, ErrorKind};
 use crate::scale::AdcChannel;
 use crate::tick::Instant;
 
@@ -62,34 +62,24 @@ pub struct Hysteretic {
 }
 
 impl Hysteretic {
-    /// Build the law for an output sensed through `adc`.
+    /// Build the law for an output sensed through `adc` (a `const fn`).
     ///
-    /// Errors: [`ConfigError::NotFinite`], [`ConfigError::SetpointNotPositive`],
-    /// [`ConfigError::BandNotPositive`], [`ConfigError::BandBelowOneCode`]
-    /// (band narrower than one code at the ADC pin),
-    /// [`ConfigError::ThresholdBelowAdcRange`],
-    /// [`ConfigError::SetpointAboveAdcRange`].
-    pub fn new(config: &HystereticConfig, adc: &AdcChannel) -> Result<Self, ConfigError> {
-        if finite(config.setpoint_v)? <= 0.0 {
-            return Err(ConfigError::SetpointNotPositive);
+    /// Errors: `setpoint_v` or `band_v` not positive or not finite;
+    /// `band_v` narrower than one code at the ADC pin
+    /// ([`ErrorKind::BelowResolution`]); `setpoint_v` ± `band_v`/2 outside
+    /// the channel's range (reported on `setpoint_v` for the upper
+    /// threshold, on `band_v` for the lower).
+    pub const fn new(config: &HystereticConfig, adc: &AdcChannel) -> Result<Self, ConfigError> {
+        let setpoint = attempt!(positive("setpoint_v", config.setpoint_v as f64));
+        let band = attempt!(positive("band_v", config.band_v as f64));
+        if adc.span_codes(band) < 1.0 {
+            return Err(ConfigError::new("band_v", ErrorKind::BelowResolution));
         }
-        if finite(config.band_v)? <= 0.0 {
-            return Err(ConfigError::BandNotPositive);
-        }
-        if adc.span_codes(f64::from(config.band_v)) < 1.0 {
-            return Err(ConfigError::BandBelowOneCode);
-        }
-        let half = config.band_v / 2.0;
-        let upper = adc
-            .to_code(config.setpoint_v + half)
-            .map_err(|_| ConfigError::SetpointAboveAdcRange)?
-            .raw;
-        let lower = match adc.to_code(config.setpoint_v - half) {
-            Ok(q) => q.raw,
-            Err(_) => return Err(ConfigError::ThresholdBelowAdcRange),
-        };
+        let half = band / 2.0;
+        let upper = attempt!(adc.code_for("setpoint_v", setpoint + half)).raw;
+        let lower = attempt!(adc.code_for("band_v", setpoint - half)).raw;
         // The setpoint lies between two valid codes, so it converts too.
-        let reference = adc.to_code(config.setpoint_v)?.raw;
+        let reference = attempt!(adc.code_for("setpoint_v", setpoint)).raw;
         Ok(Self {
             lower,
             upper,
@@ -187,6 +177,10 @@ impl Law for Hysteretic {
     #[inline]
     fn on_timer(&mut self, _now: Instant) -> Command {
         Command::hold(self.demand)
+    }
+
+    fn comparator_code(&self) -> Option<u16> {
+        Some(self.armed_code())
     }
 }
 

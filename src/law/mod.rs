@@ -13,19 +13,42 @@
 //! on-time from the turn-on starts counting at the right tick.
 //!
 //! All methods are fast-path code: integer compares and adds only, no
-//! division, no float, no panic, bounded time.
+//! division, no float, no panic, bounded time. The one exception is
+//! [`Regulate::retune`], called from the slow path once per housekeeping
+//! window: it may divide (integers only).
+//!
+//! # For law authors
+//!
+//! A law of your own is any type implementing [`Law`] (the fast path) and
+//! [`Regulate`] (the reference the slow path moves: soft-start, DC
+//! correction). Wrap it in a [`FrequencyGuard`](crate::FrequencyGuard) and
+//! hand it to a [`Stack`](crate::stack::Stack); `examples/own_law.rs` runs
+//! one in the simulator. Three things to know:
+//!
+//! - [`Law::on_timer`] is also called as a *query*: after a gate edge the
+//!   guard asks the law for its next deadline through it, so it must be
+//!   harmless to call at any time (answer with the present demand).
+//! - Report deadlines through [`Command::wake`]; the timer calls back at or
+//!   after them. A deadline already passed when armed fires at once.
+//! - [`Regulate::retune`] gets the window's measured [`Conditions`]; use it
+//!   for slow adaptation (feed-forward, frequency lock), not for decisions.
 
 pub mod dc_correction;
+pub mod emulated_ripple;
+pub mod feed_forward;
 pub mod hysteretic;
 pub mod on_time;
 pub mod passthrough;
 
 pub use dc_correction::DcCorrection;
+pub use emulated_ripple::EmulatedRipple;
+pub use feed_forward::{FrequencyTrim, OnTimeFeedForward};
 pub use hysteretic::{Hysteretic, HystereticConfig, Threshold};
-pub use on_time::{EmulatedRipple, FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward};
+pub use on_time::{OnTime, OnTimeConfig};
 pub use passthrough::ComparatorPassThrough;
 
 use crate::tick::Instant;
+use crate::units::Volts;
 
 /// State of the power switch's gate drive.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -110,6 +133,34 @@ pub trait Law {
     fn min_on_ticks(&self) -> u32 {
         0
     }
+
+    /// The threshold an edge-driven law wants its comparator's DAC armed
+    /// at, in the sensed output's ADC codes (scale it if the DAC's
+    /// resolution differs); `None` for a law without one. Firmware reads it
+    /// after each call in edge mode. Default: `None`.
+    fn comparator_code(&self) -> Option<u16> {
+        None
+    }
+}
+
+/// What the slow path measured over one housekeeping window, for a law
+/// that retunes itself ([`Regulate::retune`]).
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct Conditions {
+    /// Mean input voltage over the window.
+    pub vin: Volts,
+    /// Mean sensed output over the window.
+    pub vout: Volts,
+    /// Switching cycles completed in the window.
+    pub cycles: u32,
+    /// Their periods summed, timer ticks (the mean period is
+    /// `period_ticks / cycles`).
+    pub period_ticks: u32,
+    /// The frequency window's limits acted during the window (a
+    /// minimum-period, maximum-period or maximum-on-time clamp): an
+    /// integrator that adapts the frequency should hold.
+    pub window_binding: bool,
 }
 
 /// A law whose regulation reference can be moved on the slow path
@@ -121,4 +172,11 @@ pub trait Regulate {
 
     /// Move the reference (saturating within the law's range).
     fn set_reference(&mut self, code: u16);
+
+    /// Slow path, once per housekeeping window while regulating: adapt to
+    /// the window's measured `conditions` (input feed-forward, frequency
+    /// lock). Integer arithmetic only. Default: nothing.
+    fn retune(&mut self, conditions: &Conditions) {
+        let _ = conditions;
+    }
 }

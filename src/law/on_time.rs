@@ -7,16 +7,20 @@
 //! ([`Law::on_gate`]), so a guard delaying the turn-on does not shorten it.
 //! The minimum off-time is the guard's job.
 //!
-//! On the slow path the on-time follows the input (feed-forward,
-//! [`OnTimeFeedForward`]) and a trim that locks the mean frequency to a
-//! target ([`FrequencyTrim`]); the reference can be trimmed so the *mean*
-//! output, not the valley, sits at the setpoint
-//! ([`crate::law::DcCorrection`]).
+//! On the slow path ([`Regulate::retune`]) the on-time follows the input
+//! (feed-forward, [`OnTimeFeedForward`]) and a trim that locks the mean
+//! frequency to a target ([`FrequencyTrim`]); the reference can be trimmed
+//! so the *mean* output, not the valley, sits at the setpoint
+//! ([`crate::law::DcCorrection`]). A ceramic-only output needs
+//! [`EmulatedRipple`].
 
-use super::{Command, Gate, Law, Regulate};
-use crate::error::{finite, ConfigError};
+use super::{
+    Command, Conditions, EmulatedRipple, FrequencyTrim, Gate, Law, OnTimeFeedForward, Regulate,
+};
+use crate::error::{attempt, positive, ConfigError, ErrorKind};
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
+use crate::units::ONE;
 
 /// On-time law settings, SI units, at the sensed output.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -49,116 +53,23 @@ pub struct OnTime {
     ripple: Option<EmulatedRipple>,
     ripple_peak: u32,
     predicted: Option<Instant>,
-}
-
-/// Emulated ripple added to the sensed output before the valley compare: a
-/// sawtooth in phase with the inductor current, zero at each turn-on,
-/// rising through the on-time, falling at the inductor's off-slope ratio
-/// and floored at zero. It gives a ceramic-only output (negligible ESR) the
-/// current-shaped ripple a valley loop needs.
-///
-/// Slopes: `u32` in 2⁻¹⁶ ADC codes per tick; each segment's ramp is one
-/// 32-bit multiply (segments beyond 2¹⁶ ticks saturate the ramp).
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct EmulatedRipple {
-    up: u32,
-    down: u32,
-    /// Ticks per code of the falling ramp, 2⁻⁸ ticks (≤ 2¹⁹).
-    ticks_per_code: u32,
-    /// Predict a crossing only this many ticks ahead (a sampling period).
-    horizon: u32,
-}
-
-impl EmulatedRipple {
-    /// A ramp of `amplitude_v` (at the sensed output) over the on-time
-    /// `on_ticks`, falling at `duty/(1 − duty)` of that rate.
-    ///
-    /// Errors: [`ConfigError::NotFinite`], [`ConfigError::BandNotPositive`]
-    /// for a non-positive amplitude, [`ConfigError::ThresholdsOutOfOrder`]
-    /// for a duty outside (0, 1).
-    ///
-    /// `sample_ticks`: the sampling period; while off, a sample that shows
-    /// the falling ramp will cross the reference before the next sample sets
-    /// a timer deadline at the predicted tick, so turn-ons are not quantized
-    /// to the sampling period.
-    pub fn new(
-        amplitude_v: f32,
-        on_ticks: u32,
-        duty: f32,
-        adc: &AdcChannel,
-        sample_ticks: u32,
-    ) -> Result<Self, ConfigError> {
-        if finite(amplitude_v)? <= 0.0 {
-            return Err(ConfigError::BandNotPositive);
-        }
-        if !(finite(duty)? > 0.0 && duty < 1.0) {
-            return Err(ConfigError::ThresholdsOutOfOrder);
-        }
-        let codes = adc.span_codes(f64::from(amplitude_v)) as f32;
-        let up = codes * 65_536.0 / on_ticks.max(1) as f32;
-        let mut r = Self { up: Self::bits(up), down: 0, ticks_per_code: 0, horizon: sample_ticks };
-        r.set_duty(duty);
-        Ok(r)
-    }
-
-    fn bits(x: f32) -> u32 {
-        if x >= u32::MAX as f32 {
-            u32::MAX
-        } else if x > 0.0 {
-            x as u32
-        } else {
-            0
-        }
-    }
-
-    /// Slow path: follow the duty (`V_out/V_in`) so the ramp returns to
-    /// zero at the next turn-on in steady state.
-    pub fn set_duty(&mut self, duty: f32) {
-        if duty > 0.0 && duty < 1.0 {
-            self.down = Self::bits(self.up as f32 * duty / (1.0 - duty));
-            // 2²⁴ / down: ticks per code in 2⁻⁸ ticks, capped at 2¹⁹ so a
-            // margin below 16 codes (in 2⁻⁸ codes) times it fits 31 bits.
-            self.ticks_per_code = if self.down == 0 {
-                0
-            } else {
-                (16_777_216.0 / self.down as f32).min(524_288.0) as u32
-            };
-        }
-    }
-
-    /// Ticks until the falling ramp closes a margin of `margin_q16`
-    /// (2⁻¹⁶ codes), if within the horizon (fast path: one multiply).
-    #[inline(always)]
-    fn crossing_in(&self, margin_q16: u32) -> Option<u32> {
-        let margin_q8 = (margin_q16 >> 8).min(4_095);
-        let ticks = (margin_q8 * self.ticks_per_code) >> 16;
-        (self.ticks_per_code != 0 && ticks < self.horizon).then_some(ticks)
-    }
-
-    #[inline(always)]
-    fn ramp(rate: u32, ticks: u32) -> u32 {
-        rate.saturating_mul(ticks.min(u32::from(u16::MAX)))
-    }
+    feed_forward: Option<OnTimeFeedForward>,
+    trim: Option<FrequencyTrim>,
 }
 
 impl OnTime {
-    /// Build the law.
+    /// Build the law (a `const fn`).
     ///
-    /// Errors: [`ConfigError::SetpointNotPositive`], [`ConfigError::SetpointAboveAdcRange`],
-    /// and the timer's duration errors (an on-time of zero ticks is
-    /// [`ConfigError::DurationBelowOneTick`]).
-    pub fn new(
+    /// Errors: `setpoint_v` not positive or outside the channel's range;
+    /// `on_time_s` rounding to zero ticks or too long.
+    pub const fn new(
         config: &OnTimeConfig,
         adc: &AdcChannel,
         clock: &TimerClock,
     ) -> Result<Self, ConfigError> {
-        if finite(config.setpoint_v)? <= 0.0 {
-            return Err(ConfigError::SetpointNotPositive);
-        }
-        let reference =
-            adc.to_code(config.setpoint_v).map_err(|_| ConfigError::SetpointAboveAdcRange)?.raw;
-        let on_ticks = clock.to_ticks_nonzero(config.on_time_s)?.raw;
+        let setpoint = attempt!(positive("setpoint_v", config.setpoint_v as f64));
+        let reference = attempt!(adc.code_for("setpoint_v", setpoint)).raw;
+        let on_ticks = attempt!(clock.ticks_nonzero_for("on_time_s", config.on_time_s as f64)).raw;
         Ok(Self {
             reference,
             full_scale: adc.full_scale_code(),
@@ -171,18 +82,38 @@ impl OnTime {
             ripple: None,
             ripple_peak: 0,
             predicted: None,
+            feed_forward: None,
+            trim: None,
         })
     }
 
     /// Add emulated ripple (configuration).
-    pub fn with_emulated_ripple(mut self, ripple: EmulatedRipple) -> Self {
+    pub const fn with_emulated_ripple(mut self, ripple: EmulatedRipple) -> Self {
         self.ripple = Some(ripple);
         self
     }
 
-    /// The emulated ripple, mutable (slow path: its duty).
+    /// Add input feed-forward of the on-time (configuration); the slow path
+    /// applies it in [`Regulate::retune`].
+    pub const fn with_feed_forward(mut self, feed_forward: OnTimeFeedForward) -> Self {
+        self.feed_forward = Some(feed_forward);
+        self
+    }
+
+    /// Add a frequency trim of the feed-forward on-time (configuration).
+    pub const fn with_trim(mut self, trim: FrequencyTrim) -> Self {
+        self.trim = Some(trim);
+        self
+    }
+
+    /// The emulated ripple, mutable.
     pub fn emulated_ripple_mut(&mut self) -> Option<&mut EmulatedRipple> {
         self.ripple.as_mut()
+    }
+
+    /// The frequency trim, if configured.
+    pub const fn frequency_trim(&self) -> Option<&FrequencyTrim> {
+        self.trim.as_ref()
     }
 
     /// Whether the plain valley loop (no emulated ripple) is stable with an
@@ -193,15 +124,24 @@ impl OnTime {
     /// control literature, not derived here). With emulated ripple
     /// configured the check passes.
     ///
-    /// Errors: [`ConfigError::RippleTooSmall`], [`ConfigError::NotFinite`].
-    pub fn check_ripple(&self, esr_ohm: f32, c_f: f32, on_time_s: f32) -> Result<(), ConfigError> {
+    /// Errors: [`ErrorKind::RippleTooSmall`] on `esr_ohm`; a value not
+    /// finite.
+    pub const fn check_ripple(
+        &self,
+        esr_ohm: f32,
+        c_f: f32,
+        on_time_s: f32,
+    ) -> Result<(), ConfigError> {
         if self.ripple.is_some() {
             return Ok(());
         }
-        if finite(esr_ohm)? * finite(c_f)? > finite(on_time_s)? / 2.0 {
+        let esr = attempt!(crate::error::finite("esr_ohm", esr_ohm as f64));
+        let c = attempt!(crate::error::finite("c_f", c_f as f64));
+        let t = attempt!(crate::error::finite("on_time_s", on_time_s as f64));
+        if esr * c > t / 2.0 {
             Ok(())
         } else {
-            Err(ConfigError::RippleTooSmall)
+            Err(ConfigError::new("esr_ohm", ErrorKind::RippleTooSmall))
         }
     }
 
@@ -210,10 +150,9 @@ impl OnTime {
     fn emulated_q16(&self, now: Instant) -> u32 {
         let Some(r) = self.ripple else { return 0 };
         if self.gate_on {
-            EmulatedRipple::ramp(r.up, now.ticks_since(self.on_since))
+            r.rise(now.ticks_since(self.on_since))
         } else {
-            self.ripple_peak
-                .saturating_sub(EmulatedRipple::ramp(r.down, now.ticks_since(self.off_since)))
+            self.ripple_peak.saturating_sub(r.fall(now.ticks_since(self.off_since)))
         }
     }
 
@@ -303,6 +242,10 @@ impl Law for OnTime {
         self.command(now)
     }
 
+    fn comparator_code(&self) -> Option<u16> {
+        Some(self.reference)
+    }
+
     #[inline]
     fn on_gate(&mut self, gate: Gate, at: Instant) {
         if gate.is_on() {
@@ -312,9 +255,7 @@ impl Law for OnTime {
             self.predicted = None;
         } else {
             if self.gate_on {
-                self.ripple_peak = self
-                    .ripple
-                    .map_or(0, |r| EmulatedRipple::ramp(r.up, at.ticks_since(self.on_since)));
+                self.ripple_peak = self.ripple.map_or(0, |r| r.rise(at.ticks_since(self.on_since)));
             }
             self.gate_on = false;
             self.off_since = at;
@@ -332,99 +273,19 @@ impl Regulate for OnTime {
     fn set_reference(&mut self, code: u16) {
         self.reference = code.min(self.full_scale);
     }
-}
 
-/// Input feed-forward for the on-time (slow path): `T_on = V_out/(V_in·f)`
-/// keeps the CCM frequency `f = D/T_on` at the target whatever the input.
-#[derive(Clone, Copy, Debug, PartialEq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct OnTimeFeedForward {
-    /// `V_out·f_clock/f_target`, volt·ticks.
-    volt_ticks: f32,
-}
-
-impl OnTimeFeedForward {
-    /// For output `vout_v` at `f_target_hz` on `clock`.
-    ///
-    /// Errors: [`ConfigError::NotFinite`], [`ConfigError::SetpointNotPositive`],
-    /// [`ConfigError::FrequencyNotPositive`].
-    pub fn new(vout_v: f32, f_target_hz: f32, clock: &TimerClock) -> Result<Self, ConfigError> {
-        if finite(vout_v)? <= 0.0 {
-            return Err(ConfigError::SetpointNotPositive);
+    /// Feed-forward of the on-time from the window's mean input (times the
+    /// frequency trim), and the emulated ripple's duty.
+    fn retune(&mut self, c: &Conditions) {
+        let trim = match self.trim.as_mut() {
+            Some(t) => t.update(c.cycles, c.period_ticks, c.window_binding),
+            None => ONE,
+        };
+        if let Some(ff) = self.feed_forward {
+            self.set_on_ticks(ff.on_ticks(c.vin, trim));
         }
-        if finite(f_target_hz)? <= 0.0 {
-            return Err(ConfigError::FrequencyNotPositive);
+        if let Some(r) = self.ripple.as_mut() {
+            r.follow(c.vout, c.vin);
         }
-        Ok(Self { volt_ticks: vout_v * clock.hz() as f32 / f_target_hz })
-    }
-
-    /// The on-time for input `vin_v`, ticks, times `trim` (1 = none);
-    /// at least one tick. (Slow path: divides.)
-    pub fn on_ticks(&self, vin_v: f32, trim: f32) -> u32 {
-        if vin_v.is_nan() || vin_v <= 0.0 || !trim.is_finite() {
-            return 1;
-        }
-        let t = self.volt_ticks / vin_v * trim;
-        if t >= crate::tick::MAX_DURATION_TICKS as f32 {
-            crate::tick::MAX_DURATION_TICKS
-        } else if t < 1.0 {
-            1
-        } else {
-            (t + 0.5) as u32
-        }
-    }
-}
-
-/// A slow integral loop that locks the mean switching frequency to a target
-/// by trimming the on-time: `trim ← trim − g·(T_measured − T_target)/T_target`
-/// (a long period means too low a frequency: shorten the on-time), bounded
-/// to `[min, max]`. It holds (anti-windup) while the frequency window binds,
-/// so it does not fight the guard.
-#[derive(Clone, Copy, Debug, PartialEq)]
-#[cfg_attr(feature = "defmt", derive(defmt::Format))]
-pub struct FrequencyTrim {
-    target_period_s: f32,
-    gain: f32,
-    min: f32,
-    max: f32,
-    trim: f32,
-}
-
-impl FrequencyTrim {
-    /// Trim toward `f_target_hz` with gain `gain` per update (0 < gain ≤ 1),
-    /// within `[min, max]` (0 < min ≤ 1 ≤ max).
-    ///
-    /// Errors: [`ConfigError::FrequencyNotPositive`], [`ConfigError::NotFinite`],
-    /// [`ConfigError::ThresholdsOutOfOrder`] for bad gain or bounds.
-    pub fn new(f_target_hz: f32, gain: f32, min: f32, max: f32) -> Result<Self, ConfigError> {
-        if finite(f_target_hz)? <= 0.0 {
-            return Err(ConfigError::FrequencyNotPositive);
-        }
-        let ok = finite(gain)? > 0.0
-            && gain <= 1.0
-            && finite(min)? > 0.0
-            && min <= 1.0
-            && finite(max)? >= 1.0;
-        if !ok {
-            return Err(ConfigError::ThresholdsOutOfOrder);
-        }
-        Ok(Self { target_period_s: 1.0 / f_target_hz, gain, min, max, trim: 1.0 })
-    }
-
-    /// The trim factor now.
-    pub const fn trim(&self) -> f32 {
-        self.trim
-    }
-
-    /// One update with the window's mean period, s (`None`: no cycle);
-    /// `guard_binding`: the window's limits acted, hold. Returns the trim.
-    pub fn update(&mut self, mean_period_s: Option<f32>, guard_binding: bool) -> f32 {
-        if let (Some(t), false) = (mean_period_s, guard_binding) {
-            if t.is_finite() && t > 0.0 {
-                let error = (t - self.target_period_s) / self.target_period_s;
-                self.trim = (self.trim - self.gain * error).clamp(self.min, self.max);
-            }
-        }
-        self.trim
     }
 }

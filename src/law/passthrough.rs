@@ -6,7 +6,7 @@
 //! and a [`FrequencyGuard`](crate::guard::FrequencyGuard) wrapped around this
 //! law clamps the timing before the gate is driven.
 
-use super::{Command, Gate, Law};
+use super::{Command, Gate, Law, Regulate};
 use crate::tick::Instant;
 
 /// Forwards the comparator's level as the gate demand.
@@ -15,13 +15,22 @@ use crate::tick::Instant;
 pub struct ComparatorPassThrough {
     active_high: bool,
     demand: Gate,
+    setpoint: u16,
 }
 
 impl ComparatorPassThrough {
     /// `active_high`: true when a high comparator output means "gate on"
     /// (false for an inverting stage driving an active-low enable).
     pub const fn new(active_high: bool) -> Self {
-        Self { active_high, demand: Gate::Off }
+        Self { active_high, demand: Gate::Off, setpoint: 0 }
+    }
+
+    /// The output code the board's comparator regulates to (the middle of
+    /// its thresholds), for the supervisor's checks that compare with the
+    /// reference (a short: the output below half of it).
+    pub const fn with_setpoint(mut self, code: u16) -> Self {
+        self.setpoint = code;
+        self
     }
 
     /// What the comparator asks for now.
@@ -47,4 +56,14 @@ impl Law for ComparatorPassThrough {
     fn on_timer(&mut self, _now: Instant) -> Command {
         Command::hold(self.demand)
     }
+}
+
+/// The reference is the board's own comparator: firmware cannot move it,
+/// so soft-start and DC correction leave it where it is.
+impl Regulate for ComparatorPassThrough {
+    fn reference_code(&self) -> u16 {
+        self.setpoint
+    }
+
+    fn set_reference(&mut self, _code: u16) {}
 }

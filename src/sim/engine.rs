@@ -3,30 +3,31 @@
 //!
 //! Microcontroller events fall on ticks of the timer clock: ADC sampling
 //! instants, conversion-complete interrupts (sample + conversion time +
-//! interrupt latency), timer compares at the firmware's `wake` deadlines
-//! (at the compare tick itself: the gate edge a deadline asks for is made by
-//! the timer's output-compare hardware, as a one-pulse on-time would be, not
-//! by an interrupt handler after its entry latency), comparator interrupts
-//! (crossing + propagation
-//! delay, synchronised to the next tick, + latency), dead-time ends, profile
-//! breakpoints. Between them the plant is solved in closed form; a
-//! comparator crossing, a DCM zero-crossing or a saturation-band edge stops
-//! it inside an interval.
+//! interrupt latency), compares at the deadlines the firmware armed (at the
+//! compare tick the timer's hardware ends a pulse armed to end there; the
+//! compare interrupt follows after the latency), comparator interrupts
+//! (crossing + propagation delay, synchronised to the next tick, +
+//! latency), housekeeping ticks, dead-time ends, profile breakpoints.
+//! Between them the plant is solved in closed form; a comparator crossing,
+//! a DCM zero-crossing or a saturation-band edge stops it inside an
+//! interval.
+//!
+//! The firmware is any [`Firmware`]: its handlers are called when the
+//! simulated microcontroller would enter them, and it acts through the
+//! simulated [`Peripherals`]; after each handler the engine reads the gate
+//! pin, the armed compare and the comparator's DAC.
 
-use super::firmware::{input_channel, output_channel, ComparatorSource, Firmware};
-use super::plant::{Conduction, EnergyLedger, Plant, Stage, Stop, Watch};
+use super::build::{input_channel, output_channel};
+use super::firmware::Firmware;
+use super::mcu::{Adc, Comparator, ComparatorSource};
+use super::peripherals::Peripherals;
+use super::plant::{Conduction, EnergyLedger, Plant, Stage, Stop};
 use super::profile::Profile;
 use super::record::{Observation, Recorder};
-use super::scenario::Scenario;
+use super::scenario::{Scenario, ScenarioError};
 use crate::guard::ClampCounts;
-use crate::law::{Command, Law};
-use crate::scale::AdcChannel;
 use crate::supervisor::FaultKind;
 use crate::tick::Instant;
-use crate::ConfigError;
-use rand::SeedableRng;
-use rand_distr::{Distribution, Normal};
-use rand_xoshiro::Xoshiro256PlusPlus;
 
 /// Envelope slices kept for plots and CSV (20 µs each over a 10 ms run,
 /// about one switching cycle of the demo).
@@ -51,27 +52,27 @@ pub struct RunOutput {
     pub faults: Vec<(FaultKind, f64)>,
 }
 
-/// The analog comparator feeding edge interrupts.
-#[derive(Clone, Copy, Debug)]
-struct Comparator {
-    source: ComparatorSource,
-    /// Output level now (DAC: signal above threshold; Schmitt: "on" request).
-    level: bool,
-    /// DAC threshold in output volts (DAC mode).
-    threshold_v: f64,
+/// Why a scenario could not run.
+#[derive(Clone, Debug, PartialEq)]
+pub enum RunError {
+    /// The firmware refused its configuration (the scenario key says
+    /// which value).
+    Config(ScenarioError),
 }
 
-impl Comparator {
-    fn watch(&self) -> Option<Watch> {
-        match self.source {
-            ComparatorSource::None => None,
-            ComparatorSource::Dac => Some(Watch { level_v: self.threshold_v, rising: !self.level }),
-            ComparatorSource::Schmitt { lower_v, upper_v } => Some(if self.level {
-                Watch { level_v: upper_v, rising: true }
-            } else {
-                Watch { level_v: lower_v, rising: false }
-            }),
+impl std::fmt::Display for RunError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Self::Config(e) => write!(f, "firmware configuration refused: {e}"),
         }
+    }
+}
+
+impl std::error::Error for RunError {}
+
+impl From<ScenarioError> for RunError {
+    fn from(e: ScenarioError) -> Self {
+        Self::Config(e)
     }
 }
 
@@ -80,8 +81,13 @@ impl Comparator {
 struct Schedule {
     next_sample: u64,
     next_housekeeping: u64,
+    /// Conversion-complete interrupt: (tick, output code, input code).
     conversion: Option<(u64, u16, u16)>,
-    timer: Option<u64>,
+    /// The armed compare's tick.
+    compare: Option<u64>,
+    /// The compare interrupt's entry.
+    compare_irq: Option<u64>,
+    /// Comparator interrupt: (tick, level).
     edge: Option<(u64, bool)>,
     dead_time_end: Option<u64>,
     breaks: Vec<u64>,
@@ -100,7 +106,8 @@ impl Schedule {
             }
         };
         consider(self.conversion.map(|c| c.0));
-        consider(self.timer);
+        consider(self.compare);
+        consider(self.compare_irq);
         consider(self.edge.map(|e| e.0));
         consider(self.dead_time_end);
         consider(self.breaks.get(self.next_break).copied());
@@ -109,17 +116,14 @@ impl Schedule {
     }
 }
 
-struct Engine {
+struct Engine<F> {
     plant: Plant,
-    firmware: Firmware,
-    vin_adc: AdcChannel,
-    housekeeping_period: u64,
-    feedback_open_tick: Option<u64>,
+    firmware: F,
+    peripherals: Peripherals,
+    adc: Adc,
     comparator: Comparator,
     profile: Profile,
-    adc: AdcChannel,
-    rng: Xoshiro256PlusPlus,
-    noise: Option<Normal<f64>>,
+    housekeeping_period: u64,
     tick_s: f64,
     start: u32,
     /// Microcontroller time: the tick being dispatched.
@@ -141,68 +145,48 @@ struct Engine {
     recorder: Recorder,
 }
 
-/// Why a scenario could not run.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub enum RunError {
-    /// The firmware refused its configuration.
-    Config(ConfigError),
-}
-
-impl std::fmt::Display for RunError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            Self::Config(e) => write!(f, "firmware configuration refused: {e}"),
-        }
-    }
-}
-
-impl std::error::Error for RunError {}
-
-impl From<ConfigError> for RunError {
-    fn from(e: ConfigError) -> Self {
-        Self::Config(e)
-    }
-}
-
-/// Run a scenario to its end.
+/// Run a scenario to its end with the crate's stack, configured as the
+/// scenario says.
 pub fn run(scenario: &Scenario) -> Result<RunOutput, RunError> {
-    let mut engine = Engine::new(scenario)?;
+    super::build::run_stack(scenario)
+}
+
+/// Run a scenario with a firmware of your own: `build` receives the
+/// simulated peripherals and returns the firmware wired to them. The
+/// scenario gives the plant, the microcontroller (clock, ADC, latencies,
+/// comparator wiring by its law's `input`), the housekeeping rate, and the
+/// input and load over time.
+pub fn run_firmware<F: Firmware>(
+    scenario: &Scenario,
+    build: impl FnOnce(&Peripherals) -> F,
+) -> Result<RunOutput, RunError> {
+    let peripherals = Peripherals::new();
+    let firmware = build(&peripherals);
+    let mut engine = Engine::new(scenario, firmware, peripherals)?;
     let stored_start = engine.plant.stored_j();
     engine.start_up();
     while engine.tick < engine.schedule.end {
         let target = engine.schedule.next_event();
-        engine.tick = if engine.comparator.source == ComparatorSource::None {
-            target
-        } else {
+        engine.tick = if engine.comparator.exists() {
             // A comparator may fire inside the interval: solve eagerly.
             engine.advance_plant(target)
+        } else {
+            target
         };
         engine.dispatch();
     }
     engine.catch_up();
-    Ok(RunOutput {
-        energy: *engine.plant.energy(),
-        clamps: engine.firmware.clamps(),
-        stored_j: (stored_start, engine.plant.stored_j()),
-        simulated_s: engine.schedule.end as f64 * engine.tick_s,
-        setpoint_v: scenario.control.law.setpoint_v(),
-        faults: engine
-            .firmware
-            .faults()
-            .map(|f| (f.kind, f64::from(f.at.ticks_since(Instant(engine.start))) * engine.tick_s))
-            .collect(),
-        recorder: engine.recorder,
-    })
+    Ok(engine.finish(stored_start, scenario))
 }
 
 fn ticks(seconds: f64, hz: f64) -> u64 {
     (seconds * hz).round().max(0.0) as u64
 }
 
-impl Engine {
-    fn new(sc: &Scenario) -> Result<Self, RunError> {
+impl<F: Firmware> Engine<F> {
+    fn new(sc: &Scenario, firmware: F, peripherals: Peripherals) -> Result<Self, RunError> {
         let hz = f64::from(sc.mcu.clock_hz);
-        let (firmware, source) = Firmware::build(sc)?;
+        let key = |e| super::build::keyed(sc, e);
         let profile = sc.profile();
         let recorder = Recorder::new(sc.duration_s, &profile.disturbances(), SLICES);
         let window_edges =
@@ -213,9 +197,12 @@ impl Engine {
             Stage::Synchronous { dead_time_s, .. } => ticks(dead_time_s, hz),
             Stage::NonSynchronous => 0,
         };
-        let noise = (sc.mcu.noise_lsb_rms > 0.0)
-            .then(|| Normal::new(0.0, sc.mcu.noise_lsb_rms).ok())
-            .flatten();
+        let adc = Adc::new(
+            output_channel(&sc.mcu).map_err(key)?,
+            input_channel(&sc.mcu).map_err(key)?,
+            sc,
+            sc.mcu.feedback_open_at_s.map(|t| ticks(t, hz)),
+        );
         Ok(Self {
             plant: {
                 let mut plant = Plant::new(sc.plant, sc.initial_output_v);
@@ -226,14 +213,11 @@ impl Engine {
                 plant
             },
             firmware,
-            comparator: Comparator { source, level: false, threshold_v: 0.0 },
+            peripherals,
+            adc,
+            comparator: Comparator::new(ComparatorSource::of(sc)),
             profile,
-            adc: output_channel(&sc.mcu)?,
-            vin_adc: input_channel(&sc.mcu)?,
             housekeeping_period: ticks(1.0 / sc.firmware.housekeeping_hz, hz).max(1),
-            feedback_open_tick: sc.mcu.feedback_open_at_s.map(|t| ticks(t, hz)),
-            rng: Xoshiro256PlusPlus::seed_from_u64(sc.mcu.seed),
-            noise,
             tick_s: 1.0 / hz,
             start: sc.mcu.start_tick,
             tick: 0,
@@ -251,7 +235,8 @@ impl Engine {
                 next_sample: 0,
                 next_housekeeping: 0,
                 conversion: None,
-                timer: None,
+                compare: None,
+                compare_irq: None,
                 edge: None,
                 dead_time_end: None,
                 breaks,
@@ -262,6 +247,20 @@ impl Engine {
             },
             recorder,
         })
+    }
+
+    fn finish(self, stored_start: f64, sc: &Scenario) -> RunOutput {
+        let since_start =
+            |at: Instant| f64::from(at.ticks_since(Instant(self.start))) * self.tick_s;
+        RunOutput {
+            energy: *self.plant.energy(),
+            clamps: self.firmware.clamps(),
+            stored_j: (stored_start, self.plant.stored_j()),
+            simulated_s: self.schedule.end as f64 * self.tick_s,
+            setpoint_v: sc.control.law.setpoint_v(),
+            faults: self.firmware.faults().iter().map(|f| (f.kind, since_start(f.at))).collect(),
+            recorder: self.recorder,
+        }
     }
 
     fn now(&self) -> Instant {
@@ -285,7 +284,7 @@ impl Engine {
             t_s: self.t_s(),
             vo_v: self.plant.v_out(),
             il_a: self.plant.i_l(),
-            il_est_a: self.firmware.estimated_current_a(self.now()),
+            il_est_a: self.firmware.estimated_current_a(self.now()).unwrap_or(f64::NAN),
             gate_on: self.gate,
         }
     }
@@ -295,16 +294,11 @@ impl Engine {
         self.recorder.observe(o);
     }
 
-    /// Set the environment for t = 0 and let an edge-driven law see the
-    /// comparator's initial level.
+    /// Set the environment for t = 0 and the comparator's initial level.
     fn start_up(&mut self) {
         self.plant.set_environment(self.profile.environment_at(0.0));
-        if self.comparator.source != ComparatorSource::None {
-            self.sync_comparator();
-            let cmd = self.firmware.on_edge(self.comparator.level, self.now());
-            self.apply(cmd);
-            self.sync_comparator();
-        }
+        self.sync_comparator();
+        self.schedule.edge = None;
         self.observe();
     }
 
@@ -312,27 +306,11 @@ impl Engine {
     /// re-armed); a change raises an edge interrupt.
     fn sync_comparator(&mut self) {
         let v = self.plant.v_out();
-        let level = match self.comparator.source {
-            ComparatorSource::None => return,
-            ComparatorSource::Dac => {
-                let code = self.firmware.dac_code().unwrap_or(0);
-                self.comparator.threshold_v = f64::from(self.adc.to_volts(code));
-                v > self.comparator.threshold_v
-            }
-            ComparatorSource::Schmitt { lower_v, upper_v } => {
-                if v < lower_v {
-                    true
-                } else if v > upper_v {
-                    false
-                } else {
-                    self.comparator.level
-                }
-            }
-        };
-        if level != self.comparator.level {
-            self.comparator.level = level;
+        let dac = self.peripherals.dac_code();
+        if self.comparator.settle(v, dac, self.adc.output_channel()) {
             self.schedule_edge_interrupt();
         }
+        self.peripherals.set_comparator(self.comparator.level);
     }
 
     fn schedule_edge_interrupt(&mut self) {
@@ -355,7 +333,8 @@ impl Engine {
                 Stop::CurrentZero(tau) | Stop::BandEdge(tau) => self.frac += tau,
                 Stop::Crossing(tau) => {
                     self.frac += tau;
-                    self.comparator.level = !self.comparator.level;
+                    self.comparator.flip();
+                    self.peripherals.set_comparator(self.comparator.level);
                     self.schedule_edge_interrupt();
                     if let Some((at, _)) = self.schedule.edge {
                         target = target.min(at);
@@ -369,114 +348,156 @@ impl Engine {
 
     /// Handle every event due at the current tick.
     fn dispatch(&mut self) {
-        let tick = self.tick;
-        while self.schedule.breaks.get(self.schedule.next_break).is_some_and(|&b| b <= tick) {
+        self.profile_breakpoints();
+        self.window_edges();
+        self.dead_time();
+        self.compare();
+        self.interrupts();
+        self.housekeeping();
+        self.sample();
+    }
+
+    fn profile_breakpoints(&mut self) {
+        while self.schedule.breaks.get(self.schedule.next_break).is_some_and(|&b| b <= self.tick) {
             self.catch_up();
             self.schedule.next_break += 1;
             self.plant.set_environment(self.profile.environment_at(self.t_s()));
         }
+    }
+
+    fn window_edges(&mut self) {
         while let Some(&(t, k, is_start)) =
             self.schedule.window_edges.get(self.schedule.next_window_edge)
         {
-            if t > tick {
+            if t > self.tick {
                 break;
             }
             self.catch_up();
             self.recorder.window_edge(k, is_start, self.plant.energy());
             self.schedule.next_window_edge += 1;
         }
-        if self.schedule.dead_time_end.is_some_and(|t| t <= tick) {
+    }
+
+    fn dead_time(&mut self) {
+        if self.schedule.dead_time_end.is_some_and(|t| t <= self.tick) {
             self.catch_up();
             self.schedule.dead_time_end = None;
             self.plant.set_mode(if self.gate { Conduction::HighSide } else { Conduction::LowSide });
         }
-        if let Some((t, code, vin)) = self.schedule.conversion {
-            if t <= tick {
-                self.schedule.conversion = None;
-                self.firmware.on_input_reading(vin, self.now());
-                if self.comparator.source == ComparatorSource::None {
-                    let cmd = self.firmware.on_sample(code, self.now());
-                    self.apply(cmd);
-                } else if let Some(cmd) = self.firmware.on_output_reading(code, self.now()) {
-                    self.apply(cmd);
-                    self.sync_comparator();
-                }
+    }
+
+    /// The interrupts due now, by priority: the compare first (it ends
+    /// pulses; and a compare that fired while another interrupt was being
+    /// entered is taken first, as a higher-priority late arrival is on a
+    /// Cortex-M), then the comparator, then the conversion.
+    fn interrupts(&mut self) {
+        let due = |t: Option<u64>| t.is_some_and(|t| t <= self.tick);
+        let entering = due(self.schedule.conversion.map(|c| c.0))
+            || due(self.schedule.edge.map(|e| e.0))
+            || due(self.schedule.compare_irq);
+        if entering && self.schedule.compare_irq.is_some() {
+            self.schedule.compare_irq = Some(self.tick);
+        }
+        self.compare_interrupt();
+        self.edge_interrupt();
+        self.conversion_interrupt();
+    }
+
+    fn conversion_interrupt(&mut self) {
+        let Some((t, output, input)) = self.schedule.conversion else { return };
+        if t <= self.tick {
+            self.schedule.conversion = None;
+            let now = self.now();
+            self.firmware.adc_done(output, input, now);
+            self.after_handler();
+        }
+    }
+
+    fn edge_interrupt(&mut self) {
+        let Some((t, level)) = self.schedule.edge else { return };
+        if t <= self.tick {
+            self.schedule.edge = None;
+            let now = self.now();
+            self.firmware.comparator_edge(level, now);
+            self.after_handler();
+        }
+    }
+
+    /// The compare fires: the timer ends a pulse armed to end here, and
+    /// raises its interrupt.
+    fn compare(&mut self) {
+        if self.schedule.compare.is_none_or(|t| t > self.tick) {
+            return;
+        }
+        self.schedule.compare = None;
+        if let Some(c) = self.peripherals.compare_taken() {
+            if c.ends_pulse {
+                self.peripherals.clear_gate_in_hardware();
+                self.follow_pin();
             }
         }
-        if let Some((t, level)) = self.schedule.edge {
-            if t <= tick {
-                self.schedule.edge = None;
-                let cmd = self.firmware.on_edge(level, self.now());
-                self.apply(cmd);
-                self.sync_comparator();
-            }
-        }
-        if self.schedule.timer.is_some_and(|t| t <= tick) {
-            self.schedule.timer = None;
-            let cmd = self.firmware.on_timer(self.now());
-            self.apply(cmd);
-        }
-        if self.schedule.next_housekeeping <= tick {
-            self.schedule.next_housekeeping += self.housekeeping_period;
-            self.catch_up();
-            let vin = self.convert_input(self.plant.vin_v());
-            self.firmware.housekeeping(vin, self.now());
-            if self.comparator.source != ComparatorSource::None {
-                // Edge-driven firmware re-reads the comparator's level on its
-                // slow path (a start after soft-start sees no fresh edge).
-                let cmd = self.firmware.on_edge(self.comparator.level, self.now());
-                self.apply(cmd);
-                self.sync_comparator();
-            }
-            let report = *self.firmware.report();
-            self.recorder.estimate(
-                self.t_s(),
-                report.losses.output_w.into(),
-                (report.losses.output_w + report.losses.losses_w()).into(),
-            );
-        }
-        if self.schedule.next_sample <= tick {
-            self.schedule.next_sample += self.sample_period;
-            // Edge-driven laws still sample the output, for protection.
-            self.catch_up();
-            let code = self.convert(self.plant.v_out());
-            // The input is scanned in the same sequence.
-            let vin = self.convert_input(self.plant.vin_v());
-            self.schedule.conversion =
-                Some((tick + self.conversion_ticks + self.latency_ticks, code, vin));
+        self.schedule.compare_irq = Some(self.tick + self.latency_ticks);
+    }
+
+    fn compare_interrupt(&mut self) {
+        if self.schedule.compare_irq.is_some_and(|t| t <= self.tick) {
+            self.schedule.compare_irq = None;
+            let now = self.now();
+            self.firmware.timer_compare(now);
+            self.after_handler();
         }
     }
 
-    /// The ADC's result for the output: ideal converter plus noise,
-    /// saturating at the rails; an open divider reads 0 V.
-    fn convert(&mut self, v_out: f64) -> u16 {
-        let open = self.feedback_open_tick.is_some_and(|t| self.tick >= t);
-        let v = if open { 0.0 } else { v_out };
-        let adc = self.adc;
-        self.quantize(&adc, v)
-    }
-
-    /// The ADC's result for the input.
-    fn convert_input(&mut self, v_in: f64) -> u16 {
-        let adc = self.vin_adc;
-        self.quantize(&adc, v_in)
-    }
-
-    fn quantize(&mut self, adc: &AdcChannel, v: f64) -> u16 {
-        let noise = self.noise.map_or(0.0, |n| n.sample(&mut self.rng));
-        let code = (adc.exact_code(v) + noise).round();
-        code.clamp(0.0, f64::from(adc.full_scale_code())) as u16
-    }
-
-    /// Carry out a firmware command at the current tick; its deadline, if
-    /// any, acts at its own tick (hardware compare: no interrupt latency).
-    fn apply(&mut self, cmd: Command) {
+    fn housekeeping(&mut self) {
+        if self.schedule.next_housekeeping > self.tick {
+            return;
+        }
+        self.schedule.next_housekeeping += self.housekeeping_period;
+        self.catch_up();
         let now = self.now();
-        self.schedule.timer =
-            cmd.wake.map(|w| (self.tick + u64::from(w.ticks_since(now))).max(self.tick + 1));
-        if cmd.gate.is_on() != self.gate {
+        self.firmware.housekeeping(now);
+        self.after_handler();
+        if let Some((output_w, input_w)) = self.firmware.power_estimate() {
+            self.recorder.estimate(self.t_s(), output_w, input_w);
+        }
+    }
+
+    /// An ADC sampling instant: both channels now, the interrupt after the
+    /// conversion and the latency.
+    fn sample(&mut self) {
+        if self.schedule.next_sample > self.tick {
+            return;
+        }
+        self.schedule.next_sample += self.sample_period;
+        self.catch_up();
+        let output = self.adc.convert_output(self.plant.v_out(), self.tick);
+        // The input is scanned in the same sequence.
+        let input = self.adc.convert_input(self.plant.vin_v());
+        let done = self.tick + self.conversion_ticks + self.latency_ticks;
+        self.schedule.conversion = Some((done, output, input));
+    }
+
+    /// After a handler: the gate pin, the armed compare, the comparator's
+    /// DAC.
+    fn after_handler(&mut self) {
+        self.follow_pin();
+        self.schedule.compare = self.peripherals.compare().map(|c| {
+            // A deadline already due fires at once (next tick).
+            let ahead = c.at.ticks_since(self.now());
+            let ahead = if ahead > crate::tick::MAX_DURATION_TICKS { 0 } else { ahead };
+            (self.tick + u64::from(ahead)).max(self.tick + 1)
+        });
+        if self.comparator.exists() {
+            self.sync_comparator();
+        }
+    }
+
+    /// Switch the plant when the gate pin changed.
+    fn follow_pin(&mut self) {
+        let on = self.peripherals.gate();
+        if on != self.gate {
             self.catch_up();
-            self.switch_gate(cmd.gate.is_on());
+            self.switch_gate(on);
         }
     }
 

@@ -7,7 +7,10 @@
 //! | [`plant`] | the power stage, its conduction modes and energy ledger |
 //! | [`profile`] | input-voltage and load profiles |
 //! | [`scenario`] | one run's description, from TOML |
-//! | [`firmware`] | the firmware objects a scenario configures |
+//! | [`firmware`] | the [`Firmware`] trait the simulator runs, and the crate's stack on it |
+//! | [`peripherals`] | simulated gate pin, compare timer, comparator and DAC |
+//! | [`build`] | the crate's stack configured from a scenario |
+//! | [`mcu`] | the microcontroller model: ADC, comparator |
 //! | [`engine`] | the event loop: plant, peripherals, interrupts |
 //! | [`record`] | cycles, envelope and steady windows collected during a run |
 //! | [`metrics`] | the summary of a run |
@@ -17,12 +20,15 @@
 //! | [`plot`] | SVG plots |
 //! | [`sweep`] | input × load grids in parallel |
 
+pub mod build;
 pub mod engine;
 pub mod firmware;
 pub mod linear;
+pub mod mcu;
 pub mod metrics;
 pub mod netlist;
 pub mod open_loop;
+pub mod peripherals;
 pub mod plant;
 pub mod plot;
 pub mod profile;
@@ -31,6 +37,8 @@ pub mod report;
 pub mod scenario;
 pub mod sweep;
 
-pub use engine::{run, RunError, RunOutput};
+pub use engine::{run, run_firmware, RunError, RunOutput};
+pub use firmware::{Firmware, StackFirmware};
 pub use metrics::Summary;
+pub use peripherals::Peripherals;
 pub use scenario::{Scenario, ScenarioError};

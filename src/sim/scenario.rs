@@ -299,7 +299,9 @@ impl Scenario {
         self.validate_plant()?;
         self.validate_mcu()?;
         self.validate_profile()?;
-        self.validate_control()
+        self.validate_control()?;
+        // The firmware's own checks, each refusal on its key.
+        super::build::check(self)
     }
 
     fn validate_plant(&self) -> Result<(), ScenarioError> {
@@ -365,13 +367,6 @@ impl Scenario {
         if self.firmware.housekeeping_hz > m.sample_rate_hz.max(f64::from(m.clock_hz) / 64.0) {
             return Err(invalid("firmware.housekeeping_hz", "faster than the fast path"));
         }
-        crate::scale::AdcChannel::new(
-            m.adc_bits,
-            m.adc_reference_v as f32,
-            m.divider_ratio as f32,
-            m.adc_offset_v as f32,
-        )
-        .map_err(|e| invalid("mcu.adc_bits", e.message()))?;
         Ok(())
     }
 

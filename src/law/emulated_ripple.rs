@@ -1,0 +1,120 @@
+//! Emulated ripple for a valley on-time loop on a ceramic-only output.
+//!
+//! A sawtooth in phase with the inductor current is added to the sensed
+//! output before the valley compare: zero at each turn-on, rising through
+//! the on-time, falling at the inductor's off-slope ratio `D/(1 − D)` and
+//! floored at zero. It gives an output with negligible ESR the
+//! current-shaped ripple a valley loop needs.
+
+use crate::error::{attempt, positive, ConfigError, ErrorKind};
+use crate::scale::AdcChannel;
+use crate::units::Volts;
+
+/// The ramp's slopes and the crossing predictor.
+///
+/// Slopes: `u32` in 2⁻¹⁶ ADC codes per tick; each segment's ramp is one
+/// 32-bit multiply (segments beyond 2¹⁶ ticks saturate the ramp).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct EmulatedRipple {
+    pub(super) up: u32,
+    down: u32,
+    /// Ticks per code of the falling ramp, 2⁻⁸ ticks (≤ 2¹⁹).
+    ticks_per_code: u32,
+    /// Predict a crossing only this many ticks ahead (a sampling period).
+    horizon: u32,
+}
+
+/// `x` as a slope, saturating at 0 and `u32::MAX` (configuration).
+const fn slope_bits(x: f64) -> u32 {
+    if x >= u32::MAX as f64 {
+        u32::MAX
+    } else if x > 0.0 {
+        x as u32
+    } else {
+        0
+    }
+}
+
+impl EmulatedRipple {
+    /// A ramp of `amplitude_v` (at the sensed output) over the on-time
+    /// `on_ticks`, falling at `duty/(1 − duty)` of that rate (a `const fn`).
+    ///
+    /// `sample_ticks`: the sampling period; while off, a sample that shows
+    /// the falling ramp will cross the reference before the next sample sets
+    /// a timer deadline at the predicted tick, so turn-ons are not quantized
+    /// to the sampling period.
+    ///
+    /// Errors: `emulated_ripple_v` not positive; `duty` outside (0, 1).
+    pub const fn new(
+        amplitude_v: f32,
+        on_ticks: u32,
+        duty: f32,
+        adc: &AdcChannel,
+        sample_ticks: u32,
+    ) -> Result<Self, ConfigError> {
+        let amplitude = attempt!(positive("emulated_ripple_v", amplitude_v as f64));
+        let duty = duty as f64;
+        if !(duty > 0.0 && duty < 1.0) {
+            return Err(ConfigError::new("duty", ErrorKind::OutOfRange { min: 0.0, max: 1.0 }));
+        }
+        let on = if on_ticks == 0 { 1 } else { on_ticks };
+        let up = slope_bits(adc.span_codes(amplitude) * 65_536.0 / on as f64);
+        let down = slope_bits(up as f64 * duty / (1.0 - duty));
+        Ok(Self { up, down, ticks_per_code: ticks_per_code(down), horizon: sample_ticks })
+    }
+
+    /// Slow path: follow the duty `V_out/V_in` so the ramp returns to zero
+    /// at the next turn-on in steady state: the falling slope becomes
+    /// `up · V_out/(V_in − V_out)` (integer only; ignored unless
+    /// `0 < V_out < V_in`).
+    pub fn follow(&mut self, vout: Volts, vin: Volts) {
+        let (out, inp) = (vout.to_bits(), vin.to_bits());
+        if out <= 0 || inp <= out {
+            return;
+        }
+        let down = u64::from(self.up) * out as u64 / (inp - out) as u64;
+        self.down = if down > u64::from(u32::MAX) { u32::MAX } else { down as u32 };
+        self.ticks_per_code = ticks_per_code(self.down);
+    }
+
+    /// Ticks until the falling ramp closes a margin of `margin_q16`
+    /// (2⁻¹⁶ codes), if within the horizon (fast path: one multiply).
+    #[inline(always)]
+    pub(super) fn crossing_in(&self, margin_q16: u32) -> Option<u32> {
+        let margin_q8 = (margin_q16 >> 8).min(4_095);
+        let ticks = (margin_q8 * self.ticks_per_code) >> 16;
+        (self.ticks_per_code != 0 && ticks < self.horizon).then_some(ticks)
+    }
+
+    /// The rising ramp after `ticks`, 2⁻¹⁶ codes (fast path).
+    #[inline(always)]
+    pub(super) fn rise(&self, ticks: u32) -> u32 {
+        ramp(self.up, ticks)
+    }
+
+    /// The falling ramp's drop after `ticks`, 2⁻¹⁶ codes (fast path).
+    #[inline(always)]
+    pub(super) fn fall(&self, ticks: u32) -> u32 {
+        ramp(self.down, ticks)
+    }
+}
+
+/// `2²⁴ / down`: ticks per code in 2⁻⁸ ticks, capped at 2¹⁹ so a margin
+/// below 16 codes (in 2⁻⁸ codes) times it fits 31 bits; 0 for a flat ramp.
+const fn ticks_per_code(down: u32) -> u32 {
+    if down == 0 {
+        return 0;
+    }
+    let t = (1u32 << 24) / down;
+    if t > 524_288 {
+        524_288
+    } else {
+        t
+    }
+}
+
+#[inline(always)]
+fn ramp(rate: u32, ticks: u32) -> u32 {
+    rate.saturating_mul(ticks.min(u32::from(u16::MAX)))
+}

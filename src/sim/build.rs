@@ -1,0 +1,236 @@
+//! The crate's stack built from a scenario: the configuration a firmware
+//! build would write ([`StackConfig`], the law), through the same
+//! constructors, with every refusal named by its scenario key.
+
+use super::engine::{run_firmware, RunError, RunOutput};
+use super::firmware::StackFirmware;
+use super::plant::Stage;
+use super::scenario::{HystereticInput, LawParams, McuParams, Scenario, ScenarioError};
+use crate::estimate::{LossConfig, Steinmetz};
+use crate::law::{
+    ComparatorPassThrough, EmulatedRipple, FrequencyTrim, Hysteretic, HystereticConfig, OnTime,
+    OnTimeConfig, OnTimeFeedForward,
+};
+use crate::scale::{AdcChannel, TimerClock};
+use crate::stack::{Sensing, SlowPathConfig, Stack, StackConfig, StackParts};
+use crate::ConfigError;
+
+/// Frequency-trim gain per housekeeping window and its bounds (demo
+/// values).
+pub const TRIM_GAIN: f32 = 0.05;
+/// Lowest trim factor.
+pub const TRIM_MIN: f32 = 0.5;
+/// Highest trim factor.
+pub const TRIM_MAX: f32 = 1.5;
+
+/// The scenario key a configuration parameter comes from.
+pub fn scenario_key(sc: &Scenario, parameter: &str) -> String {
+    let model = if sc.firmware.model.is_some() { "firmware.model" } else { "plant" };
+    let table = match parameter {
+        "clock_hz" | "adc_bits" | "adc_reference_v" | "divider_ratio" | "adc_offset_v"
+        | "vin_divider_ratio" => "mcu",
+        "vin_full_scale_v" => return "mcu.vin_divider_ratio".into(),
+        "f_min_hz" | "f_max_hz" | "min_on_s" | "min_off_s" | "max_on_s" => "control.window",
+        "setpoint_v" | "band_v" | "on_time_s" | "emulated_ripple_v" | "feed_forward_hz"
+        | "lower_v" | "upper_v" => "control.law",
+        "duty" => return "input.points".into(),
+        "trim_gain" | "trim_min" | "trim_max" => return "control.law.trim".into(),
+        "dc_gain" | "dc_limit_codes" => return "control.dc_correction".into(),
+        "l_h" | "r_on_ohm" | "dcr_ohm" | "diode_vf_v" | "diode_rd_ohm" => model,
+        "r_low_ohm" => {
+            return format!("{model}.r_low_ohm")
+                .replace("plant.r_low_ohm", "plant.stage.r_on_low_ohm")
+        }
+        "off_r_ohm" => return format!("{model}.diode_rd_ohm"),
+        "esr_ohm" | "t_rise_s" | "t_fall_s" | "gate_charge_c" | "gate_drive_v" => "plant",
+        "c_f" | "output_capacitance_f" => return "plant.c_f".into(),
+        p if p.starts_with("core.") => "plant",
+        "housekeeping_hz" | "observer_bandwidth_hz" => "firmware",
+        "poles" | "r_ohm" | "period_s" => return "firmware.observer_bandwidth_hz".into(),
+        "vin_max_v - vin_max_hysteresis_v" => {
+            return "firmware.protection.vin_max_hysteresis_v".into()
+        }
+        _ => "firmware.protection",
+    };
+    format!("{table}.{parameter}")
+}
+
+/// A configuration refusal as a scenario error on its key.
+pub fn keyed(sc: &Scenario, e: ConfigError) -> ScenarioError {
+    ScenarioError { key: scenario_key(sc, e.parameter), line: None, message: e.kind.to_string() }
+}
+
+/// The timer.
+fn clock(sc: &Scenario) -> Result<TimerClock, ScenarioError> {
+    TimerClock::new(sc.mcu.clock_hz).map_err(|e| keyed(sc, e))
+}
+
+/// The ADC channel that senses the output.
+pub fn output_channel(mcu: &McuParams) -> Result<AdcChannel, ConfigError> {
+    AdcChannel::new(
+        mcu.adc_bits,
+        mcu.adc_reference_v as f32,
+        mcu.divider_ratio as f32,
+        mcu.adc_offset_v as f32,
+    )
+}
+
+/// The ADC channel that senses the input.
+pub fn input_channel(mcu: &McuParams) -> Result<AdcChannel, ConfigError> {
+    AdcChannel::new(mcu.adc_bits, mcu.adc_reference_v as f32, mcu.vin_divider_ratio as f32, 0.0)
+        .map_err(|e| match e.parameter {
+            "divider_ratio" => e.renamed("vin_divider_ratio"),
+            _ => e,
+        })
+}
+
+/// The loss model's parameters: the firmware's model of the stage, the
+/// plant's capacitor, transitions, gate charge and core.
+fn losses(sc: &Scenario) -> LossConfig {
+    let (model, p) = (sc.firmware_model(), &sc.plant);
+    LossConfig {
+        l_h: model.l_h,
+        r_on_ohm: model.r_on_ohm,
+        dcr_ohm: model.dcr_ohm,
+        diode_vf_v: model.freewheel_v(),
+        off_r_ohm: model.r_low_ohm.unwrap_or(model.diode_rd_ohm),
+        esr_ohm: p.esr_ohm as f32,
+        t_rise_s: p.t_rise_s as f32,
+        t_fall_s: p.t_fall_s as f32,
+        gate_charge_c: p.gate_charge_c as f32,
+        gate_drive_v: p.gate_drive_v as f32,
+        core: p.core.map(|c| Steinmetz {
+            k: c.k as f32,
+            alpha: c.alpha as f32,
+            beta: c.beta as f32,
+            turns: c.turns as f32,
+            area_m2: c.area_m2 as f32,
+            volume_m3: c.volume_m3 as f32,
+        }),
+    }
+}
+
+/// How the scenario's law gets the output.
+pub fn sensing(sc: &Scenario) -> Sensing {
+    match sc.control.law {
+        LawParams::Hysteretic { input: HystereticInput::Sampled, .. }
+        | LawParams::OnTime { input: HystereticInput::Sampled, .. } => Sensing::Sampled,
+        _ => Sensing::Edge,
+    }
+}
+
+/// The stack's configuration besides the law.
+pub fn stack_config(sc: &Scenario) -> Result<StackConfig, ScenarioError> {
+    Ok(StackConfig {
+        clock: clock(sc)?,
+        output_adc: output_channel(&sc.mcu).map_err(|e| keyed(sc, e))?,
+        input_adc: input_channel(&sc.mcu).map_err(|e| keyed(sc, e))?,
+        setpoint_v: sc.control.law.setpoint_v() as f32,
+        sensing: sensing(sc),
+        window: sc.control.window,
+        model: sc.firmware_model(),
+        protection: sc.firmware.protection,
+        slow: SlowPathConfig {
+            housekeeping_hz: sc.firmware.housekeeping_hz as f32,
+            observer_bandwidth_hz: sc.firmware.observer_bandwidth_hz.map(|b| b as f32),
+            output_capacitance_f: sc.plant.c_f as f32,
+            dc_correction: sc.control.dc_correction,
+            losses: losses(sc),
+        },
+    })
+}
+
+/// The stack's parts, checked.
+pub fn stack_parts(sc: &Scenario) -> Result<StackParts, ScenarioError> {
+    StackParts::new(&stack_config(sc)?).map_err(|e| keyed(sc, e))
+}
+
+/// The scenario's law, built as a firmware would build it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum ScenarioLaw {
+    /// The hysteretic law.
+    Hysteretic(Hysteretic),
+    /// The on-time law (with its feed-forward, trim, emulated ripple).
+    OnTime(OnTime),
+    /// The board's comparator, passed through.
+    Retrofit(ComparatorPassThrough),
+}
+
+/// Build the scenario's law.
+pub fn law(sc: &Scenario) -> Result<ScenarioLaw, ScenarioError> {
+    let key = |e| keyed(sc, e);
+    let adc = output_channel(&sc.mcu).map_err(key)?;
+    let clock = clock(sc)?;
+    Ok(match sc.control.law {
+        LawParams::Hysteretic { setpoint_v, band_v, .. } => ScenarioLaw::Hysteretic(
+            Hysteretic::new(&HystereticConfig { setpoint_v, band_v }, &adc).map_err(key)?,
+        ),
+        LawParams::OnTime { .. } => ScenarioLaw::OnTime(on_time(sc, &adc, &clock).map_err(key)?),
+        LawParams::AnalogRetrofit { lower_v, upper_v } => {
+            let middle = adc.to_code((0.5 * (lower_v + upper_v)) as f32);
+            let setpoint = middle.map_err(|e| key(e.renamed("upper_v")))?.raw;
+            ScenarioLaw::Retrofit(ComparatorPassThrough::new(true).with_setpoint(setpoint))
+        }
+    })
+}
+
+/// The on-time law with what the scenario adds to it.
+fn on_time(sc: &Scenario, adc: &AdcChannel, clock: &TimerClock) -> Result<OnTime, ConfigError> {
+    let LawParams::OnTime {
+        setpoint_v,
+        on_time_s,
+        feed_forward_hz,
+        trim,
+        emulated_ripple_v,
+        skip_stability_check,
+        ..
+    } = sc.control.law
+    else {
+        unreachable!("called for the on-time law")
+    };
+    let mut law = OnTime::new(&OnTimeConfig { setpoint_v, on_time_s }, adc, clock)?;
+    if let Some(amplitude) = emulated_ripple_v {
+        let vin0 = sc.input.points.first().map_or(f64::from(setpoint_v) * 2.0, |p| p[1]);
+        let duty = (f64::from(setpoint_v) / vin0) as f32;
+        let sample_ticks = (f64::from(sc.mcu.clock_hz) / sc.mcu.sample_rate_hz) as u32;
+        let ripple = EmulatedRipple::new(amplitude, law.on_ticks(), duty, adc, sample_ticks)?;
+        law = law.with_emulated_ripple(ripple);
+    }
+    if let Some(f) = feed_forward_hz {
+        law = law.with_feed_forward(OnTimeFeedForward::new(setpoint_v, f, clock)?);
+        if trim {
+            law = law.with_trim(FrequencyTrim::new(f, TRIM_GAIN, TRIM_MIN, TRIM_MAX, clock)?);
+        }
+    }
+    if !skip_stability_check {
+        law.check_ripple(sc.plant.esr_ohm as f32, sc.plant.c_f as f32, on_time_s)?;
+    }
+    Ok(law)
+}
+
+/// Check that the scenario's firmware configures (every refusal on its
+/// key).
+pub fn check(sc: &Scenario) -> Result<(), ScenarioError> {
+    stack_parts(sc)?;
+    law(sc)?;
+    Ok(())
+}
+
+/// Run the scenario with the crate's stack.
+pub fn run_stack(sc: &Scenario) -> Result<RunOutput, RunError> {
+    let parts = stack_parts(sc)?;
+    match law(sc)? {
+        ScenarioLaw::Hysteretic(l) => {
+            run_firmware(sc, |p| StackFirmware::new(Stack::new(l, parts), p))
+        }
+        ScenarioLaw::OnTime(l) => run_firmware(sc, |p| StackFirmware::new(Stack::new(l, parts), p)),
+        ScenarioLaw::Retrofit(l) => {
+            run_firmware(sc, |p| StackFirmware::new(Stack::new(l, parts), p))
+        }
+    }
+}
+
+/// Whether the stage is synchronous.
+pub fn is_synchronous(sc: &Scenario) -> bool {
+    matches!(sc.plant.stage, Stage::Synchronous { .. })
+}

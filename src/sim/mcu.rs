@@ -1,0 +1,158 @@
+//! The microcontroller around the firmware: the ADC (resolution,
+//! saturation, noise, an open feedback divider) and the analog comparator
+//! (a DAC threshold the firmware arms, or the board's own Schmitt trigger).
+
+use super::plant::Watch;
+use super::scenario::{HystereticInput, LawParams, Scenario};
+use crate::scale::AdcChannel;
+use rand::SeedableRng;
+use rand_distr::{Distribution, Normal};
+use rand_xoshiro::Xoshiro256PlusPlus;
+
+/// The ADC: both channels, its noise, and a fault at the output divider.
+#[derive(Clone, Debug)]
+pub(super) struct Adc {
+    output: AdcChannel,
+    input: AdcChannel,
+    rng: Xoshiro256PlusPlus,
+    noise: Option<Normal<f64>>,
+    /// From this tick on the output divider reads as open (0 V).
+    open_from: Option<u64>,
+}
+
+impl Adc {
+    pub(super) fn new(
+        output: AdcChannel,
+        input: AdcChannel,
+        sc: &Scenario,
+        open_from: Option<u64>,
+    ) -> Self {
+        let m = &sc.mcu;
+        Self {
+            output,
+            input,
+            rng: Xoshiro256PlusPlus::seed_from_u64(m.seed),
+            noise: (m.noise_lsb_rms > 0.0)
+                .then(|| Normal::new(0.0, m.noise_lsb_rms).ok())
+                .flatten(),
+            open_from,
+        }
+    }
+
+    /// The output channel.
+    pub(super) fn output_channel(&self) -> &AdcChannel {
+        &self.output
+    }
+
+    /// The result for the output at `tick`: ideal converter plus noise,
+    /// saturating at the rails; an open divider reads 0 V.
+    pub(super) fn convert_output(&mut self, v_out: f64, tick: u64) -> u16 {
+        let open = self.open_from.is_some_and(|t| tick >= t);
+        let adc = self.output;
+        self.quantize(&adc, if open { 0.0 } else { v_out })
+    }
+
+    /// The result for the input.
+    pub(super) fn convert_input(&mut self, v_in: f64) -> u16 {
+        let adc = self.input;
+        self.quantize(&adc, v_in)
+    }
+
+    fn quantize(&mut self, adc: &AdcChannel, v: f64) -> u16 {
+        let noise = self.noise.map_or(0.0, |n| n.sample(&mut self.rng));
+        let code = (adc.exact_code(v) + noise).round();
+        code.clamp(0.0, f64::from(adc.full_scale_code())) as u16
+    }
+}
+
+/// Where the comparator that feeds edge interrupts gets its threshold.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum ComparatorSource {
+    /// No comparator: the law runs on ADC samples.
+    None,
+    /// A DAC the firmware programs (edge wiring).
+    Dac,
+    /// A Schmitt trigger with fixed thresholds at the output, volts (the
+    /// board's analog loop, kept).
+    Schmitt {
+        /// Output level below which the comparator asks for "on", V.
+        lower_v: f64,
+        /// Output level above which it asks for "off", V.
+        upper_v: f64,
+    },
+}
+
+impl ComparatorSource {
+    /// The wiring a scenario's law describes.
+    pub fn of(sc: &Scenario) -> Self {
+        match sc.control.law {
+            LawParams::Hysteretic { input: HystereticInput::Sampled, .. }
+            | LawParams::OnTime { input: HystereticInput::Sampled, .. } => Self::None,
+            LawParams::Hysteretic { .. } | LawParams::OnTime { .. } => Self::Dac,
+            LawParams::AnalogRetrofit { lower_v, upper_v } => Self::Schmitt { lower_v, upper_v },
+        }
+    }
+}
+
+/// The analog comparator.
+#[derive(Clone, Copy, Debug)]
+pub(super) struct Comparator {
+    pub(super) source: ComparatorSource,
+    /// Output level now (DAC: signal above threshold; Schmitt: "on" request).
+    pub(super) level: bool,
+    /// DAC threshold in output volts (DAC wiring).
+    threshold_v: f64,
+}
+
+impl Comparator {
+    pub(super) fn new(source: ComparatorSource) -> Self {
+        Self { source, level: false, threshold_v: 0.0 }
+    }
+
+    /// Whether there is one.
+    pub(super) fn exists(&self) -> bool {
+        self.source != ComparatorSource::None
+    }
+
+    /// The crossing the plant must stop at.
+    pub(super) fn watch(&self) -> Option<Watch> {
+        match self.source {
+            ComparatorSource::None => None,
+            ComparatorSource::Dac => Some(Watch { level_v: self.threshold_v, rising: !self.level }),
+            ComparatorSource::Schmitt { lower_v, upper_v } => Some(if self.level {
+                Watch { level_v: upper_v, rising: true }
+            } else {
+                Watch { level_v: lower_v, rising: false }
+            }),
+        }
+    }
+
+    /// The level for output `v` with the DAC at `dac_code`; true when it
+    /// changed (an edge interrupt follows).
+    pub(super) fn settle(&mut self, v: f64, dac_code: u16, adc: &AdcChannel) -> bool {
+        let level = match self.source {
+            ComparatorSource::None => return false,
+            ComparatorSource::Dac => {
+                self.threshold_v = f64::from(adc.to_volts(dac_code));
+                v > self.threshold_v
+            }
+            ComparatorSource::Schmitt { lower_v, upper_v } => {
+                if v < lower_v {
+                    true
+                } else if v > upper_v {
+                    false
+                } else {
+                    self.level
+                }
+            }
+        };
+        let changed = level != self.level;
+        self.level = level;
+        changed
+    }
+
+    /// The output crossed the watched level.
+    pub(super) fn flip(&mut self) {
+        self.level = !self.level;
+    }
+}

@@ -1,0 +1,126 @@
+//! The stack wired to its gate driver: the bodies of a firmware's interrupt
+//! handlers, written once for the target, the simulator and the examples.
+//!
+//! A board's interrupt handlers each make one call here, with the timer's
+//! reading and what the peripheral delivered:
+//!
+//! | interrupt | call |
+//! |---|---|
+//! | ADC conversion complete (output and input scanned) | [`Handlers::conversion_done`] |
+//! | comparator output changed (edge wiring) | [`Handlers::comparator_edge`] |
+//! | one-shot compare | [`Handlers::compare_fired`] |
+//! | housekeeping tick (SysTick) | [`Handlers::housekeeping`] |
+//!
+//! With an edge-driven law, arm the comparator's DAC at
+//! [`Handlers::comparator_code`] after each call.
+
+use super::{Sensing, Stack};
+use crate::drive::{GateDriver, OneShot};
+use crate::law::{Command, Law, Regulate};
+use crate::tick::Instant;
+use embedded_hal::digital::OutputPin;
+
+/// The stack and the driver that carries out its commands.
+#[derive(Debug)]
+pub struct Handlers<L, P, T> {
+    stack: Stack<L>,
+    driver: GateDriver<P, T>,
+}
+
+impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
+    /// Wire `stack` to `driver` (whose gate starts off).
+    pub fn new(stack: Stack<L>, driver: GateDriver<P, T>) -> Self {
+        Self { stack, driver }
+    }
+
+    /// Conversion complete: the output and input codes of one scan, the
+    /// timer reading `now`.
+    ///
+    /// Errors: the gate pin's (see [`GateDriver::apply`]).
+    #[inline]
+    pub fn conversion_done(
+        &mut self,
+        output: u16,
+        input: u16,
+        now: Instant,
+    ) -> Result<(), P::Error> {
+        match self.stack.on_conversion(output, input, now) {
+            Some(command) => self.driver.apply(command),
+            None => Ok(()),
+        }
+    }
+
+    /// The comparator's output is now `level`.
+    ///
+    /// Errors: the gate pin's.
+    #[inline]
+    pub fn comparator_edge(&mut self, level: bool, now: Instant) -> Result<(), P::Error> {
+        let command = self.stack.on_edge(level, now);
+        self.driver.apply(command)
+    }
+
+    /// The one-shot compare fired; `now` is the timer's reading in the
+    /// handler. A pulse the timer ended in hardware is reported to the
+    /// stack at the compare's own instant.
+    ///
+    /// Errors: the gate pin's.
+    #[inline]
+    pub fn compare_fired(&mut self, now: Instant) -> Result<(), P::Error> {
+        let at = self.driver.compare_fired(now).unwrap_or(now);
+        let command = self.stack.on_timer(at);
+        self.driver.apply(command)
+    }
+
+    /// The housekeeping tick. `comparator_level`: the comparator's output
+    /// read now, for an edge-driven law (a start after the soft-start sees
+    /// no fresh edge); `None` otherwise.
+    ///
+    /// Errors: the gate pin's.
+    pub fn housekeeping(
+        &mut self,
+        now: Instant,
+        comparator_level: Option<bool>,
+    ) -> Result<(), P::Error> {
+        if let Some(stop) = self.stack.housekeeping(now) {
+            self.driver.apply(stop)?;
+        }
+        match (self.stack.sensing(), comparator_level) {
+            (Sensing::Edge, Some(level)) => self.comparator_edge(level, now),
+            _ => Ok(()),
+        }
+    }
+
+    /// The DAC code an edge-driven law wants its comparator armed at.
+    pub fn comparator_code(&self) -> Option<u16> {
+        self.stack.comparator_code()
+    }
+
+    /// The stack.
+    pub const fn stack(&self) -> &Stack<L> {
+        &self.stack
+    }
+
+    /// The stack, mutable (slow path: clear faults, retune).
+    pub fn stack_mut(&mut self) -> &mut Stack<L> {
+        &mut self.stack
+    }
+
+    /// The driver.
+    pub const fn driver(&self) -> &GateDriver<P, T> {
+        &self.driver
+    }
+
+    /// Gate off now and timer disarmed (a fault input, a watchdog warning).
+    ///
+    /// Errors: the gate pin's.
+    pub fn shut_down(&mut self) -> Result<(), P::Error> {
+        self.driver.shut_down()
+    }
+
+    /// Apply a command directly (tests, bring-up).
+    ///
+    /// Errors: the gate pin's.
+    pub fn apply(&mut self, command: Command) -> Result<(), P::Error> {
+        self.driver.apply(command)
+    }
+}

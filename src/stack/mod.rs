@@ -1,0 +1,173 @@
+//! The whole firmware stack: supervisor, guarded law, current estimator and
+//! the slow path, with the entry points an interrupt-driven firmware calls.
+//!
+//! ```text
+//!   ADC conversion done ─▶ on_conversion(output, input, now) ─┐
+//!   comparator edge     ─▶ on_edge(level, now) ───────────────┤
+//!   timer compare       ─▶ on_timer(now) ─────────────────────┴─▶ Command ─▶ GateDriver
+//!   housekeeping tick   ─▶ housekeeping(now)  (slow path: may return a stop)
+//!   telemetry           ◀─ telemetry(), faults()
+//! ```
+//!
+//! [`Stack`] is generic over the law: any [`Law`] + [`Regulate`] drops in,
+//! the crate's or your own. It is `no_std`, allocates nothing, and uses no
+//! floating point at run time: the fast path is integer compares and adds;
+//! the slow path ([`slow`]) divides but stays integer. Configuration
+//! ([`StackConfig`] → [`StackParts`], `const fn`) is evaluated at compile
+//! time in a firmware's `const` items. The host simulator runs this very
+//! type (`sim::StackFirmware`), so what it checks is what ships.
+//!
+//! | file | what |
+//! |---|---|
+//! | `mod.rs` | [`Stack`]: assembly and entry points |
+//! | `config.rs` | [`StackConfig`] (SI), [`StackParts`] (raw) |
+//! | `slow.rs` | the housekeeping window: losses, retuning, DC correction, observer |
+//! | `handlers.rs` | [`Handlers`]: the stack wired to its gate driver, one call per interrupt |
+//! | `telemetry.rs` | [`Telemetry`] |
+
+mod config;
+mod handlers;
+pub mod slow;
+mod telemetry;
+
+pub use config::{Sensing, StackConfig, StackParts};
+pub use handlers::Handlers;
+pub use slow::{SlowPath, SlowPathConfig, SlowReport};
+pub use telemetry::Telemetry;
+
+use crate::estimate::Amps;
+use crate::guard::FrequencyGuard;
+use crate::law::{Command, Law, Regulate};
+use crate::supervisor::{FaultRecord, Supervisor};
+use crate::tick::Instant;
+
+/// The firmware stack around a law `L`.
+#[derive(Clone, Debug)]
+pub struct Stack<L> {
+    supervisor: Supervisor<FrequencyGuard<L>>,
+    slow: SlowPath,
+    sensing: Sensing,
+}
+
+impl<L: Law + Regulate> Stack<L> {
+    /// Assemble the stack around `law`, whose present reference is the
+    /// setpoint. Starts off; the first housekeeping tick with a good input
+    /// begins the soft-start.
+    pub fn new(law: L, parts: StackParts) -> Self {
+        let guard = FrequencyGuard::new(law, parts.window);
+        Self {
+            supervisor: Supervisor::new(guard, parts.estimator, parts.limits),
+            slow: parts.slow,
+            sensing: parts.sensing,
+        }
+    }
+
+    /// Fast path, in the conversion-complete interrupt: the output and
+    /// input readings of one scan, sampled at `now`. With a sampled law the
+    /// output reading goes to it and the result is always a command; with
+    /// an edge-driven law it serves the protections and a command comes
+    /// only when they act.
+    #[inline]
+    pub fn on_conversion(&mut self, output: u16, input: u16, now: Instant) -> Option<Command> {
+        self.supervisor.on_input_reading(input, now);
+        match self.sensing {
+            Sensing::Sampled => Some(self.supervisor.on_sample(output, now)),
+            Sensing::Edge => self.supervisor.on_output_reading(output, now),
+        }
+    }
+
+    /// Fast path, in the comparator interrupt: its output is now `level`
+    /// (true: the sensed output above the armed threshold). Re-arm the
+    /// comparator at [`comparator_code`](Self::comparator_code) afterwards.
+    #[inline]
+    pub fn on_edge(&mut self, level: bool, now: Instant) -> Command {
+        self.supervisor.on_edge(level, now)
+    }
+
+    /// Fast path, in the compare interrupt: the deadline of an earlier
+    /// [`Command::wake`] was reached.
+    #[inline]
+    pub fn on_timer(&mut self, now: Instant) -> Command {
+        self.supervisor.on_timer(now)
+    }
+
+    /// Slow path, at the configured housekeeping rate: protections on the
+    /// input, soft-start and hiccup, the estimator's voltages, then the
+    /// window's losses, retuning, DC correction and observer. Returns a
+    /// command when it stopped the stage (the gate must go off now).
+    pub fn housekeeping(&mut self, now: Instant) -> Option<Command> {
+        let sup = &mut self.supervisor;
+        sup.estimator_mut().update(now);
+        let phases = sup.estimator_mut().take_window();
+        let last_in = u32::from(sup.last_input()) << 16;
+        let vin_q16 = sup.take_input_average().unwrap_or(last_in);
+        let vin = ((vin_q16 + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
+        let stop = sup.housekeeping(vin, now);
+        self.slow.run(&mut self.supervisor, &phases, vin_q16);
+        stop
+    }
+
+    /// The comparator threshold an edge-driven law wants armed, output
+    /// code (`None` for a law without one).
+    pub fn comparator_code(&self) -> Option<u16> {
+        self.supervisor.comparator_code()
+    }
+
+    /// How the law gets the output.
+    pub const fn sensing(&self) -> Sensing {
+        self.sensing
+    }
+
+    /// The estimated inductor current at `now` (fast path).
+    #[inline]
+    pub fn current_at(&self, now: Instant) -> Amps {
+        self.supervisor.estimator().current_at(now)
+    }
+
+    /// A snapshot for telemetry.
+    pub fn telemetry(&self) -> Telemetry {
+        let r = self.slow.report();
+        Telemetry {
+            state: self.supervisor.state(),
+            faults: self.supervisor.fault_log().len(),
+            current: self.supervisor.estimator().current(),
+            observer_current: r.observer_current,
+            vin: r.vin,
+            vout: r.vout,
+            f_sw_hz: r.phases.f_sw_hz,
+            losses: r.losses,
+            efficiency: r.losses.efficiency(),
+            clamps: *self.supervisor.inner().counts(),
+        }
+    }
+
+    /// The slow path's latest figures.
+    pub const fn slow_report(&self) -> &SlowReport {
+        self.slow.report()
+    }
+
+    /// The fault log, oldest first.
+    pub fn faults(&self) -> impl Iterator<Item = &FaultRecord> {
+        self.supervisor.faults()
+    }
+
+    /// Slow path: clear the fault log and leave a latched fault.
+    pub fn clear_faults(&mut self, now: Instant) {
+        self.supervisor.clear_faults(now);
+    }
+
+    /// The supervisor, with the guarded law and the estimator inside.
+    pub const fn supervisor(&self) -> &Supervisor<FrequencyGuard<L>> {
+        &self.supervisor
+    }
+
+    /// The supervisor, mutable.
+    pub fn supervisor_mut(&mut self) -> &mut Supervisor<FrequencyGuard<L>> {
+        &mut self.supervisor
+    }
+
+    /// The law.
+    pub const fn law(&self) -> &L {
+        self.supervisor.inner().inner()
+    }
+}

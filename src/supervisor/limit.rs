@@ -1,0 +1,78 @@
+//! The cycle-by-cycle current limit, with leading-edge blanking.
+//!
+//! At each turn-on the limit predicts when the estimated current will reach
+//! it (a timer deadline, held for the whole on-time, that ends the pulse
+//! when it comes) and every call while on checks the estimate itself
+//! (covering a slope that grew since). Both
+//! act no earlier than the wrapped stage's minimum on-time after the
+//! turn-on (blanking), so the limit never makes a pulse shorter than the
+//! guard allows; a turn-on with the estimate already at the limit gets no
+//! blanking and is ended in the same call (valley hold-off). A pulse begun
+//! just below the limit can so pass it by up to the on-slope times the
+//! minimum on-time.
+
+use crate::estimate::{Amps, CurrentEstimator};
+use crate::tick::Instant;
+
+/// The limit's state through one on-time.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub(super) struct CurrentLimit {
+    limit: Amps,
+    // The wrapped stage's minimum on-time, ticks.
+    blanking: u32,
+    // End of the present pulse's blanking: the limit acts from then on.
+    blank_end: Instant,
+    // Predicted crossing, set at each turn-on.
+    deadline: Option<Instant>,
+    // The limit ended the present cycle's on-time.
+    acted: bool,
+}
+
+impl CurrentLimit {
+    pub(super) const fn new(limit: Amps, blanking: u32) -> Self {
+        Self { limit, blanking, blank_end: Instant(0), deadline: None, acted: false }
+    }
+
+    /// The blanking time, ticks.
+    pub(super) const fn blanking(&self) -> u32 {
+        self.blanking
+    }
+
+    /// A turn-on at `now` with the estimate at `current_now`: set the
+    /// blanking and predict the crossing.
+    #[inline(always)]
+    pub(super) fn arm(&mut self, now: Instant, current_now: Amps, estimator: &CurrentEstimator) {
+        let blanking = if current_now >= self.limit { 0 } else { self.blanking };
+        self.blank_end = now.after(blanking);
+        self.deadline = estimator.ticks_to_reach(self.limit).map(|t| now.after(t.max(blanking)));
+    }
+
+    /// Whether the limit ends the pulse now: the estimate reached it, or
+    /// the predicted crossing came (a prediction made with a slope that
+    /// fell since still ends the pulse there, as a timer ending it in
+    /// hardware would), either after the blanking.
+    #[inline(always)]
+    pub(super) fn reached(&self, now: Instant, current_now: Amps) -> bool {
+        let predicted = self.deadline.is_some_and(|d| now.has_reached(d));
+        (current_now >= self.limit || predicted) && now.has_reached(self.blank_end)
+    }
+
+    /// The predicted crossing, for the timer.
+    #[inline(always)]
+    pub(super) const fn deadline(&self) -> Option<Instant> {
+        self.deadline
+    }
+
+    /// Note that the limit ended this cycle's on-time.
+    #[inline(always)]
+    pub(super) fn note_acted(&mut self) {
+        self.acted = true;
+    }
+
+    /// Whether the limit ended the cycle just completed; forgets it.
+    #[inline(always)]
+    pub(super) fn take_acted(&mut self) -> bool {
+        core::mem::replace(&mut self.acted, false)
+    }
+}

@@ -1,0 +1,401 @@
+//! Protection and sequencing around a law.
+//!
+//! [`Supervisor`] wraps a guarded law (anything [`Law`] + [`Regulate`]) and
+//! owns the [`CurrentEstimator`], because the cycle-by-cycle current limit
+//! acts on it. One concern a file:
+//!
+//! | file | what |
+//! |---|---|
+//! | `config.rs` | [`ProtectionConfig`] (SI) and [`Limits`] (codes, ticks, amperes) |
+//! | `fault.rs` | [`FaultKind`], [`FaultRecord`], the [`FaultLog`] |
+//! | `sequence.rs` | [`State`]s, soft-start, hiccup, retries |
+//! | `limit.rs` | the cycle-by-cycle current limit and its blanking |
+//! | `detect.rs` | short-circuit and stuck-sensor detectors |
+//! | `readings.rs` | readings and their window averages for the slow path |
+//!
+//! Protections:
+//!
+//! - **UVLO** on the input with hysteresis, and **input over-voltage**: stop,
+//!   log, restart with soft-start when the input is back (slow path).
+//! - **Over-voltage**: a reading at or above the threshold turns the gate
+//!   off in that same call (fast path), then hiccup.
+//! - **Over-current**: cycle by cycle on the estimated current (fast path;
+//!   `limit.rs`).
+//! - **Short circuit**, **stuck sensor** (`detect.rs`), a reading at the
+//!   ADC's rails: latched or hiccup (`sequence.rs`).
+//!
+//! Faults go to a fixed-capacity log with tick timestamps; the oldest entry
+//! is dropped when it is full.
+//!
+//! Fast-path entry points ([`Law`] methods) use integer arithmetic only;
+//! [`Supervisor::housekeeping`] is the slow path and divides.
+
+mod config;
+mod detect;
+mod fault;
+mod limit;
+mod readings;
+mod sequence;
+
+pub use config::{Limits, ProtectionConfig};
+pub use fault::{FaultKind, FaultLog, FaultRecord, FAULT_LOG_LEN};
+pub use sequence::State;
+
+use crate::estimate::current::{Amps, CurrentEstimator, CycleCurrents};
+use crate::law::{Command, Gate, Law, Regulate};
+use crate::tick::{earliest, Instant};
+use detect::{CycleView, Detectors};
+use limit::CurrentLimit;
+use readings::Readings;
+use sequence::{Sequencer, Step};
+
+/// The supervisor around a law `L`.
+#[derive(Clone, Debug)]
+pub struct Supervisor<L> {
+    inner: L,
+    estimator: CurrentEstimator,
+    limits: Limits,
+    // The lower of the over-voltage threshold and the output rail: one
+    // compare per reading finds either.
+    out_stop: u16,
+    sequence: Sequencer,
+    gate: Gate,
+    readings: Readings,
+    out_average: u32,
+    limit: CurrentLimit,
+    detect: Detectors,
+    log: FaultLog,
+}
+
+impl<L: Law + Regulate> Supervisor<L> {
+    /// Wrap `inner`, whose present reference becomes the setpoint. Starts
+    /// [`State::Off`]; the first [`housekeeping`](Self::housekeeping) with a
+    /// good input begins the soft-start.
+    ///
+    /// The current limit keeps pulses at least `inner`'s
+    /// [`min_on_ticks`](Law::min_on_ticks), read here once.
+    pub fn new(inner: L, estimator: CurrentEstimator, limits: Limits) -> Self {
+        let (target, blanking) = (inner.reference_code(), inner.min_on_ticks());
+        Self::with_setpoint(inner, estimator, limits, target, blanking)
+    }
+
+    /// [`new`](Self::new) in a `const` context, where trait methods cannot
+    /// be called: `setpoint` is `inner`'s reference code and `blanking` its
+    /// minimum on-time, ticks.
+    pub const fn with_setpoint(
+        inner: L,
+        estimator: CurrentEstimator,
+        limits: Limits,
+        setpoint: u16,
+        blanking: u32,
+    ) -> Self {
+        let out_stop = if limits.ovp < limits.out_rail { limits.ovp } else { limits.out_rail };
+        Self {
+            inner,
+            estimator,
+            out_stop,
+            sequence: Sequencer::new(setpoint),
+            gate: Gate::Off,
+            readings: Readings::new(),
+            out_average: 0,
+            limit: CurrentLimit::new(limits.current_limit, blanking),
+            detect: Detectors::new(),
+            log: FaultLog::new(),
+            limits,
+        }
+    }
+
+    /// The wrapped law.
+    pub const fn inner(&self) -> &L {
+        &self.inner
+    }
+
+    /// The wrapped law, mutable.
+    pub fn inner_mut(&mut self) -> &mut L {
+        &mut self.inner
+    }
+
+    /// The current estimator.
+    pub const fn estimator(&self) -> &CurrentEstimator {
+        &self.estimator
+    }
+
+    /// The current estimator, mutable (slow path: voltages, corrections).
+    pub fn estimator_mut(&mut self) -> &mut CurrentEstimator {
+        &mut self.estimator
+    }
+
+    /// State now.
+    pub const fn state(&self) -> State {
+        self.sequence.state()
+    }
+
+    /// The gate as last commanded.
+    pub const fn gate(&self) -> Gate {
+        self.gate
+    }
+
+    /// The limits in force.
+    pub const fn limits(&self) -> &Limits {
+        &self.limits
+    }
+
+    /// The fault log, oldest first.
+    pub fn faults(&self) -> impl Iterator<Item = &FaultRecord> {
+        self.log.iter()
+    }
+
+    /// The fault log.
+    pub const fn fault_log(&self) -> &FaultLog {
+        &self.log
+    }
+
+    /// Slow path: empty the log, and leave a latched fault for
+    /// [`State::Off`] (a restart follows when the input is good).
+    pub fn clear_faults(&mut self, now: Instant) {
+        self.log.clear();
+        self.sequence.clear(now);
+    }
+
+    /// The output readings' average over the last housekeeping window,
+    /// code × 2¹⁶.
+    pub const fn output_average(&self) -> u32 {
+        self.out_average
+    }
+
+    /// The last output reading, code.
+    pub const fn last_output(&self) -> u16 {
+        self.readings.last_out
+    }
+
+    /// The last input reading, code.
+    pub const fn last_input(&self) -> u16 {
+        self.readings.last_in
+    }
+
+    /// Slow path: the input readings' average since the last call, code ×
+    /// 2¹⁶, or `None` without fast-path input readings.
+    pub fn take_input_average(&mut self) -> Option<u32> {
+        self.readings.take_input_average()
+    }
+
+    /// Gate off now, telling the law and the estimator.
+    fn force_off(&mut self, now: Instant) {
+        if self.gate.is_on() {
+            self.gate = Gate::Off;
+            self.estimator.on_gate(Gate::Off, now);
+            self.inner.on_gate(Gate::Off, now);
+        }
+    }
+
+    /// Stop for `kind`: latched, hiccup, or back to `Off`. A hiccup that
+    /// follows too many restarts without regulation latches instead.
+    #[cold]
+    #[inline(never)]
+    fn trip(&mut self, kind: FaultKind, now: Instant) -> Command {
+        self.force_off(now);
+        self.log.push(kind, now);
+        if self.sequence.trip(kind, now, &self.limits) {
+            self.log.push(FaultKind::RetriesExhausted, now);
+        }
+        self.detect.reset();
+        Command::hold(Gate::Off)
+    }
+
+    /// Check a reading against the rails and the over-voltage threshold.
+    #[inline(always)]
+    fn check_output(&mut self, out: u16, now: Instant) -> Option<Command> {
+        self.readings.note_output(out);
+        self.estimator.on_output_code(out, now);
+        if out < self.out_stop {
+            return None;
+        }
+        let kind = if out >= self.limits.out_rail {
+            FaultKind::SensorRange
+        } else {
+            FaultKind::OutputOvervoltage
+        };
+        Some(self.trip(kind, now))
+    }
+
+    /// Apply the current limit and follow the gate.
+    #[inline(always)]
+    fn finish(&mut self, cmd: Command, now: Instant) -> Command {
+        let current = self.estimator.current_at(now);
+        self.finish_with(cmd, now, current)
+    }
+
+    /// [`finish`](Self::finish) with the estimated current at `now` known.
+    #[inline(always)]
+    fn finish_with(&mut self, cmd: Command, now: Instant, current_now: Amps) -> Command {
+        if cmd.gate != self.gate {
+            if let Some(fault) = self.follow_gate(cmd.gate, now, current_now) {
+                return fault;
+            }
+        }
+        if !self.gate.is_on() {
+            return cmd;
+        }
+        if self.limit.reached(now, current_now) {
+            return self.limit_current(now);
+        }
+        Command { gate: Gate::On, wake: earliest(now, cmd.wake, self.limit.deadline()) }
+    }
+
+    /// The gate switches to `gate` at `now`: tell the estimator, judge the
+    /// cycle it completes, and at a turn-on arm the current limit.
+    #[inline(always)]
+    fn follow_gate(&mut self, gate: Gate, now: Instant, current_now: Amps) -> Option<Command> {
+        self.gate = gate;
+        if let Some(done) = self.estimator.on_gate(gate, now) {
+            if let Some(fault) = self.end_of_cycle(&done, now) {
+                return Some(fault);
+            }
+        }
+        if gate.is_on() {
+            self.limit.arm(now, current_now, &self.estimator);
+        }
+        None
+    }
+
+    /// The limit ended this on-time.
+    #[inline(always)]
+    fn limit_current(&mut self, now: Instant) -> Command {
+        self.limit.note_acted();
+        self.force_off(now);
+        // The law sees its own turn-off; ask it what comes next.
+        let next = self.inner.on_timer(now);
+        Command { gate: Gate::Off, wake: next.wake }
+    }
+
+    /// Short-circuit and sensor checks on a completed cycle.
+    #[inline(always)]
+    fn end_of_cycle(&mut self, done: &CycleCurrents, now: Instant) -> Option<Command> {
+        let view = CycleView {
+            cycle: done,
+            limited: self.limit.take_acted(),
+            output: self.readings.last_out,
+            reference: self.inner.reference_code(),
+            input: self.readings.last_in,
+        };
+        let fault = self.detect.end_of_cycle(&view, &self.limits)?;
+        Some(self.trip(fault, now))
+    }
+
+    /// Fast path, for firmware whose law runs on comparator edges: an output
+    /// reading taken for protection only (over-voltage, rails, soft-start
+    /// origin). Returns a command only when it acted (the gate must go off);
+    /// otherwise the law's last command and deadline stand.
+    #[inline]
+    pub fn on_output_reading(&mut self, code: u16, now: Instant) -> Option<Command> {
+        if !self.sequence.is_switching() {
+            self.readings.note_output(code);
+            return None;
+        }
+        self.check_output(code, now)
+    }
+
+    /// Fast path: an input reading (scanned with the output); the current
+    /// estimator's on-slope follows it. Input limits stay on the slow path.
+    #[inline]
+    pub fn on_input_reading(&mut self, code: u16, now: Instant) {
+        self.readings.note_input(code);
+        self.estimator.on_input_code(code, now);
+    }
+
+    /// Slow path, at a steady rate (1–20 kHz): input checks, soft-start
+    /// ramp, hiccup timing, and the estimator's voltages. `vin` is the
+    /// input channel's code (the window's average, or the last reading).
+    /// Returns a command when it stopped the stage (the gate must go off).
+    pub fn housekeeping(&mut self, vin: u16, now: Instant) -> Option<Command> {
+        self.readings.last_in = vin;
+        if let Some(kind) = self.input_fault(vin) {
+            return Some(self.trip(kind, now));
+        }
+        if !self.readings.has_output() {
+            // Nothing to start from (nor to set the estimator's slopes
+            // with) before the first output reading.
+            return None;
+        }
+        let l = &self.limits;
+        let input_ok = vin >= l.uvlo_on && vin <= l.vin_resume;
+        match self.sequence.step(input_ok, self.readings.last_out, now, &self.limits) {
+            Step::Begin(reference) => {
+                self.estimator.restart_at(now);
+                self.inner.set_reference(reference);
+            }
+            Step::Reference(reference) => self.inner.set_reference(reference),
+            Step::Hold => {}
+        }
+        self.out_average = self.readings.take_output_average();
+        let out = ((self.out_average + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
+        self.estimator.set_voltage_codes(vin, out);
+        None
+    }
+
+    /// The input fault `vin` shows, if any: a reading at the rail always;
+    /// UVLO and over-voltage while switching or waiting to restart.
+    fn input_fault(&self, vin: u16) -> Option<FaultKind> {
+        let state = self.sequence.state();
+        if vin >= self.limits.in_rail && state != State::Fault {
+            return Some(FaultKind::SensorRange);
+        }
+        if !(self.sequence.is_switching() || state == State::Restart) {
+            return None;
+        }
+        if vin < self.limits.uvlo_off {
+            Some(FaultKind::InputUndervoltage)
+        } else if vin > self.limits.vin_max {
+            Some(FaultKind::InputOvervoltage)
+        } else {
+            None
+        }
+    }
+}
+
+impl<L: Law + Regulate> Law for Supervisor<L> {
+    #[inline]
+    fn on_sample(&mut self, code: u16, now: Instant) -> Command {
+        if !self.sequence.is_switching() {
+            self.readings.note_output(code);
+            self.force_off(now);
+            return Command::hold(Gate::Off);
+        }
+        if let Some(stop) = self.check_output(code, now) {
+            return stop;
+        }
+        let cmd = self.inner.on_sample(code, now);
+        // The reading closed the estimator's segment at `now`: its stored
+        // current is the current now.
+        self.finish_with(cmd, now, self.estimator.current())
+    }
+
+    #[inline]
+    fn on_edge(&mut self, level: bool, now: Instant) -> Command {
+        if !self.sequence.is_switching() {
+            self.force_off(now);
+            return Command::hold(Gate::Off);
+        }
+        let cmd = self.inner.on_edge(level, now);
+        self.finish(cmd, now)
+    }
+
+    #[inline]
+    fn on_timer(&mut self, now: Instant) -> Command {
+        if !self.sequence.is_switching() {
+            self.force_off(now);
+            return Command::hold(Gate::Off);
+        }
+        let cmd = self.inner.on_timer(now);
+        self.finish(cmd, now)
+    }
+
+    /// The wrapped stage's.
+    fn min_on_ticks(&self) -> u32 {
+        self.limit.blanking()
+    }
+
+    fn comparator_code(&self) -> Option<u16> {
+        self.inner.comparator_code()
+    }
+}

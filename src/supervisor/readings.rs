@@ -1,0 +1,81 @@
+//! The readings the supervisor keeps for the slow path: the last output
+//! and input codes, and their sums over a housekeeping window.
+//!
+//! Sums are `u32` and counts `u16`, both wrapping: take the averages at
+//! least every 65 535 readings (65 ms at 1 MHz). Averages carry 16 fraction
+//! bits (`u32`, code × 2¹⁶).
+
+/// Readings and their window sums.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub(super) struct Readings {
+    pub(super) last_out: u16,
+    pub(super) last_in: u16,
+    out_sum: u32,
+    out_count: u16,
+    in_sum: u32,
+    in_count: u16,
+    // An output reading arrived at some time (set on the slow path).
+    seen_output: bool,
+}
+
+impl Readings {
+    pub(super) const fn new() -> Self {
+        Self {
+            last_out: 0,
+            last_in: 0,
+            out_sum: 0,
+            out_count: 0,
+            in_sum: 0,
+            in_count: 0,
+            seen_output: false,
+        }
+    }
+
+    /// Fast path: an output reading.
+    #[inline(always)]
+    pub(super) fn note_output(&mut self, code: u16) {
+        self.last_out = code;
+        self.out_sum = self.out_sum.wrapping_add(u32::from(code));
+        self.out_count = self.out_count.wrapping_add(1);
+    }
+
+    /// Fast path: an input reading.
+    #[inline(always)]
+    pub(super) fn note_input(&mut self, code: u16) {
+        self.last_in = code;
+        self.in_sum = self.in_sum.wrapping_add(u32::from(code));
+        self.in_count = self.in_count.wrapping_add(1);
+    }
+
+    /// Slow path: whether any output reading arrived yet (set here rather
+    /// than per reading: the fast path stays lighter).
+    pub(super) fn has_output(&mut self) -> bool {
+        self.seen_output |= self.out_count != 0;
+        self.seen_output
+    }
+
+    /// Slow path: the output readings' average since the last call (the
+    /// last reading when there were none), code × 2¹⁶.
+    pub(super) fn take_output_average(&mut self) -> u32 {
+        let avg = average(self.out_sum, self.out_count).unwrap_or(u32::from(self.last_out) << 16);
+        (self.out_sum, self.out_count) = (0, 0);
+        avg
+    }
+
+    /// Slow path: the input readings' average since the last call, code ×
+    /// 2¹⁶, or `None` without any.
+    pub(super) fn take_input_average(&mut self) -> Option<u32> {
+        let avg = average(self.in_sum, self.in_count);
+        (self.in_sum, self.in_count) = (0, 0);
+        avg
+    }
+}
+
+/// `sum / count` with 16 fraction bits; `None` for no readings.
+fn average(sum: u32, count: u16) -> Option<u32> {
+    if count == 0 {
+        return None;
+    }
+    Some(((u64::from(sum) << 16) / u64::from(count)) as u32)
+}

@@ -1,0 +1,167 @@
+//! Fixed-point quantities of the slow path, and the configuration-time
+//! conversions into them.
+//!
+//! The slow path (housekeeping, 1–20 kHz) works in `fixed`'s `I16F16` for
+//! currents, voltages, powers and resistances: 16 integer bits, 16 fraction
+//! bits, `value = bits / 2¹⁶`, range ±32 768 (±2 048 A for currents, which
+//! the estimator clamps to), resolution 15.3 µ-units. Fractions of a window
+//! (duty, efficiency) are [`Fraction`]s: `u32` with 2¹⁶ = 1. Each
+//! conversion saturates at the range's edges; none panics, and NaN gives 0.
+//!
+//! The `const fn` conversions from `f64` run at configuration (compile time
+//! in a firmware's `const`); the rest are integer arithmetic.
+
+use crate::scale::AdcChannel;
+use fixed::types::I16F16;
+
+/// Current, amperes: `I16F16`, range ±2 048 A where the estimator holds it.
+pub type Amps = I16F16;
+/// Voltage, volts: `I16F16`, range ±32 768 V.
+pub type Volts = I16F16;
+/// Power, watts: `I16F16`, range ±32 768 W.
+pub type Watts = I16F16;
+/// Resistance, ohms: `I16F16`, range 0 to 32 768 Ω.
+pub type Ohms = I16F16;
+
+/// A fraction of a window (duty, efficiency): `u32`, 2¹⁶ = 1, range 0 to
+/// 65 536 (the slow path never forms one above 1).
+pub type Fraction = u32;
+
+/// One, as a [`Fraction`].
+pub const ONE: Fraction = 1 << 16;
+
+/// `round(x · 2^frac)` as `i64`, saturating; NaN gives 0 (configuration).
+pub const fn to_fixed_i64(x: f64, frac: u32) -> i64 {
+    let scaled = x * (1u64 << frac) as f64;
+    if scaled.is_nan() {
+        0
+    } else if scaled >= i64::MAX as f64 {
+        i64::MAX
+    } else if scaled <= i64::MIN as f64 {
+        i64::MIN
+    } else {
+        crate::math::config::round(scaled) as i64
+    }
+}
+
+/// `round(x · 2^frac)` as `i32`, saturating; NaN gives 0 (configuration).
+pub const fn to_fixed_i32(x: f64, frac: u32) -> i32 {
+    let v = to_fixed_i64(x, frac);
+    if v > i32::MAX as i64 {
+        i32::MAX
+    } else if v < i32::MIN as i64 {
+        i32::MIN
+    } else {
+        v as i32
+    }
+}
+
+/// `x` as `I16F16`, saturating (configuration).
+pub const fn q16(x: f64) -> I16F16 {
+    I16F16::from_bits(to_fixed_i32(x, 16))
+}
+
+/// An `i64` held within `i32`.
+pub const fn clamp_i32(x: i64) -> i32 {
+    if x > i32::MAX as i64 {
+        i32::MAX
+    } else if x < i32::MIN as i64 {
+        i32::MIN
+    } else {
+        x as i32
+    }
+}
+
+/// `a · b` for two `I16F16` values, saturating.
+#[inline]
+pub fn mul(a: I16F16, b: I16F16) -> I16F16 {
+    I16F16::from_bits(clamp_i32((i64::from(a.to_bits()) * i64::from(b.to_bits())) >> 16))
+}
+
+/// `x · f` for a [`Fraction`] `f`, saturating.
+#[inline]
+pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
+    I16F16::from_bits(clamp_i32((i64::from(x.to_bits()) * i64::from(f)) >> 16))
+}
+
+/// `num / den` as a [`Fraction`] (0 for `den = 0`), saturating at `u32::MAX`.
+#[inline]
+pub fn ratio(num: u64, den: u64) -> Fraction {
+    if den == 0 {
+        return 0;
+    }
+    let q = (num << 16) / den;
+    if q > u64::from(u32::MAX) {
+        u32::MAX
+    } else {
+        q as u32
+    }
+}
+
+/// ADC codes to volts at the sensed node, integer only: the channel's
+/// transfer `V = (code·LSB_pin − offset)/ratio` as one multiply and one
+/// subtraction.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct CodeVolts {
+    /// Volts per code at the sensed node, `Q0.32` (value × 2³²), below
+    /// 1 V per code (a channel coarser than that saturates here).
+    per_code: u32,
+    /// The offset's share, volts, `I16F16`.
+    offset: I16F16,
+}
+
+impl CodeVolts {
+    /// For a channel (configuration).
+    pub const fn new(adc: &AdcChannel) -> Self {
+        let per_code = adc.lsb_signal_v() * 4_294_967_296.0;
+        let per_code = if per_code >= u32::MAX as f64 {
+            u32::MAX
+        } else {
+            crate::math::config::round(per_code) as u32
+        };
+        let offset = adc.offset_v() as f64 / adc.ratio() as f64;
+        Self { per_code, offset: q16(offset) }
+    }
+
+    /// Volts for a code with 16 fraction bits (`code · 2¹⁶`, a window's
+    /// mean), saturating.
+    #[inline]
+    pub fn volts_q16(&self, code_q16: u32) -> Volts {
+        // Both factors below 2³²: the product fits 64 bits.
+        let v = (u64::from(code_q16) * u64::from(self.per_code)) >> 32;
+        let v = if v > i32::MAX as u64 { i32::MAX } else { v as i32 };
+        Volts::from_bits(v.saturating_sub(self.offset.to_bits()))
+    }
+
+    /// Volts for a whole code.
+    #[inline]
+    pub fn volts(&self, code: u16) -> Volts {
+        self.volts_q16(u32::from(code) << 16)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn code_volts_agrees_with_the_channel() {
+        let adc = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.02).unwrap();
+        let cv = CodeVolts::new(&adc);
+        for code in [0u16, 1, 1551, 2048, 4095] {
+            let got = cv.volts(code).to_num::<f64>();
+            let want = f64::from(adc.to_volts(code));
+            assert!((got - want).abs() < 2e-4, "{code}: {got} vs {want}");
+        }
+    }
+
+    #[test]
+    fn saturating_helpers() {
+        assert_eq!(to_fixed_i32(1e12, 16), i32::MAX);
+        assert_eq!(to_fixed_i32(f64::NAN, 16), 0);
+        assert_eq!(mul(I16F16::from_num(300), I16F16::from_num(300)), I16F16::MAX);
+        assert_eq!(ratio(1, 4), ONE / 4);
+        assert_eq!(ratio(1, 0), 0);
+    }
+}
