@@ -84,18 +84,44 @@ pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
     I16F16::from_bits(clamp_i32((i64::from(x.to_bits()) * i64::from(f)) >> 16))
 }
 
-/// `num / den` as a [`Fraction`] (0 for `den = 0`), saturating at `u32::MAX`.
+/// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit (one
+/// instruction on a Cortex-M3/M4, a short library call on the M0; a 64-bit
+/// division is a long one on both).
+#[inline]
+pub fn div_u64(n: u64, d: u64) -> u64 {
+    if d == 0 {
+        0
+    } else if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) {
+        u64::from(n as u32 / d as u32)
+    } else {
+        n / d
+    }
+}
+
+/// `n / d` rounded toward zero, 0 for `d = 0`, saturating (see
+/// [`div_u64`]).
+#[inline]
+pub fn div_i64(n: i64, d: i64) -> i64 {
+    let q = div_u64(n.unsigned_abs(), d.unsigned_abs()).min(i64::MAX as u64) as i64;
+    if (n < 0) != (d < 0) {
+        -q
+    } else {
+        q
+    }
+}
+
+/// `num / den` as a [`Fraction`] (0 for `den = 0`), saturating at
+/// `u32::MAX`. Both are first cut to keep `num` within 16 bits, so the
+/// division is 32-bit; for a fraction up to 1 that leaves `den` 15 bits or
+/// more (relative error below 2⁻¹⁵).
 #[inline]
 pub fn ratio(num: u64, den: u64) -> Fraction {
-    if den == 0 {
-        return 0;
+    let shift = (64 - num.leading_zeros()).saturating_sub(16);
+    let (n, d) = (num >> shift, den >> shift);
+    if d == 0 {
+        return if den == 0 { 0 } else { u32::MAX };
     }
-    let q = (num << 16) / den;
-    if q > u64::from(u32::MAX) {
-        u32::MAX
-    } else {
-        q as u32
-    }
+    div_u64(n << 16, d).min(u64::from(u32::MAX)) as u32
 }
 
 /// ADC codes to volts at the sensed node, integer only: the channel's
@@ -163,5 +189,9 @@ mod tests {
         assert_eq!(mul(I16F16::from_num(300), I16F16::from_num(300)), I16F16::MAX);
         assert_eq!(ratio(1, 4), ONE / 4);
         assert_eq!(ratio(1, 0), 0);
+        assert_eq!(ratio(3 << 40, 4 << 40), 3 * ONE / 4);
+        assert_eq!(div_i64(-7, 2), -3);
+        assert_eq!(div_i64(i64::MIN, -1), i64::MAX);
+        assert_eq!(div_u64(1 << 40, 1 << 8), 1 << 32);
     }
 }

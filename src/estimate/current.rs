@@ -54,7 +54,7 @@ use crate::law::Gate;
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
 pub use crate::units::Amps;
-use crate::units::{clamp_i32, ratio, scale, to_fixed_i32, to_fixed_i64, Fraction};
+use crate::units::{clamp_i32, div_i64, div_u64, ratio, scale, to_fixed_i32, Fraction};
 use fixed::types::I8F24;
 
 /// Largest current magnitude held, in `Amps` bits: 2 048 A.
@@ -201,16 +201,20 @@ pub struct Phases {
 }
 
 /// `(a² + a·b + b²)/3`: the mean square of a current ramping from `a` to
-/// `b`, A² with 16 fraction bits. Each product of two `Amps` (≤ 2²⁷ in
-/// magnitude) fits 2⁵⁴, their sum 2⁵⁶.
+/// `b`, A² with 16 fraction bits. Currents are held within ±128 A (2²³
+/// bits) here, so each product fits 2⁴⁶ and their sum times 21 846 (1/3 in
+/// `Q16`, 3·10⁻⁵ high) fits 2⁶³: no 64-bit division.
 fn ramp_mean_square(a: Amps, b: Amps) -> i64 {
-    let (a, b) = (i64::from(a.to_bits()), i64::from(b.to_bits()));
-    ((a * a + a * b + b * b) / 3) >> 16
+    const HELD: i32 = 1 << 23;
+    let held = |x: Amps| i64::from(x.to_bits().clamp(-HELD, HELD));
+    let (a, b) = (held(a), held(b));
+    ((a * a + a * b + b * b) * 21_846) >> 32
 }
 
-/// `x · f` for A² with 16 fraction bits and a [`Fraction`].
+/// `x · f` for A² with 16 fraction bits (held within 2³¹, 32 768 A²) and
+/// a [`Fraction`]: one 32 × 32-bit multiply.
 fn share_of(x: i64, f: Fraction) -> i64 {
-    x.saturating_mul(i64::from(f)) >> 16
+    (i64::from(clamp_i32(x)) * i64::from(f)) >> 16
 }
 
 /// The mean of a ramp from `a` to `b`.
@@ -266,9 +270,10 @@ pub struct CurrentEstimator {
     // Timer tick over the inductance, s/H (configuration only).
     inv_l_tick: f64,
     // Resistive drops' slopes per ampere of mean current, I8F24 A/tick per
-    // A, times 2¹⁶ (so `amps bits · k >> 32` is the slope's bits).
-    drop_on_per_amp: i64,
-    drop_off_per_amp: i64,
+    // A, times 2¹⁶ (so `amps bits · k >> 32` is the slope's bits), held
+    // within `i32` (a drop of R·tick/L below 2⁻⁹ per ampere).
+    drop_on_per_amp: i32,
+    drop_off_per_amp: i32,
     max_segment: u32,
     slope_cap: i32,
     // Slope parts, I8F24 bits of A/tick.
@@ -368,8 +373,8 @@ impl CurrentEstimator {
             clock_hz: clock.hz(),
             model: *model,
             inv_l_tick,
-            drop_on_per_amp: to_fixed_i64(model.on_resistance() as f64 * inv_l_tick, 40),
-            drop_off_per_amp: to_fixed_i64(model.off_resistance() as f64 * inv_l_tick, 40),
+            drop_on_per_amp: to_fixed_i32(model.on_resistance() as f64 * inv_l_tick, 40),
+            drop_off_per_amp: to_fixed_i32(model.off_resistance() as f64 * inv_l_tick, 40),
             // |slope| ≤ 2·cap (see `on_base`), so slope × ticks fits.
             max_segment: (i32::MAX / cap / 2) as u32,
             slope_cap: cap,
@@ -635,15 +640,16 @@ impl CurrentEstimator {
         phases
     }
 
-    /// Slow path: the resistive drops at mean current `i`.
+    /// Slow path: the resistive drops at mean current `i` (the prediction
+    /// of [`ticks_to_reach`](Self::ticks_to_reach) follows at the next
+    /// [`set_voltage_codes`](Self::set_voltage_codes)).
     fn set_drops(&mut self, i: Amps) {
-        let drop = |k: i64| {
-            within(clamp_i32(i64::from(i.to_bits()).saturating_mul(k) >> 32), self.slope_cap)
+        let drop = |k: i32| {
+            within(clamp_i32((i64::from(i.to_bits()) * i64::from(k)) >> 32), self.slope_cap)
         };
         self.drop_on = drop(self.drop_on_per_amp);
         self.drop_off = drop(self.drop_off_per_amp);
         self.refresh_bases();
-        self.refresh_reciprocal();
     }
 
     /// Slow path: ticks per ampere of the on-slope, for
@@ -651,15 +657,12 @@ impl CurrentEstimator {
     /// per ampere (one division).
     fn refresh_reciprocal(&mut self) {
         let on = self.on_base - self.vout_term;
-        self.ticks_per_amp_on = if on > 0 {
-            let v = (1u64 << 40) / on as u64;
-            if v > u64::from(u32::MAX) {
-                u32::MAX
-            } else {
-                v as u32
-            }
-        } else {
-            0
+        self.ticks_per_amp_on = match on {
+            // 2³² / on by a 32-bit division, then 2⁸ more: the quotient
+            // keeps 12 bits or more, a relative error below 2⁻¹².
+            1..=0x000f_ffff => (u32::MAX / on as u32).saturating_mul(256),
+            _ if on > 0 => div_u64(1 << 40, on as u64).min(u64::from(u32::MAX)) as u32,
+            _ => 0,
         };
     }
 
@@ -671,7 +674,7 @@ impl CurrentEstimator {
             return u32::MAX;
         }
         // peak: 2⁻¹⁶ A; fall: 2⁻²⁴ A per tick.
-        let t = (i64::from(peak.to_bits().max(0)) << 8) / i64::from(fall);
+        let t = div_i64(i64::from(peak.to_bits().max(0)) << 8, i64::from(fall));
         if t > i64::from(u32::MAX) {
             u32::MAX
         } else {
@@ -698,7 +701,7 @@ impl CurrentEstimator {
             return Phases::default();
         }
         let n = i64::from(totals.cycles);
-        let mean = |sum: i64| Amps::from_bits(clamp_i32(sum / n));
+        let mean = |sum: i64| Amps::from_bits(clamp_i32(div_i64(sum, n)));
         let (peak, valley) = (mean(totals.peak_sum), mean(totals.valley_sum));
         let time = u64::from(totals.period_ticks);
         let rest = time.saturating_sub(u64::from(totals.on_ticks));
@@ -706,7 +709,9 @@ impl CurrentEstimator {
         // from peak to zero at the off-slope, then idles.
         let dcm = totals.dcm_cycles * 2 > totals.cycles;
         let (off_ticks, off_end) = if dcm {
-            let fall = u64::from(self.fall_ticks(peak)).saturating_mul(u64::from(totals.cycles));
+            // Below 2³¹ × 2³²: no overflow.
+            let fall =
+                u64::from(self.fall_ticks(peak).min(i32::MAX as u32)) * u64::from(totals.cycles);
             (fall.min(rest), Amps::ZERO)
         } else {
             (rest, valley)
@@ -715,7 +720,7 @@ impl CurrentEstimator {
             cycles: totals.cycles,
             dcm_cycles: totals.dcm_cycles,
             period_ticks: totals.period_ticks,
-            f_sw_hz: (u64::from(totals.cycles) * u64::from(self.clock_hz) / time) as u32,
+            f_sw_hz: div_u64(u64::from(totals.cycles) * u64::from(self.clock_hz), time) as u32,
             peak,
             valley,
             off_end,

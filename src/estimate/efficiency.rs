@@ -28,7 +28,7 @@ use crate::error::{attempt, non_negative, positive, ConfigError};
 use crate::math::config::log2;
 use crate::math::log2::{exp2_q32, log2_q16};
 use crate::scale::TimerClock;
-use crate::units::{clamp_i32, mul, q16, ratio, to_fixed_i64, Amps, Fraction, Ohms, Volts, Watts};
+use crate::units::{clamp_i32, mul, q16, ratio, to_fixed_i32, Amps, Fraction, Ohms, Volts, Watts};
 
 /// Steinmetz coefficients and core geometry.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -194,23 +194,24 @@ pub struct LossModel {
     off_r: Ohms,
     esr: Ohms,
     vf: Volts,
-    // Half the rise and fall times, seconds × 2⁴⁰.
-    rise_half: i64,
-    fall_half: i64,
-    // Gate energy per cycle, joules × 2⁴⁰.
-    gate_j: i64,
+    // Half the rise and fall times, seconds × 2⁴⁰ (below 1 ms).
+    rise_half: i32,
+    fall_half: i32,
+    // Gate energy per cycle, joules × 2⁴⁰ (below 1 mJ).
+    gate_j: i32,
     core: Option<CoreLoss>,
 }
 
-/// `x · 2⁴⁰ · f_sw` as a dimensionless `Q16` share (`t·f` or `E·f` in
-/// watts), saturating.
-fn per_cycle(x_q40: i64, f_sw_hz: u32) -> i64 {
-    x_q40.saturating_mul(i64::from(f_sw_hz)) >> 24
+/// `x · 2⁴⁰ · f_sw` as a `Q16` share (`t·f` dimensionless, or `E·f` in
+/// watts), held within `i32`: one 32 × 32-bit multiply.
+fn per_cycle(x_q40: i32, f_sw_hz: u32) -> i32 {
+    clamp_i32((i64::from(x_q40) * i64::from(f_sw_hz)) >> 24)
 }
 
-/// A mean square (A², 16 fraction bits) through a resistance, watts.
+/// A mean square (A², 16 fraction bits, held within 2³¹) through a
+/// resistance, watts.
 fn joule(mean_square: i64, r: Ohms) -> Watts {
-    Watts::from_bits(clamp_i32(mean_square.saturating_mul(i64::from(r.to_bits())) >> 16))
+    Watts::from_bits(clamp_i32((i64::from(clamp_i32(mean_square)) * i64::from(r.to_bits())) >> 16))
 }
 
 impl LossModel {
@@ -252,9 +253,9 @@ impl LossModel {
             off_r: q16(cfg.off_r_ohm as f64),
             esr: q16(cfg.esr_ohm as f64),
             vf: q16(cfg.diode_vf_v as f64),
-            rise_half: to_fixed_i64(0.5 * cfg.t_rise_s as f64, 40),
-            fall_half: to_fixed_i64(0.5 * cfg.t_fall_s as f64, 40),
-            gate_j: to_fixed_i64(cfg.gate_charge_c as f64 * cfg.gate_drive_v as f64, 40),
+            rise_half: to_fixed_i32(0.5 * cfg.t_rise_s as f64, 40),
+            fall_half: to_fixed_i32(0.5 * cfg.t_fall_s as f64, 40),
+            gate_j: to_fixed_i32(cfg.gate_charge_c as f64 * cfg.gate_drive_v as f64, 40),
             core,
         })
     }
@@ -268,12 +269,9 @@ impl LossModel {
         let i_avg = w.average();
         let ms = w.mean_square();
         let dc_sq = (i64::from(i_avg.to_bits()) * i64::from(i_avg.to_bits())) >> 16;
-        let edges = |i: Amps, t_half: i64| {
-            Watts::from_bits(clamp_i32(
-                i64::from(mul(vin, i.max(Amps::ZERO)).to_bits())
-                    .saturating_mul(per_cycle(t_half, w.f_sw_hz))
-                    >> 16,
-            ))
+        let edges = |i: Amps, t_half: i32| {
+            let vi = i64::from(mul(vin, i.max(Amps::ZERO)).to_bits());
+            Watts::from_bits(clamp_i32((vi * i64::from(per_cycle(t_half, w.f_sw_hz))) >> 16))
         };
         LossBreakdown {
             output: mul(vout, i_avg),
@@ -284,7 +282,7 @@ impl LossModel {
             esr: joule((ms - dc_sq).max(0), self.esr),
             switching: edges(w.valley, self.rise_half)
                 .saturating_add(edges(w.peak, self.fall_half)),
-            gate: Watts::from_bits(clamp_i32(per_cycle(self.gate_j, w.f_sw_hz))),
+            gate: Watts::from_bits(per_cycle(self.gate_j, w.f_sw_hz)),
             core: match self.core {
                 Some(c) => c.power(w.f_sw_hz, w.ripple()),
                 None => Watts::ZERO,

@@ -276,12 +276,13 @@ impl Observer {
         let innovation = v_out.to_bits().saturating_sub(self.x[1]);
         let x = self.x;
         let term = |c: i32, v: i32| i64::from(c) * i64::from(v);
-        for (r, next) in self.x.iter_mut().enumerate() {
-            let sum = term(self.phi[r][0], x[0])
-                .saturating_add(term(self.phi[r][1], x[1]))
-                .saturating_add(term(self.phi[r][2], x[2]))
-                .saturating_add(term(self.gamma[r], u.to_bits()))
-                .saturating_add(term(self.gain[r], innovation));
+        let rows = self.phi.iter().zip(self.gamma.iter().zip(&self.gain));
+        for (next, (phi, (gamma, gain))) in self.x.iter_mut().zip(rows) {
+            let sum = term(phi[0], x[0])
+                .saturating_add(term(phi[1], x[1]))
+                .saturating_add(term(phi[2], x[2]))
+                .saturating_add(term(*gamma, u.to_bits()))
+                .saturating_add(term(*gain, innovation));
             *next = clamp_i32(sum >> self.frac);
         }
         Amps::from_bits(self.x[0])

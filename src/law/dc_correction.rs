@@ -50,8 +50,9 @@ impl DcCorrection {
     pub fn update<L: Regulate>(&mut self, mean_code_q16: u32, law: &mut L) -> u16 {
         let error = (i64::from(self.setpoint) << 16) - i64::from(mean_code_q16);
         let step = (error * i64::from(self.gain)) >> 16;
-        let trim =
-            (i64::from(self.trim) + step).clamp(-i64::from(self.limit), i64::from(self.limit));
+        // Bounds as max/min, not `clamp`: nothing here may panic.
+        let limit = i64::from(self.limit);
+        let trim = (i64::from(self.trim) + step).max(-limit).min(limit);
         self.trim = trim as i32;
         let reference = ((i64::from(self.setpoint) << 16) + trim + (1 << 15)) >> 16;
         let reference = reference.clamp(0, i64::from(u16::MAX)) as u16;

@@ -73,7 +73,9 @@ impl EmulatedRipple {
         if out <= 0 || inp <= out {
             return;
         }
-        let down = u64::from(self.up) * out as u64 / (inp - out) as u64;
+        // Full precision (one 64-bit division): the loop's timing is
+        // sensitive to this slope.
+        let down = crate::units::div_u64(u64::from(self.up) * out as u64, (inp - out) as u64);
         self.down = if down > u64::from(u32::MAX) { u32::MAX } else { down as u32 };
         self.ticks_per_code = ticks_per_code(self.down);
     }

@@ -10,10 +10,10 @@
 //!   `[min, max]`. It holds (anti-windup) while the frequency window binds,
 //!   so it does not fight the guard.
 
-use crate::error::{attempt, positive, within, ConfigError};
+use crate::error::{attempt, positive, within, ConfigError, ErrorKind};
 use crate::scale::TimerClock;
 use crate::tick::MAX_DURATION_TICKS;
-use crate::units::{to_fixed_i64, Fraction, Volts, ONE};
+use crate::units::{div_i64, div_u64, to_fixed_i64, Fraction, Volts, ONE};
 
 /// Input feed-forward for the on-time.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -26,7 +26,9 @@ pub struct OnTimeFeedForward {
 impl OnTimeFeedForward {
     /// For output `vout_v` at `f_target_hz` on `clock` (a `const fn`).
     ///
-    /// Errors: `setpoint_v` or `feed_forward_hz` not positive.
+    /// Errors: `setpoint_v` or `feed_forward_hz` not positive; an on-time
+    /// at 1 V input, `V_out·f_clock/f_target`, above 2²⁴ ticks (reported on
+    /// `feed_forward_hz`).
     pub const fn new(
         vout_v: f32,
         f_target_hz: f32,
@@ -35,6 +37,10 @@ impl OnTimeFeedForward {
         let vout = attempt!(positive("setpoint_v", vout_v as f64));
         let f = attempt!(positive("feed_forward_hz", f_target_hz as f64));
         let volt_ticks = to_fixed_i64(vout * clock.hz() as f64 / f, 16);
+        if volt_ticks >= 1 << 40 {
+            let range = ErrorKind::OutOfRange { min: 0.0, max: 16_777_216.0 };
+            return Err(ConfigError::new("feed_forward_hz", range));
+        }
         Ok(Self { volt_ticks: if volt_ticks < 0 { 0 } else { volt_ticks as u64 } })
     }
 
@@ -45,8 +51,9 @@ impl OnTimeFeedForward {
         if vin <= 0 {
             return 1;
         }
-        let num = self.volt_ticks.saturating_mul(u64::from(trim)) >> 16;
-        let t = (num + (vin as u64) / 2) / vin as u64;
+        // volt_ticks < 2⁴⁰ (configuration), trim ≤ 2¹⁸: no overflow.
+        let num = (self.volt_ticks * u64::from(trim)) >> 16;
+        let t = div_u64(num + (vin as u64) / 2, vin as u64);
         t.clamp(1, u64::from(MAX_DURATION_TICKS)) as u32
     }
 }
@@ -110,9 +117,10 @@ impl FrequencyTrim {
         }
         let target = i64::from(cycles) * i64::from(self.target_period);
         // (T − T₀)/T₀ as a Fraction, positive for too long a period.
-        let error = ((i64::from(period_ticks) - target) << 16) / target;
+        let error = div_i64((i64::from(period_ticks) - target) << 16, target);
         let step = (error * i64::from(self.gain)) >> 16;
-        let trim = (i64::from(self.trim) - step).clamp(i64::from(self.min), i64::from(self.max));
+        // Bounds as max/min, not `clamp`: nothing here may panic.
+        let trim = (i64::from(self.trim) - step).max(i64::from(self.min)).min(i64::from(self.max));
         self.trim = trim as Fraction;
         self.trim
     }

@@ -72,10 +72,14 @@ impl Readings {
     }
 }
 
-/// `sum / count` with 16 fraction bits; `None` for no readings.
+/// `sum / count` with 16 fraction bits; `None` for no readings. Two 32-bit
+/// divisions (whole part, then the remainder's fraction) rather than one
+/// 64-bit: the remainder is below `count` < 2¹⁶.
 fn average(sum: u32, count: u16) -> Option<u32> {
     if count == 0 {
         return None;
     }
-    Some(((u64::from(sum) << 16) / u64::from(count)) as u32)
+    let count = u32::from(count);
+    let (whole, rest) = (sum / count, sum % count);
+    Some((whole << 16).wrapping_add((rest << 16) / count))
 }

@@ -149,7 +149,7 @@ impl Sequencer {
             return self.target;
         }
         let span = u64::from(self.target - self.ramp_from);
-        let step = span * u64::from(elapsed) / u64::from(soft_start.max(1));
+        let step = crate::units::div_u64(span * u64::from(elapsed), u64::from(soft_start));
         self.ramp_from + step as u16
     }
 }

@@ -1,8 +1,8 @@
 #!/usr/bin/env bash
-# Build ripplectl's fast path for Cortex-M0 (thumbv6m, QEMU microbit) and
-# Cortex-M4 (thumbv7em, QEMU mps2-an386), replay the host's bit-exact
-# vectors, count instructions per call, and check the fast path links with
-# panic-never. One line per measurement:
+# Build ripplectl's firmware stack for Cortex-M0 (thumbv6m, QEMU microbit)
+# and Cortex-M4 (thumbv7em, QEMU mps2-an386), replay the host's bit-exact
+# vectors (fast and slow path), count instructions per call, and check every
+# run-time entry point links with panic-never. One line per measurement:
 #   insns core=<m0|m4> op=<name> n=<count>
 #   vectors core=<m0|m4> match=<true|false> count=<n>
 # Exits non-zero on a mismatch, a budget overrun or a reachable panic; the
@@ -64,6 +64,7 @@ estimator_sample|current estimator, per output reading
 supervisor|supervisor's own share, per sample
 supervisor_stack|whole stack (supervisor, estimator, law, guard), per sample, regulating
 supervisor_stack_limited|whole stack, per sample, every cycle ended by the current limit
+housekeeping|slow path, per housekeeping tick (on-time stack: feed-forward, trim, DC correction, observer, losses)
 hysteretic_f64|f64 hysteretic oracle, per sample (code to volts included)
 guard_f64|f64 guard oracle, per call (ticks to seconds included)
 ROWS

@@ -1,22 +1,31 @@
-//! The wiring of a complete firmware loop on a Cortex-M4 (builds for
-//! `thumbv7em-none-eabihf`): the greenhouse valve rail of the crate's demo
-//! (24 V bus, 18–32 V, to 5 V / 2 A) under the constant on-time law.
+//! A whole firmware on a Cortex-M4 (builds for `thumbv7em-none-eabihf`):
+//! the greenhouse valve rail of the crate's demo (24 V bus, 18–32 V, to
+//! 5 V / 2 A) under the constant on-time law with input feed-forward, a
+//! frequency trim, DC correction and the averaged-model observer: the
+//! stack the simulator runs, wired the same way
+//! ([`ripplectl::stack::Handlers`]), at the simulator's housekeeping rate.
 //!
 //! ```text
 //!   ADC conversion done (output and input scanned) ─▶ adc_done()
-//!       supervisor.on_input_reading → supervisor.on_sample → driver.apply
+//!       handlers.conversion_done → stack.on_conversion → driver.apply
 //!   timer compare ─▶ timer_compare()
-//!       driver.compare_fired → supervisor.on_timer → driver.apply
-//!   SysTick, 1 kHz ─▶ SysTick()
-//!       supervisor.housekeeping (UVLO, soft-start, hiccup, estimator voltages)
+//!       handlers.compare_fired → driver.compare_fired, stack.on_timer → driver.apply
+//!   SysTick, 10 kHz ─▶ SysTick()
+//!       handlers.housekeeping → stack.housekeeping (UVLO, soft-start,
+//!       hiccup, losses, feed-forward and trim, DC correction, observer)
 //! ```
+//!
+//! The configuration is `const`: the compiler converts volts and seconds
+//! into codes, ticks and fixed-point coefficients, and refuses a bad value
+//! at build time naming it. No floating-point code runs on the target.
 //!
 //! The two peripheral handlers are plain functions here: a board's
 //! peripheral access crate puts them in its vector table (`#[interrupt]`
-//! on its ADC and timer interrupts) and implements [`OutputPin`] and
-//! [`OneShot`] on its GPIO and timer. The stand-ins below keep the example
-//! free of any one vendor's registers: the pin and the compare are words in
-//! RAM, the ADC results arrive as arguments.
+//! on its ADC and timer interrupts, the timer's at the highest priority)
+//! and implements [`OutputPin`] and [`OneShot`] on its GPIO and timer. The
+//! stand-ins below keep the example free of any one vendor's registers: the
+//! pin and the compare are words in RAM, the ADC results arrive as
+//! arguments.
 //!
 //! Caution: a power stage under firmware control can burn, shock and
 //! destroy loads. Bring a board up from a current-limited bench supply and
@@ -30,17 +39,30 @@ use cortex_m::interrupt::{self, Mutex};
 use cortex_m::peripheral::syst::SystClkSource;
 use cortex_m_rt::{entry, exception};
 use embedded_hal::digital::{ErrorType, OutputPin};
-use panic_semihosting as _;
+use panic_halt as _;
 use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
-use ripplectl::estimate::{CurrentEstimator, InductorModel};
-use ripplectl::law::{OnTime, OnTimeConfig};
-use ripplectl::supervisor::{Limits, ProtectionConfig, Supervisor};
-use ripplectl::{
-    AdcChannel, ConfigError, FrequencyGuard, Instant, Law, TimerClock, Window, WindowConfig,
-};
+use ripplectl::law::{FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward};
+use ripplectl::stack::{Handlers, SlowPathConfig, Stack, StackConfig, StackParts};
+use ripplectl::{unwrap_config, Instant};
 
-/// Timer clock of the free-running counter, Hz.
-const CLOCK_HZ: u32 = 64_000_000;
+/// The board: the crate's demo, with DC correction on. A field out of
+/// range fails the build with its name.
+const CONFIG: StackConfig = StackConfig {
+    slow: SlowPathConfig { dc_correction: true, ..StackConfig::demo().slow },
+    ..StackConfig::demo()
+};
+const PARTS: StackParts = unwrap_config(StackParts::new(&CONFIG));
+const LAW: OnTime = unwrap_config(OnTime::new(
+    &OnTimeConfig { setpoint_v: CONFIG.setpoint_v, on_time_s: 2.08e-6 },
+    &CONFIG.output_adc,
+    &CONFIG.clock,
+))
+.with_feed_forward(unwrap_config(OnTimeFeedForward::new(CONFIG.setpoint_v, 100e3, &CONFIG.clock)))
+.with_trim(unwrap_config(FrequencyTrim::new(100e3, 0.05, 0.5, 1.5, &CONFIG.clock)));
+
+/// SysTick reload for the housekeeping rate (SysTick counts the core clock,
+/// here the timer's).
+const SYSTICK_RELOAD: u32 = (CONFIG.clock.hz() as f32 / CONFIG.slow.housekeeping_hz) as u32;
 
 /// Stand-in for the gate pin's output register.
 static GATE_LEVEL: AtomicBool = AtomicBool::new(false);
@@ -89,52 +111,15 @@ fn now() -> Instant {
     Instant(COUNTER.load(Ordering::Relaxed))
 }
 
-type Stack = Supervisor<FrequencyGuard<OnTime>>;
-
-struct Firmware {
-    stack: Stack,
-    driver: GateDriver<GatePin, OnTimeTimer>,
-    vout_adc: AdcChannel,
-    vin_adc: AdcChannel,
-    last_vin: u16,
-}
+type Firmware = Handlers<OnTime, GatePin, OnTimeTimer>;
 
 static FIRMWARE: Mutex<RefCell<Option<Firmware>>> = Mutex::new(RefCell::new(None));
-
-/// Configuration, once, on the slow path: SI units in, codes and ticks out.
-/// Every value is checked; a bad one is a named error, not a panic.
-fn configure() -> Result<Firmware, ConfigError> {
-    let clock = TimerClock::new(CLOCK_HZ)?;
-    let vout_adc = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0)?; // 10 k over 4.7 k
-    let vin_adc = AdcChannel::new(12, 3.3, 0.0826, 0.0)?; // 100 k over 9.1 k
-    let law =
-        OnTime::new(&OnTimeConfig { setpoint_v: 5.0, on_time_s: 2.08e-6 }, &vout_adc, &clock)?;
-    let window = Window::new(&WindowConfig::demo(), &clock)?;
-    let mut estimator = CurrentEstimator::new(&InductorModel::demo(), &clock, 40.0)?;
-    estimator.follow_output(&vout_adc);
-    estimator.follow_input(&vin_adc);
-    let limits = Limits::new(
-        &ProtectionConfig::demo(),
-        &vout_adc,
-        &vin_adc,
-        &clock,
-        ripplectl::law::Regulate::reference_code(&law),
-    )?;
-    let stack = Supervisor::new(FrequencyGuard::new(law, window), estimator, limits);
-    let Ok(driver) =
-        GateDriver::new(GatePin, OnTimeTimer, Polarity::ActiveHigh, PulseEnd::Hardware);
-    Ok(Firmware { stack, driver, vout_adc, vin_adc, last_vin: 0 })
-}
 
 /// Conversion-complete interrupt: the output and input readings of one scan.
 pub fn adc_done(out_code: u16, in_code: u16) {
     interrupt::free(|cs| {
         if let Some(fw) = FIRMWARE.borrow(cs).borrow_mut().as_mut() {
-            let t = now();
-            fw.last_vin = in_code;
-            fw.stack.on_input_reading(in_code, t);
-            let command = fw.stack.on_sample(out_code, t);
-            let Ok(()) = fw.driver.apply(command);
+            let Ok(()) = fw.conversion_done(out_code, in_code, now());
         }
     });
 }
@@ -143,36 +128,34 @@ pub fn adc_done(out_code: u16, in_code: u16) {
 pub fn timer_compare() {
     interrupt::free(|cs| {
         if let Some(fw) = FIRMWARE.borrow(cs).borrow_mut().as_mut() {
-            fw.driver.compare_fired();
-            let command = fw.stack.on_timer(now());
-            let Ok(()) = fw.driver.apply(command);
+            let Ok(()) = fw.compare_fired(now());
         }
     });
 }
 
-/// Housekeeping at 1 kHz: protections on the input, soft-start, hiccup
-/// timing and the estimator's voltages.
+/// Housekeeping at 10 kHz: the whole slow path.
 #[exception]
 fn SysTick() {
     interrupt::free(|cs| {
         if let Some(fw) = FIRMWARE.borrow(cs).borrow_mut().as_mut() {
-            let vin = fw.stack.take_input_average().unwrap_or(fw.last_vin);
-            let (vin_adc, vout_adc) = (fw.vin_adc, fw.vout_adc);
-            fw.stack.housekeeping(vin, &vin_adc, &vout_adc, now());
+            let Ok(()) = fw.housekeeping(now(), None);
         }
     });
 }
 
 #[entry]
 fn main() -> ! {
-    let Some(mut core) = cortex_m::Peripherals::take() else { panic!("peripherals taken") };
-    match configure() {
-        Ok(fw) => interrupt::free(|cs| *FIRMWARE.borrow(cs).borrow_mut() = Some(fw)),
-        // Leave the gate off (its pull-down holds it) and report.
-        Err(e) => panic!("configuration refused: {:?}", e),
-    }
+    let Some(mut core) = cortex_m::Peripherals::take() else {
+        loop {
+            cortex_m::asm::wfi();
+        }
+    };
+    let Ok(driver) =
+        GateDriver::new(GatePin, OnTimeTimer, Polarity::ActiveHigh, PulseEnd::Hardware);
+    let firmware = Handlers::new(Stack::new(LAW, PARTS), driver);
+    interrupt::free(|cs| *FIRMWARE.borrow(cs).borrow_mut() = Some(firmware));
     core.SYST.set_clock_source(SystClkSource::Core);
-    core.SYST.set_reload(CLOCK_HZ / 1_000 - 1);
+    core.SYST.set_reload(SYSTICK_RELOAD - 1);
     core.SYST.clear_current();
     core.SYST.enable_interrupt();
     core.SYST.enable_counter();

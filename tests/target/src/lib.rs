@@ -1,18 +1,26 @@
-//! The fast path under test, driven by a word stream that the host
+//! The firmware under test, driven by a word stream that the host
 //! generates and the targets replay.
 //!
 //! A vector file is `MAGIC`, a count, then per call `WORDS_IN` input words
 //! (operation, two arguments) and `WORDS_OUT` expected output words, all
 //! little-endian `u32`. [`Rig::step`] performs one call on persistent
-//! firmware objects built from fixed SI configurations, so configuration
-//! (float, on each core) is under test too.
+//! firmware objects. Their configuration is `const` (the compiler evaluates
+//! it: no float code on the target); the `CONFIG` operation runs the same
+//! constructors at run time on the core, so the soft-float configuration
+//! path is checked bit for bit too.
 #![no_std]
 
+use core::hint::black_box;
 use ripplectl::estimate::{CurrentEstimator, InductorModel};
-use ripplectl::law::{ComparatorPassThrough, Hysteretic, HystereticConfig, OnTime, OnTimeConfig};
-use ripplectl::supervisor::{Limits, ProtectionConfig, State, Supervisor};
+use ripplectl::law::{
+    ComparatorPassThrough, FrequencyTrim, Hysteretic, HystereticConfig, OnTime, OnTimeConfig,
+    OnTimeFeedForward, Regulate,
+};
+use ripplectl::stack::{SlowPathConfig, Stack, StackConfig, StackParts};
+use ripplectl::supervisor::State;
 use ripplectl::{
-    AdcChannel, Command, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig,
+    unwrap_config, AdcChannel, Command, FrequencyGuard, Gate, Instant, Law, TimerClock, Window,
+    WindowConfig,
 };
 
 /// File magic: "RPLV".
@@ -36,21 +44,70 @@ pub mod op {
     pub const EST_AT: u32 = 4;
     /// Current estimator, `on_output_code(a as u16, b)`.
     pub const EST_OUT: u32 = 5;
-    /// Supervisor stack, `on_sample(a as u16, b)`.
-    pub const SUP_SAMPLE: u32 = 6;
-    /// Supervisor stack, `on_timer(b)`.
-    pub const SUP_TIMER: u32 = 7;
-    /// Supervisor stack, `housekeeping(a as u16, b)` (slow path).
-    pub const SUP_HOUSEKEEPING: u32 = 8;
-    /// Configuration results (thresholds, window ticks).
+    /// Hysteretic stack, `on_conversion(a as u16, (a >> 16) as u16, b)`.
+    pub const STACK_CONVERSION: u32 = 6;
+    /// Hysteretic stack, `on_timer(b)`.
+    pub const STACK_TIMER: u32 = 7;
+    /// Hysteretic stack, `housekeeping(b)` (slow path).
+    pub const STACK_HOUSEKEEPING: u32 = 8;
+    /// Configuration at run time on the core (thresholds, window ticks).
     pub const CONFIG: u32 = 9;
     /// On-time law + guard, `on_sample(a as u16, b)`.
     pub const COT_SAMPLE: u32 = 10;
     /// On-time law + guard, `on_timer(b)`.
     pub const COT_TIMER: u32 = 11;
-    /// Number of operations.
-    pub const COUNT: u32 = 12;
+    /// On-time stack (feed-forward, trim, DC correction, observer),
+    /// `on_conversion(a as u16, (a >> 16) as u16, b)`.
+    pub const COT_STACK_CONVERSION: u32 = 12;
+    /// On-time stack, `on_timer(b)`.
+    pub const COT_STACK_TIMER: u32 = 13;
+    /// On-time stack, `housekeeping(b)` (the whole slow path).
+    pub const COT_STACK_HOUSEKEEPING: u32 = 14;
+    /// Number of operations the random part of a vector file draws from.
+    pub const COUNT: u32 = 15;
 }
+
+/// The demo board (the simulator's default scenario), as a firmware holds
+/// it: evaluated by the compiler.
+pub const CONFIG: StackConfig = StackConfig::demo();
+
+/// The demo stack's parts.
+pub const PARTS: StackParts = unwrap_config(StackParts::new(&CONFIG));
+
+/// The on-time stack's parts: the demo with DC correction.
+pub const COT_PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
+    slow: SlowPathConfig { dc_correction: true, ..CONFIG.slow },
+    ..CONFIG
+}));
+
+/// The demo's hysteretic law: 40 mV band around 5 V.
+pub const HYSTERETIC: Hysteretic = unwrap_config(Hysteretic::new(
+    &HystereticConfig { setpoint_v: CONFIG.setpoint_v, band_v: 0.04 },
+    &CONFIG.output_adc,
+));
+
+/// The demo's plain on-time law: 2.08 µs (about 100 kHz at 24 V).
+pub const PLAIN_ON_TIME: OnTime = unwrap_config(OnTime::new(
+    &OnTimeConfig { setpoint_v: CONFIG.setpoint_v, on_time_s: 2.08e-6 },
+    &CONFIG.output_adc,
+    &CONFIG.clock,
+));
+
+/// The demo's on-time law with feed-forward to 100 kHz and its trim.
+pub const ON_TIME: OnTime = PLAIN_ON_TIME
+    .with_feed_forward(unwrap_config(OnTimeFeedForward::new(
+        CONFIG.setpoint_v,
+        100e3,
+        &CONFIG.clock,
+    )))
+    .with_trim(unwrap_config(FrequencyTrim::new(100e3, 0.05, 0.5, 1.5, &CONFIG.clock)));
+
+/// The demo's estimator model.
+pub const MODEL: InductorModel = InductorModel::demo();
+
+/// Input code of 24 V on the demo's input channel (100 k over 9.1 k into
+/// 12 bits at 3.3 V: 24·0.0826/(3.3/4096) = 2460.6).
+pub const VIN_24V: u16 = 2461;
 
 /// The demo's firmware objects.
 pub struct Rig {
@@ -62,19 +119,11 @@ pub struct Rig {
     pub on_time: FrequencyGuard<OnTime>,
     /// A free-standing current estimator.
     pub estimator: CurrentEstimator,
-    /// Supervisor around law and guard.
-    pub stack: Supervisor<FrequencyGuard<Hysteretic>>,
-    /// Output channel.
-    pub vout: AdcChannel,
-    /// Input channel.
-    pub vin: AdcChannel,
+    /// The demo stack around the hysteretic law.
+    pub stack: Stack<Hysteretic>,
+    /// The on-time stack, every slow-path feature on.
+    pub cot: Stack<OnTime>,
 }
-
-/// The demo's estimator model.
-pub const MODEL: InductorModel = InductorModel::demo();
-
-/// The demo's protection settings.
-pub const PROTECTION: ProtectionConfig = ProtectionConfig::demo();
 
 fn command_words(c: Command, extra: u32) -> [u32; WORDS_OUT] {
     let wake = c.wake.map_or(0, |w| w.0);
@@ -91,42 +140,86 @@ fn state_code(s: State) -> u32 {
     }
 }
 
+/// A fast-path call of a stack: its command (none: gate bit 3 set) and
+/// state.
+fn stack_words<L: Law + Regulate>(s: &Stack<L>, c: Option<Command>) -> [u32; WORDS_OUT] {
+    let state = state_code(s.supervisor().state());
+    match c {
+        Some(c) => command_words(c, state),
+        None => [8, 0, state, 0],
+    }
+}
+
+/// A housekeeping tick of a stack: state, reference, the on-time (0 for
+/// a law without one), and a hash of the slow path's figures.
+fn housekeeping_words<L: Law + Regulate>(
+    s: &mut Stack<L>,
+    now: Instant,
+    on_ticks: fn(&L) -> u32,
+) -> [u32; WORDS_OUT] {
+    let stop = s.housekeeping(now);
+    let t = s.telemetry();
+    let figures = [
+        t.vin.to_bits() as u32,
+        t.vout.to_bits() as u32,
+        t.losses.output.to_bits() as u32,
+        t.losses.losses().to_bits() as u32,
+        t.observer_current.map_or(0x8000_0000, |i| i.to_bits() as u32),
+        s.supervisor().estimator().current().to_bits() as u32,
+        t.efficiency,
+        t.faults as u32,
+    ];
+    let hash = figures.iter().fold(0x811c_9dc5u32, |h, w| (h ^ w).wrapping_mul(0x0100_0193));
+    [
+        state_code(t.state) | (u32::from(stop.is_some()) << 8),
+        u32::from(s.supervisor().inner().reference_code()),
+        on_ticks(s.law()),
+        hash,
+    ]
+}
+
 impl Rig {
-    /// Build the demo objects. The configurations are valid, so the
-    /// conversions cannot fail; `None` would mean a core disagrees.
-    pub fn demo() -> Option<Self> {
-        let clock = TimerClock::new(64_000_000).ok()?;
-        let vout = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.0).ok()?;
-        let vin = AdcChannel::new(12, 3.3, 0.0826, 0.0).ok()?;
-        let window = Window::new(&WindowConfig::demo(), &clock).ok()?;
-        let law =
-            Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).ok()?;
-        let mut estimator = CurrentEstimator::new(&MODEL, &clock, 40.0).ok()?;
-        estimator.set_voltages(24.0, 5.0);
-        estimator.follow_output(&vout);
-        let mut sup_estimator = CurrentEstimator::new(&MODEL, &clock, 40.0).ok()?;
-        sup_estimator.follow_output(&vout);
-        let limits = Limits::new(&PROTECTION, &vout, &vin, &clock, law.reference_code()).ok()?;
-        Some(Self {
-            guard: FrequencyGuard::new(law, window),
+    /// Build the demo objects from the `const` configuration.
+    pub fn demo() -> Self {
+        let window = PARTS.window;
+        Self {
+            guard: FrequencyGuard::new(HYSTERETIC, window),
             edge: FrequencyGuard::new(ComparatorPassThrough::new(true), window),
-            on_time: FrequencyGuard::new(
-                OnTime::new(&OnTimeConfig { setpoint_v: 5.0, on_time_s: 2.08e-6 }, &vout, &clock)
-                    .ok()?,
-                window,
-            ),
-            estimator,
-            stack: Supervisor::new(FrequencyGuard::new(law, window), sup_estimator, limits),
-            vout,
-            vin,
-        })
+            on_time: FrequencyGuard::new(PLAIN_ON_TIME, window),
+            estimator: {
+                let mut est = PARTS.estimator;
+                est.set_voltage_codes(VIN_24V, 1984);
+                est
+            },
+            stack: Stack::new(HYSTERETIC, PARTS),
+            cot: Stack::new(ON_TIME, COT_PARTS),
+        }
+    }
+
+    /// Configuration run on the core at run time (soft float on the
+    /// Cortex-M0): the hysteretic thresholds and the window's ticks.
+    /// `None` would mean a core disagrees with the compiler.
+    pub fn runtime_configuration() -> Option<[u32; WORDS_OUT]> {
+        let clock = TimerClock::new(black_box(64_000_000)).ok()?;
+        let vout = AdcChannel::new(12, black_box(3.3), 4.7 / 14.7, 0.0).ok()?;
+        let h =
+            Hysteretic::new(&HystereticConfig { setpoint_v: black_box(5.0), band_v: 0.04 }, &vout)
+                .ok()?;
+        let w = Window::new(&black_box(WindowConfig::demo()), &clock).ok()?;
+        Some([
+            u32::from(h.lower_code()) | (u32::from(h.upper_code()) << 16),
+            w.min_on | (w.min_off << 16),
+            w.max_on,
+            w.min_period | (w.max_period << 16),
+        ])
     }
 
     /// Perform one call; its outputs.
     pub fn step(&mut self, operation: u32, a: u32, b: u32) -> [u32; WORDS_OUT] {
         let now = Instant(b);
+        let (out, input) = (a as u16, (a >> 16) as u16);
         match operation {
-            op::HYST_SAMPLE => command_words(self.guard.on_sample(a as u16, now), 0),
+            op::HYST_SAMPLE => command_words(self.guard.on_sample(out, now), 0),
             op::HYST_TIMER => command_words(self.guard.on_timer(now), 0),
             op::EDGE => command_words(self.edge.on_edge(a & 1 != 0, now), 0),
             op::EST_GATE => {
@@ -143,36 +236,32 @@ impl Rig {
             }
             op::EST_AT => [self.estimator.current_at(now).to_bits() as u32, 0, 0, 0],
             op::EST_OUT => {
-                self.estimator.on_output_code(a as u16, now);
+                self.estimator.on_output_code(out, now);
                 [self.estimator.current().to_bits() as u32, 0, 0, 0]
             }
-            op::SUP_SAMPLE => {
-                command_words(self.stack.on_sample(a as u16, now), state_code(self.stack.state()))
+            op::STACK_CONVERSION => {
+                let c = self.stack.on_conversion(out, input, now);
+                stack_words(&self.stack, c)
             }
-            op::SUP_TIMER => {
-                command_words(self.stack.on_timer(now), state_code(self.stack.state()))
+            op::STACK_TIMER => {
+                let c = self.stack.on_timer(now);
+                stack_words(&self.stack, Some(c))
             }
-            op::SUP_HOUSEKEEPING => {
-                let (vin, vout) = (self.vin, self.vout);
-                self.stack.housekeeping(a as u16, &vin, &vout, now);
-                let reference = ripplectl::law::Regulate::reference_code(self.stack.inner());
-                [
-                    state_code(self.stack.state()),
-                    u32::from(reference),
-                    self.stack.faults().count() as u32,
-                    0,
-                ]
+            op::STACK_HOUSEKEEPING => housekeeping_words(&mut self.stack, now, |_| 0),
+            op::COT_SAMPLE => command_words(self.on_time.on_sample(out, now), 0),
+            op::COT_TIMER => command_words(self.on_time.on_timer(now), 0),
+            op::COT_STACK_CONVERSION => {
+                let c = self.cot.on_conversion(out, input, now);
+                stack_words(&self.cot, c)
             }
-            _ => {
-                let h = self.guard.inner();
-                let w = self.guard.window();
-                [
-                    u32::from(h.lower_code()) | (u32::from(h.upper_code()) << 16),
-                    w.min_on | (w.min_off << 16),
-                    w.max_on,
-                    w.min_period | (w.max_period << 16),
-                ]
+            op::COT_STACK_TIMER => {
+                let c = self.cot.on_timer(now);
+                stack_words(&self.cot, Some(c))
             }
+            op::COT_STACK_HOUSEKEEPING => {
+                housekeeping_words(&mut self.cot, now, |l: &OnTime| l.on_ticks())
+            }
+            _ => Self::runtime_configuration().unwrap_or([u32::MAX; WORDS_OUT]),
         }
     }
 }
@@ -192,7 +281,7 @@ pub fn replay(bytes: &[u8]) -> Option<(u32, u32)> {
         return None;
     }
     let count = word(bytes, 1);
-    let mut rig = Rig::demo()?;
+    let mut rig = Rig::demo();
     let mut mismatches = 0;
     for k in 0..count as usize {
         let base = 2 + k * (WORDS_IN + WORDS_OUT);

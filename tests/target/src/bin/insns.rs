@@ -26,7 +26,9 @@ use cortex_m_rt::entry;
 use cortex_m_semihosting::{debug, hprintln};
 use panic_semihosting as _;
 use ripplectl::estimate::{Amps, CurrentEstimator};
+use ripplectl::law::Regulate;
 use ripplectl::reference::{GuardModel, HystereticModel};
+use ripplectl::stack::Stack;
 use ripplectl::{Command, Gate, Instant, Law};
 use ripplectl_target::Rig;
 
@@ -130,6 +132,12 @@ fn estimator_gate(est: &mut CurrentEstimator, on: u32, now: Instant) -> Command 
 fn estimator_reading(est: &mut CurrentEstimator, code: u32, now: Instant) -> Command {
     est.on_output_code(code as u16, now);
     Command::hold(Gate::Off)
+}
+
+/// A housekeeping tick of a stack (the slow path).
+#[inline(never)]
+fn housekeeping<L: Law + Regulate>(stack: &mut Stack<L>, _: u32, now: Instant) -> Command {
+    stack.housekeeping(now).unwrap_or(Command::hold(Gate::Off))
 }
 
 /// Bit 16 of a packed estimator event: the gate switched at this reading;
@@ -286,7 +294,7 @@ fn main() -> ! {
     p.SYST.enable_counter();
 
     let meter = Meter { per_tick: calibrate() };
-    let mut rig = Rig::demo().unwrap();
+    let mut rig = Rig::demo();
     let at = |i: u32, step: u32, base: u32| Instant(base.wrapping_add(i.wrapping_mul(step)));
     let mut base = 0u32;
     let mut next_base = |calls_span: u32| {
@@ -311,7 +319,7 @@ fn main() -> ! {
     // The estimator's edges, each from the state it meets in a cycle of
     // 560 ticks (8.75 µs) at 1 A: the turn-off ends an on-time; the
     // turn-on ends an off-time and completes the cycle (its window sums).
-    let mut est: CurrentEstimator = rig.estimator.clone();
+    let mut est: CurrentEstimator = rig.estimator;
     let b = next_base(560);
     est.restart_at(Instant(b));
     est.shift(Amps::from_num(1));
@@ -327,37 +335,66 @@ fn main() -> ! {
     let ripple = |i: u32| (u32::from(code(i)), at(i, 64, b));
     meter.report("estimator_sample", &mut est, ripple, estimator_reading);
 
+    // The slow path: one housekeeping tick of the on-time stack (feed-
+    // forward, trim, DC correction, observer, losses), from the state it
+    // meets regulating: the stack first runs its own closed loop around the
+    // buck model with a housekeeping tick every 100 samples, then 99 more
+    // samples fill the window the counted tick closes.
+    let b = next_base(64 * CALLS);
+    let mut k = 0u32;
+    regulating_codes(&mut codes, b, |c, t| {
+        if k.is_multiple_of(100) {
+            rig.cot.housekeeping(t);
+        }
+        k += 1;
+        let _ = rig.cot.on_conversion(c, 2900, t);
+        rig.cot.supervisor().gate().is_on()
+    });
+    let b = next_base(64 * CALLS);
+    let last = Instant(b);
+    let n = meter.count_from(&rig.cot, 0, last, housekeeping);
+    print("housekeeping", n);
+
     // The supervisor, brought into regulation first.
-    let (vin, vout) = (rig.vin, rig.vout);
     let b = next_base(0);
-    rig.stack.on_sample(1984, Instant(b));
-    rig.stack.housekeeping(2900, &vin, &vout, Instant(b));
+    rig.stack.on_conversion(1984, 2900, Instant(b));
+    rig.stack.housekeeping(Instant(b));
     let b = next_base(70_000);
-    rig.stack.housekeeping(2900, &vin, &vout, Instant(b));
+    rig.stack.on_conversion(1984, 2900, Instant(b));
+    rig.stack.housekeeping(Instant(b));
+    let sup = rig.stack.supervisor_mut();
 
     // Regulating: the stack's own closed loop around the buck model (see
     // `regulating_codes`), peak current below the limit. The estimator's
     // events are kept for its share below: each reading, packed with
     // whether (and how) the gate switched at it.
     let b = next_base(64 * CALLS);
-    let mut copy = rig.stack.clone();
-    let mut events = [0u32; CALLS as usize];
+    let mut copy = sup.clone();
+    // Two bits a call (switched, to on), beside the codes: the Cortex-M0
+    // board has 16 KiB of RAM.
+    let mut edges = [0u32; CALLS as usize / 16];
     let mut k = 0;
     regulating_codes(&mut codes, b, |c, t| {
         let was_on = copy.gate().is_on();
         let on = sample(&mut copy, c.into(), t).gate.is_on();
-        let switched = if on != was_on { SWITCHED } else { 0 };
-        events[k] = u32::from(c) | switched | if on { SWITCHED_ON } else { 0 };
+        let bits = u32::from(on != was_on) | (u32::from(on) << 1);
+        if let Some(word) = edges.get_mut(k / 16) {
+            *word |= bits << (2 * (k % 16));
+        }
         k += 1;
         on
     });
-    let (mut est_alone, mut law_alone) = (rig.stack.estimator().clone(), rig.stack.inner().clone());
-    let whole = meter.report("supervisor_stack", &mut rig.stack, stream(&codes, b), sample);
+    let (mut est_alone, mut law_alone) = (*sup.estimator(), sup.inner().clone());
+    let whole = meter.report("supervisor_stack", sup, stream(&codes, b), sample);
     // Its own share: the stack less what it hands on, each on the same
     // stream: the law and guard, and the estimator (budgeted on its own,
     // per event) given the same readings and gate edges.
     let law = meter.count(&mut law_alone, stream(&codes, b), sample);
-    let estimator_input = |i: u32| (events.get(i as usize).copied().unwrap_or(0), at(i, 64, b));
+    let estimator_input = |i: u32| {
+        let bits = edges.get(i as usize / 16).map_or(0, |w| w >> (2 * (i % 16)));
+        let code = codes.get(i as usize).copied().map_or(0, u32::from);
+        (code | (bits & 3) << 16, at(i, 64, b))
+    };
     let estimator = meter.count(&mut est_alone, estimator_input, estimator_events);
     let own = whole.saturating_sub(law + estimator);
     print("supervisor", own);
@@ -367,7 +404,7 @@ fn main() -> ! {
     // law asked what follows): the event path, reported beside the budget.
     let b = next_base(64 * CALLS);
     let sweep = |i: u32| (u32::from(code(i)), at(i, 64, b));
-    meter.report("supervisor_stack_limited", &mut rig.stack, sweep, sample);
+    meter.report("supervisor_stack_limited", rig.stack.supervisor_mut(), sweep, sample);
 
     // The f64 oracles (soft float on both cores' f64) for comparison, on
     // the same raw inputs: a ripple sweeping the band, and a demand toggling

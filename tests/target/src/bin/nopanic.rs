@@ -1,7 +1,9 @@
-//! Target side: the fast-path entry points linked with `panic-never`, whose
-//! panic handler does not link: if any panic is reachable from them (an
-//! index, an unwrap, an overflow check, a division by a possible zero), the
-//! build fails. Inputs come through volatile reads so nothing folds away.
+//! Target side: every run-time entry point (the fast path, the slow path's
+//! housekeeping, telemetry, the handlers of a whole firmware) linked with
+//! `panic-never`, whose panic handler does not link: if any panic is
+//! reachable from them (an index, an unwrap, an overflow check, a division
+//! by a possible zero), the build fails. Inputs come through volatile reads
+//! so nothing folds away.
 #![no_std]
 #![no_main]
 
@@ -10,8 +12,9 @@ use cortex_m_rt::entry;
 use embedded_hal::digital::{ErrorType, OutputPin};
 use panic_never as _;
 use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
+use ripplectl::stack::{Handlers, Stack};
 use ripplectl::{Gate, Instant, Law};
-use ripplectl_target::Rig;
+use ripplectl_target::{Rig, COT_PARTS, ON_TIME};
 
 /// A pin whose writes are volatile stores.
 struct Pin;
@@ -58,12 +61,11 @@ fn output(x: u32) {
 
 #[entry]
 fn main() -> ! {
-    let Some(mut rig) = Rig::demo() else {
-        loop {
-            cortex_m::asm::wfi();
-        }
-    };
-    let Ok(mut driver) = GateDriver::new(Pin, Compare, Polarity::ActiveLow, PulseEnd::Hardware);
+    let mut rig = Rig::demo();
+    let Ok(driver) = GateDriver::new(Pin, Compare, Polarity::ActiveLow, PulseEnd::Hardware);
+    // The whole firmware, as the example wires it: every handler, the slow
+    // path included.
+    let mut firmware = Handlers::new(Stack::new(ON_TIME, COT_PARTS), driver);
     loop {
         let (code, now, level) = (input(0) as u16, Instant(input(1)), input(2) & 1 != 0);
         let gate = if level { Gate::On } else { Gate::Off };
@@ -82,14 +84,24 @@ fn main() -> ! {
                 .ticks_to_reach(ripplectl::estimate::Amps::from_bits(input(3) as i32))
                 .unwrap_or(0),
         );
-        output(u32::from(rig.stack.on_sample(code, now).gate.is_on()));
+        output(
+            rig.stack
+                .on_conversion(code, input(3) as u16, now)
+                .map_or(0, |c| u32::from(c.gate.is_on())),
+        );
         output(u32::from(rig.stack.on_edge(level, now).gate.is_on()));
         output(u32::from(rig.stack.on_timer(now).gate.is_on()));
-        output(rig.stack.on_output_reading(code, now).map_or(0, |c| u32::from(c.gate.is_on())));
-        rig.stack.on_input_reading(code, now);
+        output(rig.stack.housekeeping(now).map_or(0, |c| u32::from(c.gate.is_on())));
+        output(rig.stack.telemetry().efficiency);
         rig.estimator.on_input_code(code, now);
-        driver.compare_fired();
-        let Ok(()) = driver.apply(rig.on_time.on_timer(now));
-        let Ok(()) = driver.shut_down();
+        let Ok(()) = firmware.conversion_done(code, input(3) as u16, now);
+        let Ok(()) = firmware.comparator_edge(level, now);
+        let Ok(()) = firmware.compare_fired(now);
+        let Ok(()) = firmware.housekeeping(now, Some(level));
+        output(u32::from(firmware.comparator_code().unwrap_or(0)));
+        if input(2) & 2 != 0 {
+            firmware.stack_mut().clear_faults(now);
+            let Ok(()) = firmware.shut_down();
+        }
     }
 }
