@@ -13,11 +13,14 @@
 //! comparator crossing, a DCM zero-crossing or a saturation-band edge stops
 //! it inside an interval.
 
-use super::firmware::{input_channel, output_channel, ComparatorSource, Firmware};
+use super::firmware::{ComparatorSource, Firmware};
+use super::hardware::{sensed_input_channel, sensed_output_channel, true_clock_hz};
 use super::plant::{Conduction, EnergyLedger, Plant, Stage, Stop, Watch};
 use super::profile::Profile;
 use super::record::{Observation, Recorder};
+use super::run_control::{RunControl, CHECK_EVERY};
 use super::scenario::Scenario;
+use super::transient::TransientTracker;
 use crate::guard::ClampCounts;
 use crate::law::{Command, Law};
 use crate::scale::AdcChannel;
@@ -84,7 +87,9 @@ struct Schedule {
     timer: Option<u64>,
     edge: Option<(u64, bool)>,
     dead_time_end: Option<u64>,
-    breaks: Vec<u64>,
+    /// Profile breakpoints: tick, and the exact time (the tick may round
+    /// to just before it).
+    breaks: Vec<(u64, f64)>,
     next_break: usize,
     window_edges: Vec<(u64, usize, bool)>,
     next_window_edge: usize,
@@ -103,7 +108,7 @@ impl Schedule {
         consider(self.timer);
         consider(self.edge.map(|e| e.0));
         consider(self.dead_time_end);
-        consider(self.breaks.get(self.next_break).copied());
+        consider(self.breaks.get(self.next_break).map(|b| b.0));
         consider(self.window_edges.get(self.next_window_edge).map(|w| w.0));
         next
     }
@@ -146,12 +151,15 @@ struct Engine {
 pub enum RunError {
     /// The firmware refused its configuration.
     Config(ConfigError),
+    /// The caller cancelled the run.
+    Cancelled,
 }
 
 impl std::fmt::Display for RunError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
             Self::Config(e) => write!(f, "firmware configuration refused: {e}"),
+            Self::Cancelled => f.write_str("interrupted"),
         }
     }
 }
@@ -166,10 +174,21 @@ impl From<ConfigError> for RunError {
 
 /// Run a scenario to its end.
 pub fn run(scenario: &Scenario) -> Result<RunOutput, RunError> {
+    run_with(scenario, &RunControl::default())
+}
+
+/// Run a scenario to its end, reporting progress to `control` and stopping
+/// with [`RunError::Cancelled`] when it asks.
+pub fn run_with(scenario: &Scenario, control: &RunControl) -> Result<RunOutput, RunError> {
     let mut engine = Engine::new(scenario)?;
     let stored_start = engine.plant.stored_j();
     engine.start_up();
+    let mut events = 0u32;
     while engine.tick < engine.schedule.end {
+        events = events.wrapping_add(1);
+        if events % CHECK_EVERY == 0 && control.check(engine.tick as f64 * engine.tick_s) {
+            return Err(RunError::Cancelled);
+        }
         let target = engine.schedule.next_event();
         engine.tick = if engine.comparator.source == ComparatorSource::None {
             target
@@ -202,13 +221,23 @@ fn ticks(seconds: f64, hz: f64) -> u64 {
 impl Engine {
     fn new(sc: &Scenario) -> Result<Self, RunError> {
         let hz = f64::from(sc.mcu.clock_hz);
+        let hz_true = true_clock_hz(&sc.mcu);
         let (firmware, source) = Firmware::build(sc)?;
         let profile = sc.profile();
-        let recorder = Recorder::new(sc.duration_s, &profile.disturbances(), SLICES);
-        let window_edges =
-            recorder.window_edges().into_iter().map(|(t, k, s)| (ticks(t, hz), k, s)).collect();
-        let mut breaks: Vec<u64> = profile.breakpoints().iter().map(|&t| ticks(t, hz)).collect();
-        breaks.dedup();
+        let recorder = Recorder::new(sc.duration_s, &profile.disturbances(), SLICES)
+            .with_transients(TransientTracker::for_scenario(sc));
+        let window_edges = recorder
+            .window_edges()
+            .into_iter()
+            .map(|(t, k, s)| (ticks(t, hz_true), k, s))
+            .collect();
+        let mut breaks: Vec<(u64, f64)> =
+            profile.breakpoints().iter().map(|&t| (ticks(t, hz_true), t)).collect();
+        breaks.dedup_by(|later, kept| {
+            let same = later.0 == kept.0;
+            kept.1 = if same { later.1 } else { kept.1 };
+            same
+        });
         let dead_ticks = match sc.plant.stage {
             Stage::Synchronous { dead_time_s, .. } => ticks(dead_time_s, hz),
             Stage::NonSynchronous => 0,
@@ -228,13 +257,13 @@ impl Engine {
             firmware,
             comparator: Comparator { source, level: false, threshold_v: 0.0 },
             profile,
-            adc: output_channel(&sc.mcu)?,
-            vin_adc: input_channel(&sc.mcu)?,
+            adc: sensed_output_channel(&sc.mcu)?,
+            vin_adc: sensed_input_channel(&sc.mcu)?,
             housekeeping_period: ticks(1.0 / sc.firmware.housekeeping_hz, hz).max(1),
-            feedback_open_tick: sc.mcu.feedback_open_at_s.map(|t| ticks(t, hz)),
+            feedback_open_tick: sc.mcu.feedback_open_at_s.map(|t| ticks(t, hz_true)),
             rng: Xoshiro256PlusPlus::seed_from_u64(sc.mcu.seed),
             noise,
-            tick_s: 1.0 / hz,
+            tick_s: 1.0 / hz_true,
             start: sc.mcu.start_tick,
             tick: 0,
             plant_tick: 0,
@@ -258,7 +287,7 @@ impl Engine {
                 next_break: 0,
                 window_edges,
                 next_window_edge: 0,
-                end: ticks(sc.duration_s, hz),
+                end: ticks(sc.duration_s, hz_true),
             },
             recorder,
         })
@@ -370,10 +399,19 @@ impl Engine {
     /// Handle every event due at the current tick.
     fn dispatch(&mut self) {
         let tick = self.tick;
-        while self.schedule.breaks.get(self.schedule.next_break).is_some_and(|&b| b <= tick) {
+        while let Some(&(b, at_s)) = self.schedule.breaks.get(self.schedule.next_break) {
+            if b > tick {
+                break;
+            }
             self.catch_up();
             self.schedule.next_break += 1;
-            self.plant.set_environment(self.profile.environment_at(self.t_s()));
+            // At the breakpoint's own time when the tick rounded to before
+            // it: the change must not be lost.
+            self.plant.set_environment(self.profile.environment_at(self.t_s().max(at_s)));
+            // A step moves the output at once (through the ESR): see it,
+            // and let a comparator see it too (no crossing to find there).
+            self.observe();
+            self.sync_comparator();
         }
         while let Some(&(t, k, is_start)) =
             self.schedule.window_edges.get(self.schedule.next_window_edge)

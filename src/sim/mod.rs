@@ -9,16 +9,22 @@
 //! | [`scenario`] | one run's description, from TOML |
 //! | [`firmware`] | the firmware objects a scenario configures |
 //! | [`engine`] | the event loop: plant, peripherals, interrupts |
+//! | [`hardware`] | the simulated peripherals' errors against the firmware's configuration |
+//! | [`run_control`] | progress and cancellation of a run |
 //! | [`record`] | cycles, envelope and steady windows collected during a run |
 //! | [`metrics`] | the summary of a run |
+//! | [`accounting`] | the true efficiency over the windows in regulation |
 //! | [`netlist`] | SPICE netlists of the stage for external cross-checks |
 //! | [`open_loop`] | fixed-duty runs of the power stage alone |
 //! | [`report`] | terminal table, CSV |
 //! | [`plot`] | SVG plots |
 //! | [`sweep`] | input × load grids in parallel |
+//! | [`transient`] | undershoot, overshoot and recovery at each disturbance |
 
+pub mod accounting;
 pub mod engine;
 pub mod firmware;
+pub mod hardware;
 pub mod linear;
 pub mod metrics;
 pub mod netlist;
@@ -28,9 +34,12 @@ pub mod plot;
 pub mod profile;
 pub mod record;
 pub mod report;
+pub mod run_control;
 pub mod scenario;
 pub mod sweep;
+pub mod transient;
 
-pub use engine::{run, RunError, RunOutput};
+pub use engine::{run, run_with, RunError, RunOutput};
 pub use metrics::Summary;
+pub use run_control::RunControl;
 pub use scenario::{Scenario, ScenarioError};

@@ -88,6 +88,9 @@ pub fn table(s: &Summary, window: &WindowConfig) -> String {
             percent(s.efficiency_estimated)
         ),
     );
+    if let Some(note) = &s.efficiency_note {
+        row("", note.clone());
+    }
     let l = &s.losses_w;
     row(
         "losses",
@@ -127,6 +130,9 @@ pub fn table(s: &Summary, window: &WindowConfig) -> String {
             .collect::<Vec<_>>()
             .join(", ")
     };
+    for (k, t) in s.transients.iter().enumerate() {
+        row(if k == 0 { "transients" } else { "" }, t.line());
+    }
     row("faults", faults);
     row(
         "run",
