@@ -101,3 +101,89 @@ fn noise_beyond_the_adc_range_is_refused() {
     assert!(err.contains("mcu.noise_lsb_rms"), "{err}");
     assert!(err.contains(&format!("line {}", line_of("noise_lsb_rms"))), "{err}");
 }
+
+#[test]
+fn sweep_says_why_a_point_did_not_switch() {
+    let out = ripplectl(&["sweep", "--vin", "10,24,40", "--load", "1", "--duration", "0.002"]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8(out.stdout).unwrap();
+    assert!(!text.contains("NaN"), "{text}");
+    let line = |vin: &str| text.lines().find(|l| l.trim_start().starts_with(vin)).unwrap();
+    assert!(line("10.0").contains("below UVLO (16 V)"), "{text}");
+    assert!(line("40.0").contains("above the input limit (36 V)"), "{text}");
+    assert!(!line("24.0").contains("not switching"), "{text}");
+    let json = ripplectl(&["sweep", "--vin", "10", "--load", "1", "--duration", "0.002", "--json"]);
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    assert!(v[0]["not_switching"].as_str().unwrap().contains("UVLO"), "{v}");
+}
+
+/// Run `ripplectl args` under `sh` with the given umask.
+#[cfg(unix)]
+fn with_umask(umask: &str, args: &str) -> Output {
+    let line = format!("umask {umask}; exec '{}' {args}", env!("CARGO_BIN_EXE_ripplectl"));
+    Command::new("sh").args(["-c", &line]).output().unwrap()
+}
+
+#[cfg(unix)]
+#[test]
+fn written_files_follow_the_umask() {
+    use std::os::unix::fs::PermissionsExt;
+    for (umask, mode) in [("022", 0o644), ("002", 0o664)] {
+        let dir = tempfile::tempdir().unwrap();
+        let out_dir = dir.path().join("run");
+        let out = with_umask(umask, &format!("simulate --out '{}'", out_dir.display()));
+        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        for entry in std::fs::read_dir(&out_dir).unwrap() {
+            let entry = entry.unwrap();
+            let got = entry.metadata().unwrap().permissions().mode() & 0o777;
+            // open(2) gives a new file 0666 less the umask (POSIX open()).
+            assert_eq!(got, mode, "{:?} under umask {umask}: {got:o}", entry.file_name());
+        }
+    }
+}
+
+/// The default scenario lasting 10⁹ s.
+fn endless_scenario(dir: &Path) -> std::path::PathBuf {
+    let file = dir.join("long.toml");
+    let text = default_toml().replace("duration_s = 0.010", "duration_s = 1e9");
+    std::fs::write(&file, text).unwrap();
+    file
+}
+
+#[cfg(unix)]
+#[test]
+fn a_long_run_shows_progress_and_ctrl_c_leaves_nothing_behind() {
+    use std::io::{BufRead, BufReader};
+    use std::process::Stdio;
+    let dir = tempfile::tempdir().unwrap();
+    let scenario = endless_scenario(dir.path());
+    let out_dir = dir.path().join("out");
+    let mut child = Command::new(env!("CARGO_BIN_EXE_ripplectl"))
+        .args(["simulate", "--scenario", scenario.to_str().unwrap(), "--out"])
+        .arg(&out_dir)
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    // Progress comes after about a second, with the time left; read on a
+    // thread so that a run that never reports fails here instead of hanging.
+    let stderr = child.stderr.take().unwrap();
+    let (tx, rx) = std::sync::mpsc::channel();
+    let reader = std::thread::spawn(move || {
+        let mut lines = BufReader::new(stderr).lines();
+        let first = lines.next().and_then(Result::ok).unwrap_or_default();
+        let _ = tx.send(first);
+        lines.map_while(Result::ok).collect::<Vec<_>>().join("\n")
+    });
+    let first = rx.recv_timeout(std::time::Duration::from_secs(30));
+    let status = Command::new("kill").args(["-INT", &child.id().to_string()]).status().unwrap();
+    assert!(status.success());
+    let status = child.wait().unwrap();
+    let rest = reader.join().unwrap();
+    let first = first.expect("no progress line within 30 s");
+    assert!(first.contains("simulated") && first.contains("to go"), "{first:?}");
+    assert_eq!(status.code(), Some(130), "{rest}");
+    assert!(rest.contains("interrupted"), "{rest}");
+    let written: Vec<_> = std::fs::read_dir(&out_dir).map(|d| d.collect()).unwrap_or_default();
+    assert!(written.is_empty(), "left behind: {written:?}");
+}

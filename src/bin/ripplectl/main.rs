@@ -2,6 +2,7 @@
 //! converter before flashing it.
 
 mod failure;
+mod progress;
 mod simulate;
 mod sweep;
 
@@ -61,6 +62,7 @@ enum Command {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    progress::catch_interrupt();
     let result = match &cli.command {
         Command::Simulate { scenario, out, json } => {
             simulate::simulate(scenario.as_deref(), out.as_deref(), *json)
