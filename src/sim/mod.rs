@@ -19,6 +19,7 @@
 //! | [`report`] | terminal table, CSV |
 //! | [`plot`] | SVG plots |
 //! | [`sweep`] | input × load grids in parallel |
+//! | [`tolerance`] | many runs with parts and conditions drawn within their spreads, yield |
 //! | [`transient`] | undershoot, overshoot and recovery at each disturbance |
 
 pub mod accounting;
@@ -37,6 +38,7 @@ pub mod report;
 pub mod run_control;
 pub mod scenario;
 pub mod sweep;
+pub mod tolerance;
 pub mod transient;
 
 pub use engine::{run, run_with, RunError, RunOutput};

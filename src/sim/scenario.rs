@@ -7,6 +7,7 @@
 
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, Load, LoadChange, Profile};
+use super::tolerance::ToleranceParams;
 use super::transient::TransientParams;
 use crate::estimate::InductorModel;
 use crate::guard::WindowConfig;
@@ -219,6 +220,10 @@ pub struct Scenario {
     /// The recovery band of the transient figures; omitted: the default.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub transient: Option<TransientParams>,
+    /// Spreads and pass criteria of `ripplectl tolerance`; omitted: the
+    /// defaults.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tolerance: Option<ToleranceParams>,
 }
 
 /// Largest ADC gain error a scenario may give (±50 %): beyond it the
@@ -330,6 +335,9 @@ impl Scenario {
         self.validate_profile()?;
         if let Some(band_v) = self.transient.and_then(|t| t.band_v) {
             positive("transient.band_v", band_v)?;
+        }
+        if let Some(t) = &self.tolerance {
+            t.validate()?;
         }
         self.validate_control()
     }
