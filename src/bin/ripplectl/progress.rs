@@ -72,7 +72,8 @@ impl Progress {
             return;
         }
         let Ok(mut shown) = self.shown.lock() else { return };
-        let text = format!("{:.3} % {}", 100.0 * fraction, self.what);
+        let digits = if fraction < 0.01 { 3 } else { 1 };
+        let text = format!("{:.digits$} % {}", 100.0 * fraction, self.what);
         if std::io::stderr().is_terminal() {
             self.bar.set_message(text);
             if shown.is_none() {

@@ -161,8 +161,11 @@ impl ToleranceReport {
                 }
                 unit => eng(x, unit),
             };
-            let missing =
-                if f.missing > 0 { format!("  ({} n/a)", f.missing) } else { String::new() };
+            let missing = match (f.missing, f.name) {
+                (0, _) => String::new(),
+                (n, "recovery_s") => format!("  ({n} never back in band)"),
+                (n, _) => format!("  ({n} without a value)"),
+            };
             let _ = writeln!(
                 out,
                 "  {:<20}{:>11}{:>11}{:>11}{:>11}{:>11}{missing}",
