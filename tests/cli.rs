@@ -1,19 +1,9 @@
 //! The `ripplectl` program: exit codes, error lines, the JSON contract and
 //! output files.
 
-use std::path::Path;
-use std::process::{Command, Output};
+mod common;
 
-fn ripplectl(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_ripplectl")).args(args).output().unwrap()
-}
-
-fn default_toml() -> String {
-    std::fs::read_to_string(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/scenarios/hysteretic.toml"),
-    )
-    .unwrap()
-}
+use common::program::{default_toml, ripplectl};
 
 /// Write `text` as a scenario, run `simulate` on it, return (exit code, stderr).
 fn simulate_text(text: &str) -> (i32, String) {

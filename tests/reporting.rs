@@ -1,20 +1,12 @@
 //! What a new user meets: the report's figures where the converter is not
 //! regulating, refused nonsense, file modes, progress and interruption.
 
+mod common;
+
+use common::program::{default_toml, ripplectl};
 use ripplectl::sim::{self, Scenario, Summary};
 use std::path::Path;
 use std::process::{Command, Output};
-
-fn ripplectl(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_ripplectl")).args(args).output().unwrap()
-}
-
-fn default_toml() -> String {
-    std::fs::read_to_string(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/scenarios/hysteretic.toml"),
-    )
-    .unwrap()
-}
 
 /// The default scenario with its input ramping down through UVLO (16 V)
 /// from 6 ms: the supervisor stops at about 9.1 ms, inside the last steady

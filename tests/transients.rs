@@ -3,12 +3,12 @@
 
 mod common;
 
+use common::open_window;
 use common::plants::near_ideal;
 use ripplectl::sim::profile::{InputProfile, Load, LoadChange};
 use ripplectl::sim::scenario::LawParams;
 use ripplectl::sim::transient::TransientParams;
 use ripplectl::sim::{self, Scenario, Summary};
-use ripplectl::{LightLoad, WindowConfig};
 
 const VIN: f64 = 24.0;
 const VOUT: f64 = 5.0;
@@ -30,14 +30,7 @@ fn scenario(phase_s: f64) -> Scenario {
     let mut s = Scenario::default_demo();
     s.control.law =
         LawParams::AnalogRetrofit { lower_v: VOUT - BAND / 2.0, upper_v: VOUT + BAND / 2.0 };
-    s.control.window = WindowConfig {
-        f_min_hz: 1e3,
-        f_max_hz: 2e6,
-        min_on_s: 10e-9,
-        min_off_s: 10e-9,
-        max_on_s: 500e-6,
-        light_load: LightLoad::ReportOnly,
-    };
+    s.control.window = open_window();
     s.plant = near_ideal(L, 0.1, ESR, 0.0);
     s.firmware.observer_bandwidth_hz = None;
     // The loop, not the firmware's current limit, is under test here.

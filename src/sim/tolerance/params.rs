@@ -136,44 +136,27 @@ fn scale_load(s: &mut Scenario, _: f64, k: f64) {
     }
 }
 
+/// A parameter that is one field of the scenario, set to the drawn value.
+macro_rules! field {
+    ($name:ident, positive: $positive:expr, $($path:ident).+) => {
+        Param {
+            name: stringify!($name),
+            positive: $positive,
+            spread: |t| &t.$name,
+            nominal: |s| Some(s.$($path).+),
+            set: |s, _, v| s.$($path).+ = v,
+        }
+    };
+}
+
 /// Every parameter, in the order draws are taken (fixed: a seed's draws
 /// depend on it).
 pub const PARAMS: [Param; 13] = [
-    Param {
-        name: "l_h",
-        positive: true,
-        spread: |t| &t.l_h,
-        nominal: |s| Some(s.plant.l_h),
-        set: |s, _, v| s.plant.l_h = v,
-    },
-    Param {
-        name: "c_f",
-        positive: true,
-        spread: |t| &t.c_f,
-        nominal: |s| Some(s.plant.c_f),
-        set: |s, _, v| s.plant.c_f = v,
-    },
-    Param {
-        name: "esr_ohm",
-        positive: true,
-        spread: |t| &t.esr_ohm,
-        nominal: |s| Some(s.plant.esr_ohm),
-        set: |s, _, v| s.plant.esr_ohm = v,
-    },
-    Param {
-        name: "dcr_ohm",
-        positive: true,
-        spread: |t| &t.dcr_ohm,
-        nominal: |s| Some(s.plant.dcr_ohm),
-        set: |s, _, v| s.plant.dcr_ohm = v,
-    },
-    Param {
-        name: "r_on_ohm",
-        positive: true,
-        spread: |t| &t.r_on_ohm,
-        nominal: |s| Some(s.plant.r_on_ohm),
-        set: |s, _, v| s.plant.r_on_ohm = v,
-    },
+    field!(l_h, positive: true, plant.l_h),
+    field!(c_f, positive: true, plant.c_f),
+    field!(esr_ohm, positive: true, plant.esr_ohm),
+    field!(dcr_ohm, positive: true, plant.dcr_ohm),
+    field!(r_on_ohm, positive: true, plant.r_on_ohm),
     Param {
         name: "r_on_low_ohm",
         positive: true,
@@ -181,41 +164,11 @@ pub const PARAMS: [Param; 13] = [
         nominal: r_on_low,
         set: set_r_on_low,
     },
-    Param {
-        name: "diode_vf_v",
-        positive: true,
-        spread: |t| &t.diode_vf_v,
-        nominal: |s| Some(s.plant.diode_vf_v),
-        set: |s, _, v| s.plant.diode_vf_v = v,
-    },
-    Param {
-        name: "diode_rd_ohm",
-        positive: true,
-        spread: |t| &t.diode_rd_ohm,
-        nominal: |s| Some(s.plant.diode_rd_ohm),
-        set: |s, _, v| s.plant.diode_rd_ohm = v,
-    },
-    Param {
-        name: "adc_gain_error",
-        positive: false,
-        spread: |t| &t.adc_gain_error,
-        nominal: |s| Some(s.mcu.adc_gain_error),
-        set: |s, _, v| s.mcu.adc_gain_error = v,
-    },
-    Param {
-        name: "adc_offset_error_v",
-        positive: false,
-        spread: |t| &t.adc_offset_error_v,
-        nominal: |s| Some(s.mcu.adc_offset_error_v),
-        set: |s, _, v| s.mcu.adc_offset_error_v = v,
-    },
-    Param {
-        name: "clock_error_ppm",
-        positive: false,
-        spread: |t| &t.clock_error_ppm,
-        nominal: |s| Some(s.mcu.clock_error_ppm),
-        set: |s, _, v| s.mcu.clock_error_ppm = v,
-    },
+    field!(diode_vf_v, positive: true, plant.diode_vf_v),
+    field!(diode_rd_ohm, positive: true, plant.diode_rd_ohm),
+    field!(adc_gain_error, positive: false, mcu.adc_gain_error),
+    field!(adc_offset_error_v, positive: false, mcu.adc_offset_error_v),
+    field!(clock_error_ppm, positive: false, mcu.clock_error_ppm),
     Param {
         name: "vin",
         positive: true,
