@@ -45,22 +45,27 @@ const STEPS: u64 = 1_000_000;
 pub struct Progress {
     bar: ProgressBar,
     total: f64,
-    what: String,
+    /// How much is done, in words (e.g. "30.2 s of 1.000e9 s simulated").
+    describe: Box<dyn Fn(f64) -> String + Send + Sync>,
     started: Instant,
     /// When the bar was put on the terminal, or the last plain line written.
     shown: Mutex<Option<Instant>>,
 }
 
 impl Progress {
-    /// Work of `total` units, described as `what` (e.g. "of 10 s simulated").
-    pub fn new(total: f64, what: impl Into<String>) -> Self {
+    /// Work of `total` units; `describe` says how much `done` units are.
+    pub fn new(total: f64, describe: impl Fn(f64) -> String + Send + Sync + 'static) -> Self {
         let bar = ProgressBar::with_draw_target(Some(STEPS), ProgressDrawTarget::hidden());
-        if let Ok(style) =
-            ProgressStyle::with_template("{bar:40} {msg} ({elapsed} so far, about {eta} to go)")
-        {
+        if let Ok(style) = ProgressStyle::with_template("{bar:40} {msg}") {
             bar.set_style(style);
         }
-        Self { bar, total, what: what.into(), started: Instant::now(), shown: Mutex::new(None) }
+        let describe = Box::new(describe);
+        Self { bar, total, describe, started: Instant::now(), shown: Mutex::new(None) }
+    }
+
+    /// Work counted in whole items (runs, points).
+    pub fn items(total: u64, what: &'static str) -> Self {
+        Self::new(total as f64, move |done| format!("{done} of {total} {what}"))
     }
 
     /// `done` of the total units are complete.
@@ -72,8 +77,13 @@ impl Progress {
             return;
         }
         let Ok(mut shown) = self.shown.lock() else { return };
-        let digits = if fraction < 0.01 { 3 } else { 1 };
-        let text = format!("{:.digits$} % {}", 100.0 * fraction, self.what);
+        let text = format!(
+            "{} ({:.1} %) after {}, {}",
+            (self.describe)(done),
+            100.0 * fraction,
+            HumanDuration(elapsed),
+            left(elapsed, fraction)
+        );
         if std::io::stderr().is_terminal() {
             self.bar.set_message(text);
             if shown.is_none() {
@@ -82,11 +92,7 @@ impl Progress {
             }
         } else if shown.is_none_or(|t| t.elapsed() >= LINE_EVERY) {
             *shown = Some(Instant::now());
-            eprintln!(
-                "ripplectl: {text} after {}, {}",
-                HumanDuration(elapsed),
-                left(elapsed, fraction)
-            );
+            eprintln!("ripplectl: {text}");
         }
     }
 

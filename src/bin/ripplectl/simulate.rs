@@ -9,10 +9,9 @@ use std::time::Instant;
 pub fn simulate(scenario: Option<&Path>, out: Option<&Path>, json: bool) -> Result<(), Failure> {
     let scenario = load_scenario(scenario)?;
     let started = Instant::now();
-    let bar = Progress::new(
-        scenario.duration_s,
-        format!("of {} simulated", report::eng(scenario.duration_s, "s")),
-    );
+    let total = scenario.duration_s;
+    let bar =
+        Progress::new(total, move |t| format!("{} of {} simulated", seconds(t), seconds(total)));
     let show = |t_s: f64| bar.set(t_s);
     let control = RunControl { progress: Some(&show), cancel: Some(&INTERRUPTED) };
     let output = sim::run_with(&scenario, &control).map_err(run_failure);
@@ -50,4 +49,14 @@ pub fn simulate(scenario: Option<&Path>, out: Option<&Path>, json: bool) -> Resu
         }
     }
     Ok(())
+}
+
+/// Seconds for a progress line: engineering prefixes up to an hour, then
+/// plain exponent notation (no "Ms").
+fn seconds(t: f64) -> String {
+    if t < 3600.0 {
+        report::eng(t, "s")
+    } else {
+        format!("{t:.3e} s")
+    }
 }

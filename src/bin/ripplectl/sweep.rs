@@ -89,7 +89,7 @@ pub fn sweep(
         return Err(bad_input(format!("--load {l}: must be a positive current")));
     }
     let total = vins.len() * loads.len();
-    let bar = Progress::new(total as f64, format!("of {total} points"));
+    let bar = Progress::items(total as u64, "points");
     let done = AtomicUsize::new(0);
     let tick = || bar.set((done.fetch_add(1, Ordering::Relaxed) + 1) as f64);
     let points = sim::sweep::sweep_with(&base, &vins, &loads, duration, &tick, Some(&INTERRUPTED));

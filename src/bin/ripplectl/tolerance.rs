@@ -37,7 +37,7 @@ pub fn tolerance(o: &Options) -> Result<(), Failure> {
     } else {
         (Mode::Random { runs: o.runs, seed: o.seed }, o.runs)
     };
-    let bar = Progress::new(total as f64, format!("of {total} runs"));
+    let bar = Progress::items(total, "runs");
     let show = |n: u64| bar.set(n as f64);
     let control = StudyControl { progress: Some(&show), cancel: Some(&INTERRUPTED) };
     let started = Instant::now();

@@ -53,6 +53,7 @@ pub fn svg(title: &str, unit: &str, values: &[f64], limit: Option<f64>) -> Resul
             .configure_mesh()
             .x_desc(if unit.is_empty() { title.to_string() } else { format!("{title} ({unit})") })
             .y_desc("runs")
+            .y_label_formatter(&|y| format!("{y:.0}"))
             .draw()
             .map_err(|e| e.to_string())?;
         let bars = counts.iter().enumerate().map(|(k, &c)| {
