@@ -41,7 +41,7 @@ fn period_jitter(s: &Scenario) -> f64 {
 #[test]
 fn the_ripple_check_refuses_the_plain_loop() {
     let s = without_emulated_ripple(ceramic(), false);
-    let RunError::Config(e) = sim::run(&s).unwrap_err();
+    let RunError::Config(e) = sim::run(&s).unwrap_err() else { panic!("a configuration error") };
     assert_eq!(e.key, "plant.esr_ohm", "{e}");
     assert!(e.message.contains("emulated ripple"), "{e}");
     // The polymer output (40 mΩ, 220 µF: ESR·C = 8.8 µs ≫ T_on/2) passes.

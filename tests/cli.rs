@@ -1,19 +1,9 @@
 //! The `ripplectl` program: exit codes, error lines, the JSON contract and
 //! output files.
 
-use std::path::Path;
-use std::process::{Command, Output};
+mod common;
 
-fn ripplectl(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_ripplectl")).args(args).output().unwrap()
-}
-
-fn default_toml() -> String {
-    std::fs::read_to_string(
-        Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/scenarios/hysteretic.toml"),
-    )
-    .unwrap()
-}
+use common::program::{default_toml, ripplectl};
 
 /// Write `text` as a scenario, run `simulate` on it, return (exit code, stderr).
 fn simulate_text(text: &str) -> (i32, String) {
@@ -145,4 +135,44 @@ fn sweep_json_covers_the_grid() {
 fn sweep_rejects_a_vin_below_the_setpoint() {
     let out = ripplectl(&["sweep", "--vin", "3"]);
     assert_eq!(out.status.code(), Some(2));
+}
+
+#[test]
+fn tolerance_json_has_the_yield_failures_and_figures() {
+    let out = ripplectl(&["tolerance", "--runs", "40", "--seed", "5", "--json"]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["runs"], 40);
+    let y = v["yield"].as_f64().unwrap();
+    let [lo, hi] = [0, 1].map(|k| v["yield_interval"][k].as_f64().unwrap());
+    assert!(lo <= y && y <= hi, "{y} in [{lo}, {hi}]");
+    let failures = v["failures"].as_array().unwrap();
+    assert_eq!(failures.len() as u64, 40 - v["passed"].as_u64().unwrap());
+    let figures = v["figures"].as_array().unwrap();
+    let ripple = figures.iter().find(|f| f["name"] == "ripple_pp_v").unwrap();
+    for key in ["min", "p5", "p50", "p95", "max"] {
+        assert!(ripple[key].is_f64(), "{key}: {ripple}");
+    }
+}
+
+#[test]
+fn tolerance_out_writes_histograms_and_reproducing_scenarios() {
+    let dir = tempfile::tempdir().unwrap();
+    let out_dir = dir.path().join("tol");
+    let out = ripplectl(&["tolerance", "--runs", "30", "--out", out_dir.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let names: Vec<String> = std::fs::read_dir(&out_dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    assert!(names.iter().any(|n| n == "histogram-ripple_pp_v.svg"), "{names:?}");
+    let failing: Vec<&String> = names.iter().filter(|n| n.starts_with("failing-run-")).collect();
+    let text = String::from_utf8(out.stdout).unwrap();
+    let passed: usize =
+        text.split(" of 30 pass").next().unwrap().rsplit(' ').next().unwrap().parse().unwrap();
+    assert_eq!(failing.len(), 30 - passed, "{text}");
+    // Each file is a scenario `simulate` accepts.
+    let first = out_dir.join(failing[0]);
+    let run = ripplectl(&["simulate", "--scenario", first.to_str().unwrap(), "--json"]);
+    assert!(run.status.success(), "{}", String::from_utf8_lossy(&run.stderr));
 }

@@ -2,23 +2,12 @@
 
 mod common;
 
+use common::open_window;
 use common::plants::near_ideal;
 use ripplectl::sim::profile::{InputProfile, Load, LoadChange};
 use ripplectl::sim::scenario::{HystereticInput, LawParams};
 use ripplectl::sim::{self, Scenario, Summary};
-use ripplectl::{LightLoad, WindowConfig};
-
-/// A wide window that never binds.
-fn open_window() -> WindowConfig {
-    WindowConfig {
-        f_min_hz: 1e3,
-        f_max_hz: 2e6,
-        min_on_s: 10e-9,
-        min_off_s: 10e-9,
-        max_on_s: 500e-6,
-        light_load: LightLoad::ReportOnly,
-    }
-}
+use ripplectl::WindowConfig;
 
 /// The default scenario, reshaped: constant 24 V, 2 A resistive load.
 fn steady(law: LawParams, mut tweak: impl FnMut(&mut Scenario)) -> Summary {

@@ -2,14 +2,14 @@
 //! build would write ([`StackConfig`], the law), through the same
 //! constructors, with every refusal named by its scenario key.
 
-use super::engine::{run_firmware, RunError, RunOutput};
+use super::engine::{run_firmware_with, RunError, RunOutput};
 use super::firmware::StackFirmware;
-use super::plant::Stage;
+use super::run_control::RunControl;
 use super::scenario::{HystereticInput, LawParams, McuParams, Scenario, ScenarioError};
 use crate::estimate::{LossConfig, Steinmetz};
 use crate::law::{
-    ComparatorPassThrough, EmulatedRipple, FrequencyTrim, Hysteretic, HystereticConfig, OnTime,
-    OnTimeConfig, OnTimeFeedForward,
+    ComparatorPassThrough, EmulatedRipple, FrequencyTrim, Hysteretic, HystereticConfig, Law,
+    OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
 };
 use crate::scale::{AdcChannel, TimerClock};
 use crate::stack::{Sensing, SlowPathConfig, Stack, StackConfig, StackParts};
@@ -217,20 +217,20 @@ pub fn check(sc: &Scenario) -> Result<(), ScenarioError> {
 }
 
 /// Run the scenario with the crate's stack.
-pub fn run_stack(sc: &Scenario) -> Result<RunOutput, RunError> {
+pub fn run_stack(sc: &Scenario, control: &RunControl) -> Result<RunOutput, RunError> {
     let parts = stack_parts(sc)?;
     match law(sc)? {
-        ScenarioLaw::Hysteretic(l) => {
-            run_firmware(sc, |p| StackFirmware::new(Stack::new(l, parts), p))
-        }
-        ScenarioLaw::OnTime(l) => run_firmware(sc, |p| StackFirmware::new(Stack::new(l, parts), p)),
-        ScenarioLaw::Retrofit(l) => {
-            run_firmware(sc, |p| StackFirmware::new(Stack::new(l, parts), p))
-        }
+        ScenarioLaw::Hysteretic(l) => run_law(sc, control, l, parts),
+        ScenarioLaw::OnTime(l) => run_law(sc, control, l, parts),
+        ScenarioLaw::Retrofit(l) => run_law(sc, control, l, parts),
     }
 }
 
-/// Whether the stage is synchronous.
-pub fn is_synchronous(sc: &Scenario) -> bool {
-    matches!(sc.plant.stage, Stage::Synchronous { .. })
+fn run_law<L: Law + Regulate>(
+    sc: &Scenario,
+    control: &RunControl,
+    law: L,
+    parts: StackParts,
+) -> Result<RunOutput, RunError> {
+    run_firmware_with(sc, control, |p| StackFirmware::new(Stack::new(law, parts), p))
 }

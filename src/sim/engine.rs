@@ -17,14 +17,16 @@
 //! simulated [`Peripherals`]; after each handler the engine reads the gate
 //! pin, the armed compare and the comparator's DAC.
 
-use super::build::{input_channel, output_channel};
 use super::firmware::Firmware;
+use super::hardware::{sensed_input_channel, sensed_output_channel, true_clock_hz};
 use super::mcu::{Adc, Comparator, ComparatorSource};
 use super::peripherals::Peripherals;
 use super::plant::{Conduction, EnergyLedger, Plant, Stage, Stop};
 use super::profile::Profile;
 use super::record::{Observation, Recorder};
+use super::run_control::{RunControl, CHECK_EVERY};
 use super::scenario::{Scenario, ScenarioError};
+use super::transient::TransientTracker;
 use crate::guard::ClampCounts;
 use crate::supervisor::FaultKind;
 use crate::tick::Instant;
@@ -58,12 +60,15 @@ pub enum RunError {
     /// The firmware refused its configuration (the scenario key says
     /// which value).
     Config(ScenarioError),
+    /// The caller cancelled the run.
+    Cancelled,
 }
 
 impl std::fmt::Display for RunError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
             Self::Config(e) => write!(f, "firmware configuration refused: {e}"),
+            Self::Cancelled => f.write_str("interrupted"),
         }
     }
 }
@@ -90,7 +95,9 @@ struct Schedule {
     /// Comparator interrupt: (tick, level).
     edge: Option<(u64, bool)>,
     dead_time_end: Option<u64>,
-    breaks: Vec<u64>,
+    /// Profile breakpoints: tick, and the exact time (the tick may round
+    /// to just before it).
+    breaks: Vec<(u64, f64)>,
     next_break: usize,
     window_edges: Vec<(u64, usize, bool)>,
     next_window_edge: usize,
@@ -110,7 +117,7 @@ impl Schedule {
         consider(self.compare_irq);
         consider(self.edge.map(|e| e.0));
         consider(self.dead_time_end);
-        consider(self.breaks.get(self.next_break).copied());
+        consider(self.breaks.get(self.next_break).map(|b| b.0));
         consider(self.window_edges.get(self.next_window_edge).map(|w| w.0));
         next
     }
@@ -148,7 +155,13 @@ struct Engine<F> {
 /// Run a scenario to its end with the crate's stack, configured as the
 /// scenario says.
 pub fn run(scenario: &Scenario) -> Result<RunOutput, RunError> {
-    super::build::run_stack(scenario)
+    run_with(scenario, &RunControl::default())
+}
+
+/// [`run`], reporting progress to `control` and stopping with
+/// [`RunError::Cancelled`] when it asks.
+pub fn run_with(scenario: &Scenario, control: &RunControl) -> Result<RunOutput, RunError> {
+    super::build::run_stack(scenario, control)
 }
 
 /// Run a scenario with a firmware of your own: `build` receives the
@@ -160,12 +173,26 @@ pub fn run_firmware<F: Firmware>(
     scenario: &Scenario,
     build: impl FnOnce(&Peripherals) -> F,
 ) -> Result<RunOutput, RunError> {
+    run_firmware_with(scenario, &RunControl::default(), build)
+}
+
+/// [`run_firmware`] with progress and cancellation.
+pub fn run_firmware_with<F: Firmware>(
+    scenario: &Scenario,
+    control: &RunControl,
+    build: impl FnOnce(&Peripherals) -> F,
+) -> Result<RunOutput, RunError> {
     let peripherals = Peripherals::new();
     let firmware = build(&peripherals);
     let mut engine = Engine::new(scenario, firmware, peripherals)?;
     let stored_start = engine.plant.stored_j();
     engine.start_up();
+    let mut events = 0u32;
     while engine.tick < engine.schedule.end {
+        events = events.wrapping_add(1);
+        if events.is_multiple_of(CHECK_EVERY) && control.check(engine.tick as f64 * engine.tick_s) {
+            return Err(RunError::Cancelled);
+        }
         let target = engine.schedule.next_event();
         engine.tick = if engine.comparator.exists() {
             // A comparator may fire inside the interval: solve eagerly.
@@ -185,23 +212,35 @@ fn ticks(seconds: f64, hz: f64) -> u64 {
 
 impl<F: Firmware> Engine<F> {
     fn new(sc: &Scenario, firmware: F, peripherals: Peripherals) -> Result<Self, RunError> {
+        // Everything the microcontroller counts keeps its tick count; the
+        // plant's time runs on the true clock (see `hardware`).
         let hz = f64::from(sc.mcu.clock_hz);
+        let hz_true = true_clock_hz(&sc.mcu);
         let key = |e| super::build::keyed(sc, e);
         let profile = sc.profile();
-        let recorder = Recorder::new(sc.duration_s, &profile.disturbances(), SLICES);
-        let window_edges =
-            recorder.window_edges().into_iter().map(|(t, k, s)| (ticks(t, hz), k, s)).collect();
-        let mut breaks: Vec<u64> = profile.breakpoints().iter().map(|&t| ticks(t, hz)).collect();
-        breaks.dedup();
+        let recorder = Recorder::new(sc.duration_s, &profile.disturbances(), SLICES)
+            .with_transients(TransientTracker::for_scenario(sc));
+        let window_edges = recorder
+            .window_edges()
+            .into_iter()
+            .map(|(t, k, s)| (ticks(t, hz_true), k, s))
+            .collect();
+        let mut breaks: Vec<(u64, f64)> =
+            profile.breakpoints().iter().map(|&t| (ticks(t, hz_true), t)).collect();
+        breaks.dedup_by(|later, kept| {
+            let same = later.0 == kept.0;
+            kept.1 = if same { later.1 } else { kept.1 };
+            same
+        });
         let dead_ticks = match sc.plant.stage {
             Stage::Synchronous { dead_time_s, .. } => ticks(dead_time_s, hz),
             Stage::NonSynchronous => 0,
         };
         let adc = Adc::new(
-            output_channel(&sc.mcu).map_err(key)?,
-            input_channel(&sc.mcu).map_err(key)?,
+            sensed_output_channel(&sc.mcu).map_err(key)?,
+            sensed_input_channel(&sc.mcu).map_err(key)?,
             sc,
-            sc.mcu.feedback_open_at_s.map(|t| ticks(t, hz)),
+            sc.mcu.feedback_open_at_s.map(|t| ticks(t, hz_true)),
         );
         Ok(Self {
             plant: {
@@ -218,7 +257,7 @@ impl<F: Firmware> Engine<F> {
             comparator: Comparator::new(ComparatorSource::of(sc)),
             profile,
             housekeeping_period: ticks(1.0 / sc.firmware.housekeeping_hz, hz).max(1),
-            tick_s: 1.0 / hz,
+            tick_s: 1.0 / hz_true,
             start: sc.mcu.start_tick,
             tick: 0,
             plant_tick: 0,
@@ -243,7 +282,7 @@ impl<F: Firmware> Engine<F> {
                 next_break: 0,
                 window_edges,
                 next_window_edge: 0,
-                end: ticks(sc.duration_s, hz),
+                end: ticks(sc.duration_s, hz_true),
             },
             recorder,
         })
@@ -358,10 +397,21 @@ impl<F: Firmware> Engine<F> {
     }
 
     fn profile_breakpoints(&mut self) {
-        while self.schedule.breaks.get(self.schedule.next_break).is_some_and(|&b| b <= self.tick) {
+        while let Some(&(b, at_s)) = self.schedule.breaks.get(self.schedule.next_break) {
+            if b > self.tick {
+                break;
+            }
             self.catch_up();
             self.schedule.next_break += 1;
-            self.plant.set_environment(self.profile.environment_at(self.t_s()));
+            // At the breakpoint's own time when the tick rounded to before
+            // it: the change must not be lost.
+            self.plant.set_environment(self.profile.environment_at(self.t_s().max(at_s)));
+            // A step moves the output at once (through the ESR): see it,
+            // and let a comparator see it too (no crossing to find there).
+            self.observe();
+            if self.comparator.exists() {
+                self.sync_comparator();
+            }
         }
     }
 

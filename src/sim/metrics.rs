@@ -1,9 +1,11 @@
 //! The summary of a run: the figures a designer checks, and the stable JSON
 //! contract (`ripplectl simulate --json`).
 
+use super::accounting::{regulating_windows, steady_efficiency};
 use super::engine::RunOutput;
 use super::plant::EnergyLedger;
 use super::record::Cycle;
+use super::transient::Transient;
 use crate::guard::ClampCounts;
 use serde::Serialize;
 
@@ -64,9 +66,12 @@ pub struct Summary {
     /// RMS error of the inductor-current estimate over the steady windows,
     /// A (null without an estimator).
     pub il_est_error_rms_a: Option<f64>,
-    /// Output over input energy in the steady windows.
+    /// Output over output plus losses in the steady windows where the
+    /// output is in regulation (null when it is in none; see
+    /// [`super::accounting`]).
     pub efficiency_true: f64,
-    /// The firmware's efficiency estimate (null without an estimator).
+    /// The firmware's efficiency estimate over the same windows (null
+    /// without an estimator).
     pub efficiency_estimated: Option<f64>,
     /// Faults the firmware logged.
     pub faults: Vec<FaultEntry>,
@@ -84,6 +89,10 @@ pub struct Summary {
     pub losses_w: LossesW,
     /// Steady-window time, s.
     pub steady_s: f64,
+    /// Why the efficiency covers fewer than all steady windows, if it does.
+    pub efficiency_note: Option<String>,
+    /// How the output rode each disturbance.
+    pub transients: Vec<Transient>,
 }
 
 /// `a / b`, or NaN when `b` is zero.
@@ -132,8 +141,9 @@ impl Summary {
             .fold((0.0, 0u32), |(s, n), c| (s + (c.vo_max_v - c.vo_min_v), n + 1));
         let (fsw_min_hz, fsw_mean_hz, fsw_max_hz) = frequency_stats(out);
         let e = steady_energy(out);
-        let (est_out, est_in) =
-            windows.iter().fold((0.0, 0.0), |(o, i), w| (o + w.est_output_w, i + w.est_input_w));
+        let efficiency = steady_efficiency(out);
+        let (est_out, est_in) = regulating_windows(out)
+            .fold((0.0, 0.0), |(o, i), w| (o + w.est_output_w, i + w.est_input_w));
         let est_err_sq: f64 = windows.iter().map(|w| w.est_err_sq_integral).sum();
         let per_s = |j: f64| ratio(j, steady_s);
         Self {
@@ -147,7 +157,7 @@ impl Summary {
             off_time_min_s: out.recorder.off_min_s,
             il_peak_a: out.recorder.il_peak_a,
             il_est_error_rms_a: Some(ratio(est_err_sq, steady_s).sqrt()),
-            efficiency_true: ratio(e.output_j, e.input_j),
+            efficiency_true: efficiency.efficiency,
             efficiency_estimated: (est_in > 0.0).then(|| est_out / est_in),
             faults: out
                 .faults
@@ -171,6 +181,8 @@ impl Summary {
                 core: per_s(e.core_j),
             },
             steady_s,
+            efficiency_note: efficiency.note(),
+            transients: out.recorder.transients.figures(&out.recorder.cycles),
         }
     }
 }

@@ -12,17 +12,24 @@
 //! | [`build`] | the crate's stack configured from a scenario |
 //! | [`mcu`] | the microcontroller model: ADC, comparator |
 //! | [`engine`] | the event loop: plant, peripherals, interrupts |
+//! | [`hardware`] | the simulated peripherals' errors against the firmware's configuration |
+//! | [`run_control`] | progress and cancellation of a run |
 //! | [`record`] | cycles, envelope and steady windows collected during a run |
 //! | [`metrics`] | the summary of a run |
+//! | [`accounting`] | the true efficiency over the windows in regulation |
 //! | [`netlist`] | SPICE netlists of the stage for external cross-checks |
 //! | [`open_loop`] | fixed-duty runs of the power stage alone |
 //! | [`report`] | terminal table, CSV |
 //! | [`plot`] | SVG plots |
 //! | [`sweep`] | input × load grids in parallel |
+//! | [`tolerance`] | many runs with parts and conditions drawn within their spreads, yield |
+//! | [`transient`] | undershoot, overshoot and recovery at each disturbance |
 
+pub mod accounting;
 pub mod build;
 pub mod engine;
 pub mod firmware;
+pub mod hardware;
 pub mod linear;
 pub mod mcu;
 pub mod metrics;
@@ -34,11 +41,15 @@ pub mod plot;
 pub mod profile;
 pub mod record;
 pub mod report;
+pub mod run_control;
 pub mod scenario;
 pub mod sweep;
+pub mod tolerance;
+pub mod transient;
 
-pub use engine::{run, run_firmware, RunError, RunOutput};
+pub use engine::{run, run_firmware, run_with, RunError, RunOutput};
 pub use firmware::{Firmware, StackFirmware};
 pub use metrics::Summary;
 pub use peripherals::Peripherals;
+pub use run_control::RunControl;
 pub use scenario::{Scenario, ScenarioError};

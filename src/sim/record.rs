@@ -8,6 +8,7 @@
 //! run.
 
 use super::plant::EnergyLedger;
+use super::transient::TransientTracker;
 
 /// One switching cycle, from a turn-on to the next.
 #[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
@@ -134,6 +135,8 @@ pub struct Recorder {
     pub off_min_s: f64,
     /// Largest inductor current magnitude, A.
     pub il_peak_a: f64,
+    /// The output through each disturbance.
+    pub transients: TransientTracker,
     last: Option<Observation>,
 }
 
@@ -169,8 +172,15 @@ impl Recorder {
             on_min_s: f64::INFINITY,
             off_min_s: f64::INFINITY,
             il_peak_a: 0.0,
+            transients: TransientTracker::default(),
             last: None,
         }
+    }
+
+    /// Follow the output through the disturbances `tracker` watches.
+    pub fn with_transients(mut self, tracker: TransientTracker) -> Self {
+        self.transients = tracker;
+        self
     }
 
     /// Window boundaries, in time order, as `(time, window index, is_start)`.
@@ -199,6 +209,7 @@ impl Recorder {
     /// The circuit at one instant (called at every simulation event).
     pub fn observe(&mut self, o: Observation) {
         self.il_peak_a = self.il_peak_a.max(o.il_a.abs());
+        self.transients.observe(&o);
         if let Some(c) = self.current.as_mut() {
             c.il_max_a = c.il_max_a.max(o.il_a);
             c.il_min_a = c.il_min_a.min(o.il_a);

@@ -88,6 +88,9 @@ pub fn table(s: &Summary, window: &WindowConfig) -> String {
             percent(s.efficiency_estimated)
         ),
     );
+    if let Some(note) = &s.efficiency_note {
+        row("", note.clone());
+    }
     let l = &s.losses_w;
     row(
         "losses",
@@ -127,6 +130,9 @@ pub fn table(s: &Summary, window: &WindowConfig) -> String {
             .collect::<Vec<_>>()
             .join(", ")
     };
+    for (k, t) in s.transients.iter().enumerate() {
+        row(if k == 0 { "transients" } else { "" }, t.line());
+    }
     row("faults", faults);
     row(
         "run",
@@ -184,6 +190,20 @@ pub fn cycles_csv(cycles: &[Cycle]) -> String {
     out
 }
 
+/// A temporary file in `dir` created as an ordinary file would be: mode
+/// 0666 less the user's umask (a temporary file's own default, 0600, would
+/// keep the output from colleagues and web servers).
+fn staging_file(dir: &std::path::Path) -> std::io::Result<tempfile::NamedTempFile> {
+    let mut builder = tempfile::Builder::new();
+    builder.prefix(".ripplectl-");
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt;
+        builder.permissions(std::fs::Permissions::from_mode(0o666));
+    }
+    builder.tempfile_in(dir)
+}
+
 /// Files to write together: each goes to a temporary file in the target
 /// directory first and is renamed into place only when all were written.
 pub fn write_all(dir: &std::path::Path, files: &[(&str, Vec<u8>)]) -> std::io::Result<()> {
@@ -191,7 +211,7 @@ pub fn write_all(dir: &std::path::Path, files: &[(&str, Vec<u8>)]) -> std::io::R
     std::fs::create_dir_all(dir)?;
     let mut staged = Vec::new();
     for (name, bytes) in files {
-        let mut tmp = tempfile::Builder::new().prefix(".ripplectl-").tempfile_in(dir)?;
+        let mut tmp = staging_file(dir)?;
         tmp.write_all(bytes)?;
         tmp.flush()?;
         staged.push((tmp, dir.join(name)));

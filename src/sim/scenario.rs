@@ -7,6 +7,8 @@
 
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, Load, LoadChange, Profile};
+use super::tolerance::ToleranceParams;
+use super::transient::TransientParams;
 use crate::estimate::InductorModel;
 use crate::guard::WindowConfig;
 use crate::law::HystereticConfig;
@@ -53,6 +55,23 @@ pub struct McuParams {
     /// pin): a fault to test against.
     #[serde(default)]
     pub feedback_open_at_s: Option<f64>,
+    /// Gain error of the real ADC and divider against what the firmware was
+    /// configured with, a fraction (0.01: reads 1 % high); applied by the
+    /// simulated ADC only ([`super::hardware`]).
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub adc_gain_error: f64,
+    /// Offset error of the real ADC at the pin, V; applied by the simulated
+    /// ADC only.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub adc_offset_error_v: f64,
+    /// Error of the real timer clock against `clock_hz`, ppm (+: runs
+    /// fast); applied by the simulated timer only.
+    #[serde(default, skip_serializing_if = "is_zero")]
+    pub clock_error_ppm: f64,
+}
+
+fn is_zero(x: &f64) -> bool {
+    *x == 0.0
 }
 
 /// What the firmware believes about the stage, and its slow path.
@@ -198,7 +217,22 @@ pub struct Scenario {
     pub input: InputProfile,
     /// Load changes over time.
     pub load: Vec<LoadChange>,
+    /// The recovery band of the transient figures; omitted: the default.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub transient: Option<TransientParams>,
+    /// Spreads and pass criteria of `ripplectl tolerance`; omitted: the
+    /// defaults.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub tolerance: Option<ToleranceParams>,
 }
+
+/// Largest ADC gain error a scenario may give (±50 %): beyond it the
+/// reading is no longer the signal it stands for.
+pub const MAX_ADC_GAIN_ERROR: f64 = 0.5;
+
+/// Largest timer clock error a scenario may give, ppm (±10 %: an untrimmed
+/// RC oscillator stays well inside it, from memory of MCU datasheets).
+pub const MAX_CLOCK_ERROR_PPM: f64 = 100_000.0;
 
 /// The built-in default scenario's file.
 pub const DEFAULT_SCENARIO_TOML: &str = include_str!("../../examples/scenarios/hysteretic.toml");
@@ -299,6 +333,12 @@ impl Scenario {
         self.validate_plant()?;
         self.validate_mcu()?;
         self.validate_profile()?;
+        if let Some(band_v) = self.transient.and_then(|t| t.band_v) {
+            positive("transient.band_v", band_v)?;
+        }
+        if let Some(t) = &self.tolerance {
+            t.validate()?;
+        }
         self.validate_control()?;
         // The firmware's own checks, each refusal on its key.
         super::build::check(self)
@@ -358,6 +398,8 @@ impl Scenario {
         non_negative("mcu.conversion_s", m.conversion_s)?;
         non_negative("mcu.noise_lsb_rms", m.noise_lsb_rms)?;
         non_negative("mcu.isr_latency_s", m.isr_latency_s)?;
+        self.validate_mcu_timing()?;
+        self.validate_mcu_errors()?;
         non_negative("mcu.comparator_delay_s", m.comparator_delay_s)?;
         positive("mcu.vin_divider_ratio", m.vin_divider_ratio)?;
         if let Some(t) = m.feedback_open_at_s {
@@ -366,6 +408,66 @@ impl Scenario {
         positive("firmware.housekeeping_hz", self.firmware.housekeeping_hz)?;
         if self.firmware.housekeeping_hz > m.sample_rate_hz.max(f64::from(m.clock_hz) / 64.0) {
             return Err(invalid("firmware.housekeeping_hz", "faster than the fast path"));
+        }
+        Ok(())
+    }
+
+    /// Refuse timings no converter has: a result that arrives after the
+    /// next sample was taken never reaches the law (and noise wider than the
+    /// converter's whole range is no measurement).
+    fn validate_mcu_timing(&self) -> Result<(), ScenarioError> {
+        let m = &self.mcu;
+        let period_s = 1.0 / m.sample_rate_hz;
+        for (key, x) in
+            [("mcu.conversion_s", m.conversion_s), ("mcu.isr_latency_s", m.isr_latency_s)]
+        {
+            if x >= period_s {
+                return Err(invalid(
+                    key,
+                    format!("{x} s is not shorter than the sample period {period_s} s"),
+                ));
+            }
+        }
+        if m.conversion_s + m.isr_latency_s >= period_s {
+            return Err(invalid(
+                "mcu.isr_latency_s",
+                format!(
+                    "conversion_s + isr_latency_s = {} s is not shorter than the sample period {period_s} s: every result would arrive after the next sample",
+                    m.conversion_s + m.isr_latency_s
+                ),
+            ));
+        }
+        let codes = f64::from(1u32 << m.adc_bits.min(16));
+        if m.noise_lsb_rms > codes {
+            return Err(invalid(
+                "mcu.noise_lsb_rms",
+                format!("{} LSB rms is beyond the ADC's range of {codes} codes", m.noise_lsb_rms),
+            ));
+        }
+        Ok(())
+    }
+
+    /// The simulated hardware's departures from the configuration.
+    fn validate_mcu_errors(&self) -> Result<(), ScenarioError> {
+        let m = &self.mcu;
+        if !(m.adc_gain_error.is_finite() && m.adc_gain_error.abs() < MAX_ADC_GAIN_ERROR) {
+            return Err(invalid(
+                "mcu.adc_gain_error",
+                format!("must lie within ±{MAX_ADC_GAIN_ERROR}, got {}", m.adc_gain_error),
+            ));
+        }
+        let pin_offset = m.adc_offset_v + m.adc_offset_error_v;
+        if !(pin_offset.is_finite() && pin_offset.abs() < m.adc_reference_v) {
+            return Err(invalid(
+                "mcu.adc_offset_error_v",
+                format!("the offset at the pin, {pin_offset} V, must stay within ± the reference"),
+            ));
+        }
+        if !(m.clock_error_ppm.is_finite() && m.clock_error_ppm.abs() < MAX_CLOCK_ERROR_PPM) {
+            return Err(invalid(
+                "mcu.clock_error_ppm",
+                format!("must lie within ±{MAX_CLOCK_ERROR_PPM} ppm, got {}", m.clock_error_ppm),
+            ));
         }
         Ok(())
     }

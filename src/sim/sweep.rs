@@ -1,9 +1,10 @@
 //! Input-voltage × load grids, run in parallel.
 
-use super::engine::{run, RunError};
+use super::engine::{run_with, RunError, RunOutput};
 use super::metrics::Summary;
 use super::plant::Stage;
 use super::profile::{InputProfile, Load, LoadChange};
+use super::run_control::RunControl;
 use super::scenario::{HystereticInput, LawParams, Scenario};
 use crate::design;
 use rayon::prelude::*;
@@ -27,6 +28,9 @@ pub struct SweepPoint {
     pub efficiency_true: f64,
     /// Peak inductor current, A.
     pub il_peak_a: f64,
+    /// Why the point has no steady switching cycles (and so no frequency,
+    /// ripple or efficiency), if it has none.
+    pub not_switching: Option<String>,
 }
 
 /// Loop delay of the scenario's firmware, s: on average half a sampling
@@ -81,6 +85,32 @@ pub fn operating_point(base: &Scenario, vin: f64, load_a: f64, duration_s: f64) 
     s
 }
 
+/// Why an operating point at input `vin` shows no steady switching, from
+/// the protection settings and the faults the run logged; none when it
+/// switched.
+pub fn not_switching(
+    base: &Scenario,
+    vin: f64,
+    out: &RunOutput,
+    summary: &Summary,
+) -> Option<String> {
+    if summary.fsw_mean_hz.is_finite() {
+        return None;
+    }
+    let p = &base.firmware.protection;
+    let reason = if vin < f64::from(p.uvlo_on_v) {
+        format!("input {vin} V below UVLO ({} V)", p.uvlo_on_v)
+    } else if vin > f64::from(p.vin_max_v) {
+        format!("input {vin} V above the input limit ({} V)", p.vin_max_v)
+    } else if !out.faults.is_empty() {
+        let kinds: Vec<&str> = out.faults.iter().map(|f| f.0.name()).collect();
+        format!("fault: {}", kinds.join(", "))
+    } else {
+        "no steady switching cycles".to_string()
+    };
+    Some(reason)
+}
+
 /// Run the grid in parallel; `tick` is called after each point.
 pub fn sweep(
     base: &Scenario,
@@ -89,12 +119,24 @@ pub fn sweep(
     duration_s: f64,
     tick: &(dyn Fn() + Sync),
 ) -> Result<Vec<SweepPoint>, RunError> {
+    sweep_with(base, vins, loads, duration_s, tick, None)
+}
+
+/// [`sweep`], stopping with [`RunError::Cancelled`] once `cancel` is set.
+pub fn sweep_with(
+    base: &Scenario,
+    vins: &[f64],
+    loads: &[f64],
+    duration_s: f64,
+    tick: &(dyn Fn() + Sync),
+    cancel: Option<&std::sync::atomic::AtomicBool>,
+) -> Result<Vec<SweepPoint>, RunError> {
     let grid: Vec<(f64, f64)> =
         vins.iter().flat_map(|&v| loads.iter().map(move |&l| (v, l))).collect();
     grid.par_iter()
         .map(|&(vin, load_a)| {
             let scenario = operating_point(base, vin, load_a, duration_s);
-            let out = run(&scenario)?;
+            let out = run_with(&scenario, &RunControl { progress: None, cancel })?;
             let s = Summary::of(&out, &scenario.name, 0.0);
             tick();
             Ok(SweepPoint {
@@ -106,6 +148,7 @@ pub fn sweep(
                 vout_ripple_pp_v: s.vout_ripple_pp_v,
                 efficiency_true: s.efficiency_true,
                 il_peak_a: s.il_peak_a,
+                not_switching: not_switching(base, vin, &out, &s),
             })
         })
         .collect()

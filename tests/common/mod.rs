@@ -2,8 +2,9 @@
 #![allow(dead_code)]
 
 pub mod plants;
+pub mod program;
 
-use ripplectl::{AdcChannel, Command, Instant, Law};
+use ripplectl::{AdcChannel, Command, Instant, Law, LightLoad, WindowConfig};
 
 /// Proptest settings: the foundation asks for at least 10 000 cases.
 pub fn cases(n: u32) -> proptest::test_runner::Config {
@@ -79,5 +80,17 @@ impl Harness {
     pub fn sample<L: Law>(&mut self, law: &mut L, t: u64, code: u16) {
         let cmd = law.on_sample(code, self.instant(t));
         self.record(t, cmd);
+    }
+}
+
+/// A frequency window wide enough never to bind.
+pub fn open_window() -> WindowConfig {
+    WindowConfig {
+        f_min_hz: 1e3,
+        f_max_hz: 2e6,
+        min_on_s: 10e-9,
+        min_off_s: 10e-9,
+        max_on_s: 500e-6,
+        light_load: LightLoad::ReportOnly,
     }
 }

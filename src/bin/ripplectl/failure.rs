@@ -1,7 +1,8 @@
 //! Failures of a command and the exit codes they map to, and loading the
 //! scenario a command runs.
 
-use ripplectl::sim::Scenario;
+use crate::progress::INTERRUPTED_EXIT;
+use ripplectl::sim::{RunError, Scenario};
 use std::path::Path;
 
 /// A failure and the exit code it maps to.
@@ -25,4 +26,17 @@ pub fn load_scenario(path: Option<&Path>) -> Result<Scenario, Failure> {
     let text =
         std::fs::read_to_string(path).map_err(|e| bad_input(format!("{}: {e}", path.display())))?;
     Scenario::from_toml(&text).map_err(|e| bad_input(format!("{}: {e}", path.display())))
+}
+
+/// Ctrl-C ended the command before anything was written.
+pub fn interrupted() -> Failure {
+    Failure { code: INTERRUPTED_EXIT, message: "interrupted; nothing written".to_string() }
+}
+
+/// A run that did not complete.
+pub fn run_failure(e: RunError) -> Failure {
+    match e {
+        RunError::Cancelled => interrupted(),
+        RunError::Config(_) => bad_input(e),
+    }
 }

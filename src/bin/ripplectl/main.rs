@@ -2,8 +2,10 @@
 //! converter before flashing it.
 
 mod failure;
+mod progress;
 mod simulate;
 mod sweep;
+mod tolerance;
 
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
@@ -57,16 +59,52 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Run the scenario many times with its parts, the microcontroller's
+    /// errors and the conditions drawn within their spreads ([tolerance]
+    /// table), and report the yield against the pass criteria.
+    Tolerance {
+        /// Scenario file (TOML), with an optional [tolerance] table.
+        #[arg(long)]
+        scenario: Option<PathBuf>,
+        /// Number of random runs.
+        #[arg(long, default_value_t = 200)]
+        runs: u64,
+        /// Seed of the draws: the same seed gives the same runs.
+        #[arg(long, default_value_t = 1)]
+        seed: u64,
+        /// Run every combination of the spreads' extremes instead of random
+        /// draws.
+        #[arg(long)]
+        corners: bool,
+        /// Write the report, histograms (SVG), every run (CSV) and a
+        /// scenario file per failing run into this directory.
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Print the report as JSON on stdout instead of the table.
+        #[arg(long)]
+        json: bool,
+    },
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    progress::catch_interrupt();
     let result = match &cli.command {
         Command::Simulate { scenario, out, json } => {
             simulate::simulate(scenario.as_deref(), out.as_deref(), *json)
         }
         Command::Sweep { scenario, vin, load, duration, out, json } => {
             sweep::sweep(scenario.as_deref(), vin, load, *duration, out.as_deref(), *json)
+        }
+        Command::Tolerance { scenario, runs, seed, corners, out, json } => {
+            tolerance::tolerance(&tolerance::Options {
+                scenario: scenario.as_deref(),
+                runs: *runs,
+                seed: *seed,
+                corners: *corners,
+                json: *json,
+                out: out.as_deref(),
+            })
         }
     };
     match result {

@@ -1,28 +1,47 @@
 //! `ripplectl sweep`: a grid of input voltage × load in parallel.
 
-use crate::failure::{bad_input, failed, load_scenario, Failure};
-use indicatif::{ProgressBar, ProgressStyle};
+use crate::failure::{bad_input, failed, interrupted, load_scenario, run_failure, Failure};
+use crate::progress::{self, Progress, INTERRUPTED};
 use ripplectl::sim::{self, report};
 use std::path::Path;
+use std::sync::atomic::{AtomicUsize, Ordering};
 
 fn sweep_table(points: &[sim::sweep::SweepPoint]) -> String {
     let mut s = String::from(
         "   vin V   load A   f predicted   f simulated   error     ripple    efficiency\n",
     );
     for p in points {
+        if let Some(reason) = &p.not_switching {
+            s += &format!(
+                "  {:6.1}   {:6.2}   {:>11}   not switching: {reason}\n",
+                p.vin_v,
+                p.load_a,
+                report::eng(p.fsw_predicted_hz, "Hz")
+            );
+            continue;
+        }
         let err = 100.0 * (p.fsw_simulated_hz - p.fsw_predicted_hz) / p.fsw_predicted_hz;
         s += &format!(
-            "  {:6.1}   {:6.2}   {:>11}   {:>11}   {:+5.1} %   {:>8}   {:6.1} %\n",
+            "  {:6.1}   {:6.2}   {:>11}   {:>11}   {:+5.1} %   {:>8}   {:>8}\n",
             p.vin_v,
             p.load_a,
             report::eng(p.fsw_predicted_hz, "Hz"),
             report::eng(p.fsw_simulated_hz, "Hz"),
             err,
             report::eng(p.vout_ripple_pp_v, "V"),
-            100.0 * p.efficiency_true
+            efficiency(p.efficiency_true)
         );
     }
     s
+}
+
+/// A percentage, or "n/a" when the point was not regulating.
+fn efficiency(x: f64) -> String {
+    if x.is_finite() {
+        format!("{:.1} %", 100.0 * x)
+    } else {
+        "n/a".to_string()
+    }
 }
 
 fn sweep_csv(points: &[sim::sweep::SweepPoint]) -> String {
@@ -69,13 +88,16 @@ pub fn sweep(
     if let Some(l) = loads.iter().find(|&&l| !(l.is_finite() && l > 0.0)) {
         return Err(bad_input(format!("--load {l}: must be a positive current")));
     }
-    let bar = ProgressBar::new((vins.len() * loads.len()) as u64);
-    bar.set_style(
-        ProgressStyle::with_template("{bar:40} {pos}/{len} points {elapsed}").map_err(failed)?,
-    );
-    let points =
-        sim::sweep::sweep(&base, &vins, &loads, duration, &|| bar.inc(1)).map_err(bad_input)?;
-    bar.finish_and_clear();
+    let total = vins.len() * loads.len();
+    let bar = Progress::items(total as u64, "points");
+    let done = AtomicUsize::new(0);
+    let tick = || bar.set((done.fetch_add(1, Ordering::Relaxed) + 1) as f64);
+    let points = sim::sweep::sweep_with(&base, &vins, &loads, duration, &tick, Some(&INTERRUPTED));
+    bar.finish();
+    let points = points.map_err(run_failure)?;
+    if progress::interrupted() {
+        return Err(interrupted());
+    }
     let grid_json = serde_json::to_string_pretty(&points).map_err(failed)?;
     if let Some(dir) = out {
         let svg = sim::plot::sweep_svg(&points, &format!("{}: switching frequency", base.name))

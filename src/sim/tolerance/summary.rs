@@ -1,0 +1,189 @@
+//! A study's report: the yield with its interval, each figure's
+//! distribution, the failures and the worst runs; as a table and as JSON.
+
+use super::criteria::{Limits, FIGURES};
+use super::draw::Setting;
+use super::stats::{wilson, FigureStats, Z_95};
+use super::{Mode, Outcome, RunResult};
+use crate::sim::report::eng;
+use serde::Serialize;
+use std::fmt::Write as _;
+
+/// The confidence method the yield's interval uses.
+pub const INTERVAL_METHOD: &str = "Wilson score interval, 95 %";
+
+/// Runs listed as the worst.
+pub const WORST: usize = 5;
+
+/// A failing run.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct FailureEntry {
+    /// Run index.
+    pub run: u64,
+    /// Why it failed.
+    pub reasons: Vec<String>,
+    /// Its values.
+    pub settings: Vec<Setting>,
+}
+
+/// A run near or past a limit.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct WorstEntry {
+    /// Run index.
+    pub run: u64,
+    /// Smallest margin, a fraction of the limit (negative: failed).
+    pub margin: f64,
+    /// Why it failed (empty: passed).
+    pub reasons: Vec<String>,
+}
+
+/// The report (the JSON of `ripplectl tolerance --json`).
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ToleranceReport {
+    /// Scenario name.
+    pub scenario: String,
+    /// How values were chosen.
+    pub mode: Mode,
+    /// Runs made.
+    pub runs: u64,
+    /// Runs that passed every criterion.
+    pub passed: u64,
+    /// Fraction that passed.
+    #[serde(rename = "yield")]
+    pub yield_fraction: f64,
+    /// Its confidence interval (random draws only: corners are no sample).
+    pub yield_interval: Option<[f64; 2]>,
+    /// How the interval was found.
+    pub interval_method: &'static str,
+    /// The criteria as resolved.
+    pub criteria: Limits,
+    /// The nominal run's figures.
+    pub nominal: RunResult,
+    /// Each figure's distribution over the runs.
+    pub figures: Vec<FigureStats>,
+    /// Every failing run.
+    pub failures: Vec<FailureEntry>,
+    /// The runs with the smallest margins.
+    pub worst: Vec<WorstEntry>,
+    /// Wall time of the study, s.
+    pub wall_s: f64,
+}
+
+impl ToleranceReport {
+    /// Summarise a study of `scenario` that took `wall_s`.
+    pub fn of(outcome: &Outcome, scenario: &str, wall_s: f64) -> Self {
+        let runs = outcome.runs.len() as u64;
+        let passed = outcome.runs.iter().filter(|r| r.verdict.passed()).count() as u64;
+        let interval = match outcome.mode {
+            Mode::Random { .. } => wilson(passed, runs, Z_95).map(|(a, b)| [a, b]),
+            Mode::Corners => None,
+        };
+        let figures = FIGURES
+            .iter()
+            .map(|(name, unit, get)| {
+                let values: Vec<f64> =
+                    outcome.runs.iter().map(|r| r.figures.as_ref().map_or(f64::NAN, get)).collect();
+                FigureStats::of(name, unit, &values)
+            })
+            .collect();
+        let failures = outcome
+            .runs
+            .iter()
+            .filter(|r| !r.verdict.passed())
+            .map(|r| FailureEntry {
+                run: r.index,
+                reasons: r.verdict.failures.clone(),
+                settings: r.settings.clone(),
+            })
+            .collect();
+        let mut by_margin: Vec<&RunResult> = outcome.runs.iter().collect();
+        by_margin.sort_by(|a, b| a.verdict.margin.total_cmp(&b.verdict.margin));
+        let worst = by_margin
+            .iter()
+            .take(WORST)
+            .map(|r| WorstEntry {
+                run: r.index,
+                margin: r.verdict.margin,
+                reasons: r.verdict.failures.clone(),
+            })
+            .collect();
+        Self {
+            scenario: scenario.to_string(),
+            mode: outcome.mode,
+            runs,
+            passed,
+            yield_fraction: if runs > 0 { passed as f64 / runs as f64 } else { f64::NAN },
+            yield_interval: interval,
+            interval_method: INTERVAL_METHOD,
+            criteria: outcome.limits,
+            nominal: outcome.nominal.clone(),
+            figures,
+            failures,
+            worst,
+            wall_s,
+        }
+    }
+
+    /// The human-readable report.
+    pub fn table(&self) -> String {
+        let mut out = String::new();
+        let rule = "─".repeat(72);
+        let _ = writeln!(out, "{rule}\n  scenario      {}", self.scenario);
+        let how = match self.mode {
+            Mode::Random { runs, seed } => format!("{runs} random draws, seed {seed}"),
+            Mode::Corners => format!("all {} corners", self.runs),
+        };
+        let _ = writeln!(out, "  runs          {how}, {} wall", eng(self.wall_s, "s"));
+        let interval = self.yield_interval.map_or(String::new(), |[a, b]| {
+            format!("   ({:.1} % to {:.1} %, {INTERVAL_METHOD})", 100.0 * a, 100.0 * b)
+        });
+        let _ = writeln!(
+            out,
+            "  yield         {} of {} pass: {:.1} %{interval}",
+            self.passed,
+            self.runs,
+            100.0 * self.yield_fraction
+        );
+        let _ = writeln!(
+            out,
+            "\n  {:<20}{:>11}{:>11}{:>11}{:>11}{:>11}",
+            "figure", "min", "5 %", "median", "95 %", "max"
+        );
+        for f in &self.figures {
+            let show = |x: f64| match f.unit {
+                "%" => format!("{x:+.2} %"),
+                "" => {
+                    if x.is_finite() {
+                        format!("{:.1} %", 100.0 * x)
+                    } else {
+                        "n/a".into()
+                    }
+                }
+                unit => eng(x, unit),
+            };
+            let missing = match (f.missing, f.name) {
+                (0, _) => String::new(),
+                (n, "recovery_s") => format!("  ({n} never back in band)"),
+                (n, _) => format!("  ({n} without a value)"),
+            };
+            let _ = writeln!(
+                out,
+                "  {:<20}{:>11}{:>11}{:>11}{:>11}{:>11}{missing}",
+                f.name,
+                show(f.min),
+                show(f.p5),
+                show(f.p50),
+                show(f.p95),
+                show(f.max)
+            );
+        }
+        let _ = writeln!(out, "\n  worst runs (margin: how far inside the tightest limit)");
+        for w in &self.worst {
+            let why =
+                if w.reasons.is_empty() { "passes".to_string() } else { w.reasons.join("; ") };
+            let _ = writeln!(out, "  run {:<6} margin {:+7.1} %   {why}", w.run, 100.0 * w.margin);
+        }
+        let _ = writeln!(out, "{rule}");
+        out
+    }
+}
