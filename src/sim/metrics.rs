@@ -1,6 +1,8 @@
 //! The summary of a run: the figures a designer checks, and the stable JSON
 //! contract (`ripplectl simulate --json`).
 
+use super::audible::{self, Audible};
+use super::emission::{EmissionSummary, Estimate};
 use super::engine::RunOutput;
 use super::plant::EnergyLedger;
 use super::record::Cycle;
@@ -84,6 +86,10 @@ pub struct Summary {
     pub losses_w: LossesW,
     /// Steady-window time, s.
     pub steady_s: f64,
+    /// Audible-band figures (null without a steady window long enough).
+    pub audible: Option<Audible>,
+    /// Conducted-emission estimate ([`Summary::with_emission`]).
+    pub emission: EmissionSummary,
 }
 
 /// `a / b`, or NaN when `b` is zero.
@@ -95,7 +101,8 @@ fn ratio(a: f64, b: f64) -> f64 {
     }
 }
 
-fn steady_cycles<'a>(out: &'a RunOutput) -> impl Iterator<Item = &'a Cycle> + 'a {
+/// The completed cycles that start in a steady window.
+pub fn steady_cycles<'a>(out: &'a RunOutput) -> impl Iterator<Item = &'a Cycle> + 'a {
     out.recorder.cycles.iter().filter(|c| c.period_s.is_finite() && out.recorder.is_steady(c.t_s))
 }
 
@@ -171,6 +178,17 @@ impl Summary {
                 core: per_s(e.core_j),
             },
             steady_s,
+            audible: audible::analyse(out),
+            emission: EmissionSummary::NotAvailable {
+                reason: "not estimated for this summary".to_string(),
+            },
         }
+    }
+
+    /// The summary with a run's emission estimate, or the reason it has
+    /// none ([`super::emission::estimate`]).
+    pub fn with_emission(mut self, estimate: &Result<Estimate, String>) -> Self {
+        self.emission = EmissionSummary::of(estimate);
+        self
     }
 }

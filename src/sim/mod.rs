@@ -16,13 +16,26 @@
 //! | [`report`] | terminal table, CSV |
 //! | [`plot`] | SVG plots |
 //! | [`sweep`] | input × load grids in parallel |
+//! | [`cells`] | uniform cell averages of piecewise-linear signals |
+//! | [`emission`] | conducted-emission estimate (LISN, receiver, CISPR 32 limits) |
+//! | [`audible`] | audible-band figures of the inductor current |
+//! | [`zoom`] | plots of one or more runs on shared axes, whole run or around a time |
+//! | [`html`] | the self-contained HTML report |
+//! | [`pages`] | the HTML reports of `simulate` and `compare` |
+//! | [`compare`] | two runs' figures side by side |
 
+pub mod audible;
+pub mod cells;
+pub mod compare;
+pub mod emission;
 pub mod engine;
 pub mod firmware;
+pub mod html;
 pub mod linear;
 pub mod metrics;
 pub mod netlist;
 pub mod open_loop;
+pub mod pages;
 pub mod plant;
 pub mod plot;
 pub mod profile;
@@ -30,6 +43,7 @@ pub mod record;
 pub mod report;
 pub mod scenario;
 pub mod sweep;
+pub mod zoom;
 
 pub use engine::{run, RunError, RunOutput};
 pub use metrics::Summary;

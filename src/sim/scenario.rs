@@ -5,6 +5,7 @@
 //! physical consistency (a negative inductance, an output the input can
 //! never reach), and [`ScenarioError`] names the key and its line.
 
+use super::emission::EmissionParams;
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, Load, LoadChange, Profile};
 use crate::estimate::InductorModel;
@@ -198,6 +199,9 @@ pub struct Scenario {
     pub input: InputProfile,
     /// Load changes over time.
     pub load: Vec<LoadChange>,
+    /// Conducted-emission estimate: limit class and input filter.
+    #[serde(default)]
+    pub emission: EmissionParams,
 }
 
 /// The built-in default scenario's file.
@@ -299,7 +303,25 @@ impl Scenario {
         self.validate_plant()?;
         self.validate_mcu()?;
         self.validate_profile()?;
-        self.validate_control()
+        self.validate_control()?;
+        self.validate_emission()
+    }
+
+    fn validate_emission(&self) -> Result<(), ScenarioError> {
+        if let Some(c) = self.plant.input_capacitor {
+            positive("plant.input_capacitor.c_f", c.c_f)?;
+            non_negative("plant.input_capacitor.esr_ohm", c.esr_ohm)?;
+            non_negative("plant.input_capacitor.esl_h", c.esl_h)?;
+        }
+        if let Some(f) = self.emission.filter {
+            positive("emission.filter.l_h", f.l_h)?;
+            positive("emission.filter.c_f", f.c_f)?;
+            positive("emission.filter.damping_r_ohm", f.damping_r_ohm)?;
+            positive("emission.filter.damping_c_f", f.damping_c_f)?;
+            non_negative("emission.filter.c_esl_h", f.c_esl_h)?;
+            non_negative("emission.filter.l_epc_f", f.l_epc_f)?;
+        }
+        Ok(())
     }
 
     fn validate_plant(&self) -> Result<(), ScenarioError> {
