@@ -43,14 +43,19 @@ pub struct Audible {
     pub slow_period_share: f64,
 }
 
-/// One window's strongest audible line and fundamental: `(f, amplitude)`.
-struct Lines {
-    audible: (f64, f64),
-    fundamental: (f64, f64),
+/// One record's strongest audible line and switching fundamental, each
+/// `(frequency Hz, amplitude)`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Lines {
+    /// Strongest line from the third bin up to 20 kHz.
+    pub audible: (f64, f64),
+    /// Strongest line at or above 20 kHz.
+    pub fundamental: (f64, f64),
 }
 
 impl Lines {
-    fn relative_db(&self) -> f64 {
+    /// The audible line relative to the fundamental, dB.
+    pub fn relative_db(&self) -> f64 {
         20.0 * (self.audible.1 / self.fundamental.1).log10()
     }
 }
@@ -95,7 +100,9 @@ pub fn amplitude_spectrum(record: &CellGrid) -> Vec<(f64, f64)> {
     bins.iter().enumerate().map(|(k, b)| (k as f64 * df, b.norm() * scale)).collect()
 }
 
-fn lines(record: &CellGrid) -> Option<Lines> {
+/// The lines of one record (none if it is too short to resolve a line
+/// below 20 kHz, or carries no AC at or above it).
+pub fn lines(record: &CellGrid) -> Option<Lines> {
     let spectrum = amplitude_spectrum(record);
     let strongest = |from: usize, below_hz: f64| {
         spectrum
