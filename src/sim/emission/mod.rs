@@ -36,6 +36,7 @@ use super::record::Recorder;
 use super::scenario::Scenario;
 pub use limits::{Class, Detector};
 pub use network::{InputCapacitor, InputFilter, InputNetwork};
+use rayon::prelude::*;
 use realfft::num_complex::Complex64;
 use realfft::RealFftPlanner;
 pub use receiver::{Receiver, Scan};

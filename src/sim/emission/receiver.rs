@@ -69,6 +69,11 @@ impl Scan {
 /// How far either side of the tuning frequency the filter is applied, in
 /// bandwidths (the Gaussian is 1.5·10⁻⁵, −96 dB, there).
 const SPAN_RBW: f64 = 2.5;
+/// Envelope samples per bin in the filter's span, so the peak of lines
+/// beating inside the filter is caught: with 16, samples lie 1/(16·45 kHz)
+/// apart, and the peak of two lines one bandwidth apart reads under 0.05 dB
+/// low.
+const ENVELOPE_OVERSAMPLING: usize = 16;
 /// Envelope samples this many filter time constants from the record's ends
 /// are left out.
 const SETTLE_SIGMAS: f64 = 4.0;
@@ -109,7 +114,7 @@ impl Receiver {
         let tuning = self.tuning_frequencies();
         let df = 1.0 / record_s;
         let span_bins = (SPAN_RBW * self.rbw_hz / df).ceil() as usize;
-        let m = (2 * (2 * span_bins + 1)).next_power_of_two();
+        let m = (ENVELOPE_OVERSAMPLING * (2 * span_bins + 1)).next_power_of_two();
         let ifft = FftPlanner::new().plan_fft_inverse(m);
         let settle = self.settle_s() / record_s;
         let valid: Vec<usize> =
