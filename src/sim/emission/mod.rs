@@ -180,11 +180,11 @@ pub fn estimate(scenario: &Scenario, recorder: &Recorder) -> Result<Estimate, St
         .filter(|w| !w.current.points.is_empty())
         .collect();
     let scan = windows
-        .iter()
+        .par_iter()
         .map(|w| {
             scan_record(record(&w.current, w.from_s, w.to_s), |f| network.transfer(f), &receiver)
         })
-        .reduce(|a, b| a.max(&b))
+        .reduce_with(|a, b| a.max(&b))
         .ok_or_else(|| {
             format!(
                 "no steady window of at least {:.2} ms with switching in it (the receiver settles \
