@@ -146,7 +146,7 @@ impl EmissionSummary {
 }
 
 /// The scenario's input network, if it has an input capacitor.
-pub fn network(scenario: &Scenario) -> Option<InputNetwork> {
+pub fn input_network(scenario: &Scenario) -> Option<InputNetwork> {
     let capacitor = scenario.plant.input_capacitor?;
     Some(InputNetwork { capacitor, filter: scenario.emission.filter })
 }
@@ -163,7 +163,7 @@ pub fn ramps(scenario: &Scenario) -> Ramps {
 
 /// Estimate the conducted emission of a run; `Err` says why there is none.
 pub fn estimate(scenario: &Scenario, recorder: &Recorder) -> Result<Estimate, String> {
-    let network = network(scenario).ok_or(
+    let network = input_network(scenario).ok_or(
         "no `plant.input_capacitor`: the input capacitor carries most of the switch current, \
          so without it there is nothing to estimate",
     )?;
