@@ -4,6 +4,9 @@
 //! limit values, and ngspice's AC analysis of the same input network.
 
 use realfft::num_complex::Complex64;
+mod common;
+
+use common::tools::ngspice_available;
 use ripplectl::sim::emission::network::{lisn_impedance, LISN_L_H, LISN_R_OHM};
 use ripplectl::sim::emission::{
     limits, record, scan_record, Class, Detector, InputCapacitor, InputFilter, InputNetwork, Ramps,
@@ -216,18 +219,6 @@ fn limit_lines_at_their_corners() {
     // (273.9 kHz) the class B quasi-peak limit is 61 dBµV.
     let mid = (150e3f64 * 500e3).sqrt();
     assert!((limits::limit_dbuv(Class::B, QuasiPeak, mid) - 61.0).abs() < 1e-9);
-}
-
-fn ngspice_available() -> bool {
-    let found = Command::new("ngspice").arg("--version").output().is_ok_and(|o| o.status.success());
-    if !found {
-        assert!(
-            std::env::var_os("RIPPLECTL_REQUIRE_NGSPICE").is_none(),
-            "ngspice is required but not installed"
-        );
-        eprintln!("ngspice not installed: cross-check skipped (apt-get install ngspice)");
-    }
-    found
 }
 
 /// The input network with the filter and a network on each line, as a

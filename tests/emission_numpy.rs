@@ -10,28 +10,23 @@
 //! skipped with a message, unless `RIPPLECTL_REQUIRE_SCIPY` is set (CI sets
 //! it), when it fails.
 
+mod common;
+
+use common::tools;
 use std::path::{Path, PathBuf};
 use std::process::Command;
 
 fn python_with_scipy() -> Option<String> {
-    let candidates: Vec<String> = std::env::var("RIPPLECTL_PYTHON")
+    let found = std::env::var("RIPPLECTL_PYTHON")
         .into_iter()
         .chain(["python3".to_string(), "/usr/bin/python3".to_string()])
-        .collect();
-    let found = candidates.into_iter().find(|p| {
-        Command::new(p)
-            .args(["-c", "import numpy, scipy, tomllib"])
-            .output()
-            .is_ok_and(|o| o.status.success())
-    });
-    if found.is_none() {
-        assert!(
-            std::env::var_os("RIPPLECTL_REQUIRE_SCIPY").is_none(),
-            "numpy and scipy are required but no python3 has them"
-        );
-        eprintln!("no python3 with numpy and scipy: cross-check skipped (apt-get install python3-numpy python3-scipy)");
-    }
-    found
+        .find(|p| tools::runs(p, &["-c", "import numpy, scipy, tomllib"]));
+    tools::found_or_skipped(
+        found,
+        "RIPPLECTL_REQUIRE_SCIPY",
+        "a python3 with numpy and scipy",
+        "apt-get install python3-numpy python3-scipy",
+    )
 }
 
 fn manifest(path: &str) -> PathBuf {

@@ -9,20 +9,21 @@
 //! skipped with a message, unless `RIPPLECTL_REQUIRE_BROWSER` is set (CI
 //! sets it), when they fail.
 
+mod common;
+
+use common::tools;
 use std::path::Path;
 use std::process::Command;
 
 fn chromium() -> Option<String> {
     let name = std::env::var("RIPPLECTL_CHROMIUM").unwrap_or_else(|_| "chromium".to_string());
-    let found = Command::new(&name).arg("--version").output().is_ok_and(|o| o.status.success());
-    if !found {
-        assert!(
-            std::env::var_os("RIPPLECTL_REQUIRE_BROWSER").is_none(),
-            "chromium is required but not installed"
-        );
-        eprintln!("chromium not installed: browser check skipped (apt-get install chromium)");
-    }
-    found.then_some(name)
+    let found = tools::runs(&name, &["--version"]).then_some(name);
+    tools::found_or_skipped(
+        found,
+        "RIPPLECTL_REQUIRE_BROWSER",
+        "chromium",
+        "apt-get install chromium",
+    )
 }
 
 fn ripplectl(args: &[&str]) {
@@ -84,22 +85,18 @@ fn check(chromium: &str, dir: &Path, expected: &[&str]) {
     assert!(colours > 50, "screenshot has only {colours} colours");
 }
 
+/// The plots of a report on the demo profile, which has four disturbances
+/// (3, 6, 8 and 9 ms).
+const DEMO_PLOTS: [&str; 6] =
+    ["plot-waveforms", "plot-zoom-1", "plot-zoom-2", "plot-zoom-3", "plot-zoom-4", "plot-emission"];
+
 #[test]
 fn simulate_report_renders_in_a_browser() {
     let Some(chromium) = chromium() else { return };
     let dir = tempfile::tempdir().unwrap();
     let out = dir.path().join("run");
     ripplectl(&["simulate", "--out", out.to_str().unwrap()]);
-    // The demo's profile has four disturbances (3, 6, 8 and 9 ms).
-    let expected = [
-        "plot-waveforms",
-        "plot-zoom-1",
-        "plot-zoom-2",
-        "plot-zoom-3",
-        "plot-zoom-4",
-        "plot-emission",
-    ];
-    check(&chromium, &out, &expected);
+    check(&chromium, &out, &DEMO_PLOTS);
 }
 
 #[test]
@@ -115,13 +112,6 @@ fn compare_report_renders_in_a_browser() {
         "--out",
         out.to_str().unwrap(),
     ]);
-    let expected = [
-        "plot-waveforms",
-        "plot-zoom-1",
-        "plot-zoom-2",
-        "plot-zoom-3",
-        "plot-zoom-4",
-        "plot-emission",
-    ];
-    check(&chromium, &out, &expected);
+    // Both profiles disturb at the same times.
+    check(&chromium, &out, &DEMO_PLOTS);
 }

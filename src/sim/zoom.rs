@@ -34,29 +34,16 @@ pub fn runs_svg(
     duration_s: f64,
     title: &str,
 ) -> Result<String, Box<dyn std::error::Error>> {
-    let slices = |lo: fn(&Slice) -> f64, hi: fn(&Slice) -> f64| -> Vec<Band> {
-        runs.iter()
-            .map(|r| {
-                r.slices
-                    .iter()
-                    .filter(|s| s.vo_min_v.is_finite())
-                    .map(|s| (s.t_s * 1e3, lo(s), hi(s)))
-                    .collect()
-            })
-            .collect()
+    let envelope = |lo: fn(&Slice) -> f64, hi: fn(&Slice) -> f64| {
+        bands(runs, |r| r.slices, |s| s.vo_min_v.is_finite().then(|| (s.t_s * 1e3, lo(s), hi(s))))
     };
-    let vo = slices(|s| s.vo_min_v, |s| s.vo_max_v);
-    let il = slices(|s| s.il_min_a, |s| s.il_max_a);
-    let f: Vec<Band> = runs
-        .iter()
-        .map(|r| {
-            r.cycles
-                .iter()
-                .filter(|c| c.period_s.is_finite())
-                .map(|c| (c.t_s * 1e3, 1e-3 / c.period_s, 1e-3 / c.period_s))
-                .collect()
-        })
-        .collect();
+    let vo = envelope(|s| s.vo_min_v, |s| s.vo_max_v);
+    let il = envelope(|s| s.il_min_a, |s| s.il_max_a);
+    let f = bands(
+        runs,
+        |r| r.cycles,
+        |c| c.period_s.is_finite().then(|| (c.t_s * 1e3, 1e-3 / c.period_s, 1e-3 / c.period_s)),
+    );
     stacked_svg(
         runs,
         0.0..duration_s * 1e3,
@@ -73,16 +60,9 @@ pub fn zoom_svg(
     to_s: f64,
     title: &str,
 ) -> Result<String, Box<dyn std::error::Error>> {
-    let cycles = |lo: fn(&Cycle) -> f64, hi: fn(&Cycle) -> f64| -> Vec<Band> {
-        runs.iter()
-            .map(|r| {
-                r.cycles
-                    .iter()
-                    .filter(|c| c.t_s >= from_s && c.t_s <= to_s)
-                    .map(|c| (c.t_s * 1e3, lo(c), hi(c)))
-                    .collect()
-            })
-            .collect()
+    let cycles = |lo: fn(&Cycle) -> f64, hi: fn(&Cycle) -> f64| {
+        let inside = |c: &Cycle| c.t_s >= from_s && c.t_s <= to_s;
+        bands(runs, |r| r.cycles, move |c| inside(c).then(|| (c.t_s * 1e3, lo(c), hi(c))))
     };
     let vo = cycles(|c| c.vo_min_v, |c| c.vo_max_v);
     let il = cycles(|c| c.il_min_a, |c| c.il_max_a);
@@ -92,6 +72,15 @@ pub fn zoom_svg(
         title,
         &[(vo, "output (V), per cycle"), (il, "inductor (A), per cycle")],
     )
+}
+
+/// One band per run: the points `point` makes of the items `items` picks.
+fn bands<'a, T: 'a>(
+    runs: &[RunView<'a>],
+    items: impl Fn(&RunView<'a>) -> &'a [T],
+    point: impl Fn(&T) -> Option<(f64, f64, f64)>,
+) -> Vec<Band> {
+    runs.iter().map(|r| items(r).iter().filter_map(&point).collect()).collect()
 }
 
 /// The zoom span around a disturbance at `t_s` within a run of

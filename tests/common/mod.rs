@@ -2,6 +2,7 @@
 #![allow(dead_code)]
 
 pub mod plants;
+pub mod tools;
 
 use ripplectl::{AdcChannel, Command, Instant, Law};
 
