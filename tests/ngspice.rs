@@ -8,22 +8,11 @@
 mod common;
 
 use common::plants::near_ideal;
+use common::tools::ngspice_available;
 use ripplectl::sim::netlist::{parse_wrdata, steady_figures, Drive, Netlist};
 use ripplectl::sim::open_loop::{run_fixed_duty, FixedDuty};
 use ripplectl::sim::plant::{Environment, PlantParams};
 use std::process::Command;
-
-fn ngspice_available() -> bool {
-    let found = Command::new("ngspice").arg("--version").output().is_ok_and(|o| o.status.success());
-    if !found {
-        assert!(
-            std::env::var_os("RIPPLECTL_REQUIRE_NGSPICE").is_none(),
-            "ngspice is required but not installed"
-        );
-        eprintln!("ngspice not installed: cross-check skipped (apt-get install ngspice)");
-    }
-    found
-}
 
 /// Run ngspice on the netlist; returns (mean output, inductor ripple) over
 /// the last `measured` seconds.

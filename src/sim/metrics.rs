@@ -2,6 +2,8 @@
 //! contract (`ripplectl simulate --json`).
 
 use super::accounting::{regulating_windows, steady_efficiency};
+use super::audible::{self, Audible};
+use super::emission::{EmissionSummary, Estimate};
 use super::engine::RunOutput;
 use super::plant::EnergyLedger;
 use super::record::Cycle;
@@ -93,6 +95,10 @@ pub struct Summary {
     pub efficiency_note: Option<String>,
     /// How the output rode each disturbance.
     pub transients: Vec<Transient>,
+    /// Audible-band figures (null without a steady window long enough).
+    pub audible: Option<Audible>,
+    /// Conducted-emission estimate ([`Summary::with_emission`]).
+    pub emission: EmissionSummary,
 }
 
 /// `a / b`, or NaN when `b` is zero.
@@ -104,7 +110,8 @@ fn ratio(a: f64, b: f64) -> f64 {
     }
 }
 
-fn steady_cycles<'a>(out: &'a RunOutput) -> impl Iterator<Item = &'a Cycle> + 'a {
+/// The completed cycles that start in a steady window.
+pub fn steady_cycles<'a>(out: &'a RunOutput) -> impl Iterator<Item = &'a Cycle> + 'a {
     out.recorder.cycles.iter().filter(|c| c.period_s.is_finite() && out.recorder.is_steady(c.t_s))
 }
 
@@ -183,6 +190,17 @@ impl Summary {
             steady_s,
             efficiency_note: efficiency.note(),
             transients: out.recorder.transients.figures(&out.recorder.cycles),
+            audible: audible::analyse(out),
+            emission: EmissionSummary::NotAvailable {
+                reason: "not estimated for this summary".to_string(),
+            },
         }
+    }
+
+    /// The summary with a run's emission estimate, or the reason it has
+    /// none ([`super::emission::estimate`]).
+    pub fn with_emission(mut self, estimate: &Result<Estimate, String>) -> Self {
+        self.emission = EmissionSummary::of(estimate);
+        self
     }
 }

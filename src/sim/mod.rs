@@ -26,15 +26,21 @@
 //! | [`transient`] | undershoot, overshoot and recovery at each disturbance |
 
 pub mod accounting;
+pub mod audible;
 pub mod build;
+pub mod cells;
+pub mod compare;
+pub mod emission;
 pub mod engine;
 pub mod firmware;
 pub mod hardware;
+pub mod html;
 pub mod linear;
 pub mod mcu;
 pub mod metrics;
 pub mod netlist;
 pub mod open_loop;
+pub mod pages;
 pub mod peripherals;
 pub mod plant;
 pub mod plot;
@@ -46,6 +52,7 @@ pub mod scenario;
 pub mod sweep;
 pub mod tolerance;
 pub mod transient;
+pub mod zoom;
 
 pub use engine::{run, run_firmware, run_with, RunError, RunOutput};
 pub use firmware::{Firmware, StackFirmware};

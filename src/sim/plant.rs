@@ -166,6 +166,10 @@ pub struct PlantParams {
     /// Core loss, if modelled.
     #[serde(default)]
     pub core: Option<CoreLoss>,
+    /// The input capacitor, for the conducted-emission estimate only (the
+    /// time-domain stage sees the ideal source and `r_source_ohm`).
+    #[serde(default)]
+    pub input_capacitor: Option<super::emission::InputCapacitor>,
 }
 
 /// What drives the plant during a segment: input voltage and load, each

@@ -7,17 +7,19 @@ use crate::guard::WindowConfig;
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 
-const VOUT: RGBColor = RGBColor(0x1b, 0x6f, 0x6a);
-const IL_TRUE: RGBColor = RGBColor(0xc8, 0x6b, 0x1f);
-const IL_EST: RGBColor = RGBColor(0x5a, 0x3e, 0x8e);
-const GATE: RGBColor = RGBColor(0x3b, 0x3b, 0x3b);
-const LIMIT: RGBColor = RGBColor(0x9a, 0x9a, 0x9a);
+pub(crate) const VOUT: RGBColor = RGBColor(0x1b, 0x6f, 0x6a);
+pub(crate) const IL_TRUE: RGBColor = RGBColor(0xc8, 0x6b, 0x1f);
+pub(crate) const IL_EST: RGBColor = RGBColor(0x5a, 0x3e, 0x8e);
+pub(crate) const GATE: RGBColor = RGBColor(0x3b, 0x3b, 0x3b);
+pub(crate) const LIMIT: RGBColor = RGBColor(0x9a, 0x9a, 0x9a);
+/// One colour per run when runs share a plot.
+pub(crate) const RUNS: [RGBColor; 2] = [VOUT, IL_TRUE];
 
-type PlotResult = Result<(), Box<dyn std::error::Error>>;
+pub(crate) type PlotResult = Result<(), Box<dyn std::error::Error>>;
 /// A polyline in plot coordinates.
 type Polyline = Vec<(f64, f64)>;
 
-fn range(values: impl Iterator<Item = f64>, pad: f64) -> std::ops::Range<f64> {
+pub(crate) fn range(values: impl Iterator<Item = f64>, pad: f64) -> std::ops::Range<f64> {
     let (lo, hi) = values
         .filter(|v| v.is_finite())
         .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(v), b.max(v)));
@@ -29,9 +31,10 @@ fn range(values: impl Iterator<Item = f64>, pad: f64) -> std::ops::Range<f64> {
 }
 
 /// A chart of one quantity against time in ms, our panel style.
-type TimeChart<'a, DB> = ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+pub(crate) type TimeChart<'a, DB> =
+    ChartContext<'a, DB, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
 
-fn time_panel<'a, DB: DrawingBackend>(
+pub(crate) fn time_panel<'a, DB: DrawingBackend>(
     area: &'a DrawingArea<DB, plotters::coord::Shift>,
     t_ms: std::ops::Range<f64>,
     y: std::ops::Range<f64>,
@@ -49,7 +52,7 @@ where
     Ok(chart)
 }
 
-fn legend_box<'a, DB: DrawingBackend + 'a>(chart: &mut TimeChart<'a, DB>) -> PlotResult
+pub(crate) fn legend_box<'a, DB: DrawingBackend + 'a>(chart: &mut TimeChart<'a, DB>) -> PlotResult
 where
     DB::ErrorType: 'static,
 {

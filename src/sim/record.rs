@@ -7,8 +7,17 @@
 //! windows only; extremes (peak current, minimum on/off-times) use the whole
 //! run.
 
+use super::cells::CellGrid;
 use super::plant::EnergyLedger;
 use super::transient::TransientTracker;
+
+/// Cell width of the inductor-current record in the steady windows, s.
+pub const IL_CELL_S: f64 = 0.25e-6;
+
+/// The longest stretch of a steady window the inductor-current record
+/// keeps (its end), s: 2²⁰ cells, enough for the audible band's lowest
+/// frequencies many times over.
+pub const IL_RECORD_S: f64 = 0.25;
 
 /// One switching cycle, from a turn-on to the next.
 #[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
@@ -29,6 +38,10 @@ pub struct Cycle {
     pub vo_min_v: f64,
     /// Highest estimated inductor current in the cycle, A (NaN: none).
     pub il_est_max_a: f64,
+    /// Inductor current at the turn-on, A.
+    pub il_on_a: f64,
+    /// Inductor current at the turn-off, A (NaN until the gate turns off).
+    pub il_off_a: f64,
 }
 
 /// Waveform envelope over one slice of time, for plots and CSV.
@@ -121,6 +134,9 @@ pub struct Recorder {
     pub slices: Vec<Slice>,
     /// Steady windows.
     pub windows: Vec<Window>,
+    /// The inductor current over each steady window (same order), as cell
+    /// averages of at most [`IL_CELL_S`].
+    pub il_cells: Vec<CellGrid>,
     slice_s: f64,
     slices_per_s: f64,
     /// Index of the first window not yet ended (observations come in time
@@ -147,7 +163,7 @@ impl Recorder {
         let mut edges = vec![0.0];
         edges.extend(disturbances.iter().copied().filter(|&t| t > 0.0 && t < duration_s));
         edges.push(duration_s);
-        let windows = edges
+        let windows: Vec<Window> = edges
             .windows(2)
             .filter(|w| w[1] > w[0])
             .map(|w| Window {
@@ -159,10 +175,17 @@ impl Recorder {
             })
             .collect();
         let slice_s = duration_s / slices.max(1) as f64;
+        // At most the last IL_RECORD_S of each window: memory stays bounded
+        // however long the run.
+        let il_cells = windows
+            .iter()
+            .map(|w| CellGrid::covering(w.from_s.max(w.to_s - IL_RECORD_S), w.to_s, IL_CELL_S))
+            .collect();
         Self {
             cycles: Vec::new(),
             slices: (0..slices.max(1)).map(|k| Slice::empty(k as f64 * slice_s)).collect(),
             windows,
+            il_cells,
             slice_s,
             slices_per_s: 1.0 / slice_s,
             window_cursor: 0,
@@ -244,6 +267,9 @@ impl Recorder {
         if mid < w.from_s {
             return;
         }
+        if let Some(cells) = self.il_cells.get_mut(self.window_cursor) {
+            cells.add_segment((prev.t_s, prev.il_a), (o.t_s, o.il_a));
+        }
         w.vo_integral += 0.5 * (prev.vo_v + o.vo_v) * dt;
         w.vo_min_v = w.vo_min_v.min(o.vo_v);
         w.vo_max_v = w.vo_max_v.max(o.vo_v);
@@ -297,16 +323,21 @@ impl Recorder {
             vo_max_v: o.vo_v,
             vo_min_v: o.vo_v,
             il_est_max_a: o.il_est_a,
+            il_on_a: o.il_a,
+            il_off_a: f64::NAN,
         });
         done
     }
 
-    /// The gate turned off.
+    /// The gate turned off. The circuit at `t_s` is the last observation
+    /// (the engine observes the circuit up to an edge before carrying it out).
     pub fn fall(&mut self, t_s: f64) {
+        let il_now = self.last.filter(|o| o.t_s == t_s).map_or(f64::NAN, |o| o.il_a);
         if let Some(r) = self.rise {
             self.on_min_s = self.on_min_s.min(t_s - r);
             if let Some(c) = self.current.as_mut() {
                 c.on_s = t_s - r;
+                c.il_off_a = il_now;
             }
         }
         self.fall = Some(t_s);

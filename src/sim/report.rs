@@ -1,5 +1,7 @@
 //! The terminal report and the CSV files of a run.
 
+use super::audible::Audible;
+use super::emission::EmissionSummary;
 use super::metrics::Summary;
 use super::record::{Cycle, Slice};
 use crate::guard::WindowConfig;
@@ -37,12 +39,19 @@ fn percent(x: Option<f64>) -> String {
 
 /// The human-readable report.
 pub fn table(s: &Summary, window: &WindowConfig) -> String {
-    let mut out = String::new();
     let rule = "─".repeat(72);
-    let error_pct = 100.0 * (s.vout_mean_v - s.vout_setpoint_v) / s.vout_setpoint_v;
-    let mut row = |label: &str, text: String| {
+    let mut out = String::new();
+    for (label, text) in rows(s, window) {
         let _ = writeln!(out, "  {label:<14}{text}");
-    };
+    }
+    format!("{rule}\n{out}{rule}\n")
+}
+
+/// The report's rows: label and text (a continued row has an empty label).
+pub fn rows(s: &Summary, window: &WindowConfig) -> Vec<(String, String)> {
+    let mut out = Vec::new();
+    let error_pct = 100.0 * (s.vout_mean_v - s.vout_setpoint_v) / s.vout_setpoint_v;
+    let mut row = |label: &str, text: String| out.push((label.to_string(), text));
     row("scenario", s.scenario.clone());
     row(
         "regulation",
@@ -133,6 +142,8 @@ pub fn table(s: &Summary, window: &WindowConfig) -> String {
     for (k, t) in s.transients.iter().enumerate() {
         row(if k == 0 { "transients" } else { "" }, t.line());
     }
+    row("audible", audible_text(s.audible.as_ref()));
+    row("emission", emission_text(&s.emission));
     row("faults", faults);
     row(
         "run",
@@ -144,7 +155,36 @@ pub fn table(s: &Summary, window: &WindowConfig) -> String {
             eng(s.wall_s, "s")
         ),
     );
-    format!("{rule}\n{out}{rule}\n")
+    out
+}
+
+/// The audible-band figures in one line.
+pub fn audible_text(a: Option<&Audible>) -> String {
+    let Some(a) = a else {
+        return "n/a (no steady window long enough to resolve 20 kHz)".to_string();
+    };
+    format!(
+        "strongest below 20 kHz {:+.1} dB re {} at {}   periods over 50 µs {:.1} % of steady time",
+        a.strongest_dbc,
+        eng(a.fundamental_hz, "Hz"),
+        eng(a.strongest_hz, "Hz"),
+        100.0 * a.slow_period_share
+    )
+}
+
+/// The emission estimate in one line.
+pub fn emission_text(e: &EmissionSummary) -> String {
+    match e {
+        EmissionSummary::Estimated {
+            class, margin_db, margin_hz, margin_detector, peak_max_dbuv, peak_max_hz,
+        } => format!(
+            "CISPR 32 class {class:?}: margin {margin_db:.1} dB at {} ({})   highest peak {peak_max_dbuv:.1} dBµV at {}",
+            eng(*margin_hz, "Hz"),
+            margin_detector.name(),
+            eng(*peak_max_hz, "Hz")
+        ),
+        EmissionSummary::NotAvailable { reason } => format!("not available: {reason}"),
+    }
 }
 
 /// The envelope slices as CSV.

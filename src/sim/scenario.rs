@@ -5,6 +5,7 @@
 //! physical consistency (a negative inductance, an output the input can
 //! never reach), and [`ScenarioError`] names the key and its line.
 
+use super::emission::EmissionParams;
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, Load, LoadChange, Profile};
 use super::tolerance::ToleranceParams;
@@ -224,6 +225,9 @@ pub struct Scenario {
     /// defaults.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub tolerance: Option<ToleranceParams>,
+    /// Conducted-emission estimate: limit class and input filter.
+    #[serde(default)]
+    pub emission: EmissionParams,
 }
 
 /// Largest ADC gain error a scenario may give (±50 %): beyond it the
@@ -340,8 +344,26 @@ impl Scenario {
             t.validate()?;
         }
         self.validate_control()?;
+        self.validate_emission()?;
         // The firmware's own checks, each refusal on its key.
         super::build::check(self)
+    }
+
+    fn validate_emission(&self) -> Result<(), ScenarioError> {
+        if let Some(c) = self.plant.input_capacitor {
+            positive("plant.input_capacitor.c_f", c.c_f)?;
+            non_negative("plant.input_capacitor.esr_ohm", c.esr_ohm)?;
+            non_negative("plant.input_capacitor.esl_h", c.esl_h)?;
+        }
+        if let Some(f) = self.emission.filter {
+            positive("emission.filter.l_h", f.l_h)?;
+            positive("emission.filter.c_f", f.c_f)?;
+            positive("emission.filter.damping_r_ohm", f.damping_r_ohm)?;
+            positive("emission.filter.damping_c_f", f.damping_c_f)?;
+            non_negative("emission.filter.c_esl_h", f.c_esl_h)?;
+            non_negative("emission.filter.l_epc_f", f.l_epc_f)?;
+        }
+        Ok(())
     }
 
     fn validate_plant(&self) -> Result<(), ScenarioError> {

@@ -3,6 +3,7 @@
 
 pub mod plants;
 pub mod program;
+pub mod tools;
 
 use ripplectl::{AdcChannel, Command, Instant, Law, LightLoad, WindowConfig};
 

@@ -21,5 +21,6 @@ pub fn near_ideal(l_h: f64, c_f: f64, esr_ohm: f64, dcr_ohm: f64) -> PlantParams
         gate_charge_c: 0.0,
         gate_drive_v: 0.0,
         core: None,
+        input_capacitor: None,
     }
 }

@@ -1,6 +1,7 @@
 //! `ripplectl`: run the firmware's control code against a simulated buck
 //! converter before flashing it.
 
+mod compare;
 mod failure;
 mod progress;
 mod simulate;
@@ -29,11 +30,25 @@ enum Command {
         /// Scenario file (TOML); see the README for the schema.
         #[arg(long)]
         scenario: Option<PathBuf>,
-        /// Write waveforms (CSV), a plot (SVG), the report and the JSON
-        /// summary into this directory.
+        /// Write waveforms (CSV), plots (SVG), the emission spectrum, the
+        /// report (text and HTML) and the JSON summary into this directory.
         #[arg(long)]
         out: Option<PathBuf>,
         /// Print the summary as JSON on stdout instead of the table.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Run two scenarios and print their figures side by side with the
+    /// differences (second minus first).
+    Compare {
+        /// First scenario file (TOML), e.g. the board's existing loop.
+        first: PathBuf,
+        /// Second scenario file (TOML), e.g. the firmware loop.
+        second: PathBuf,
+        /// Write one HTML report with both runs overlaid into this directory.
+        #[arg(long)]
+        out: Option<PathBuf>,
+        /// Print both summaries as JSON (`first`, `second`) instead of the table.
         #[arg(long)]
         json: bool,
     },
@@ -92,6 +107,9 @@ fn main() -> ExitCode {
     let result = match &cli.command {
         Command::Simulate { scenario, out, json } => {
             simulate::simulate(scenario.as_deref(), out.as_deref(), *json)
+        }
+        Command::Compare { first, second, out, json } => {
+            compare::compare(first, second, out.as_deref(), *json)
         }
         Command::Sweep { scenario, vin, load, duration, out, json } => {
             sweep::sweep(scenario.as_deref(), vin, load, *duration, out.as_deref(), *json)
