@@ -1,0 +1,172 @@
+//! Events inside a segment, found on its closed form: the diode current
+//! reaching zero (DCM), a saturation-band edge, a watched output level.
+
+use super::conduction::Conduction;
+use super::Plant;
+use crate::sim::linear::{Trajectory, Vec2};
+
+/// A level crossing of the output voltage to stop at (comparator input).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Watch {
+    /// Output voltage threshold, V.
+    pub level_v: f64,
+    /// Stop when the output rises through the level (else: falls).
+    pub rising: bool,
+}
+
+/// Why [`Plant::advance`] stopped.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Stop {
+    /// The whole interval was simulated.
+    Reached,
+    /// The diode current reached zero after this many seconds (DCM).
+    CurrentZero(f64),
+    /// The current crossed a saturation-band edge after this many seconds.
+    BandEdge(f64),
+    /// The watched level was crossed after this many seconds.
+    Crossing(f64),
+}
+
+/// An affine function of the state, `c·x + k₀ + k₁·τ`, whose zero is an
+/// event.
+#[derive(Clone, Copy, Debug)]
+struct Level {
+    c: Vec2,
+    k0: f64,
+    k1: f64,
+}
+
+impl Level {
+    /// The inductor current less `amps`.
+    fn current(amps: f64) -> Self {
+        Self { c: [1.0, 0.0], k0: -amps, k1: 0.0 }
+    }
+
+    fn value(&self, x: &Vec2, tau: f64) -> f64 {
+        self.c[0] * x[0] + self.c[1] * x[1] + self.k0 + self.k1 * tau
+    }
+}
+
+/// A segment from the plant's state: its closed form, length, and the
+/// states at its middle and end.
+pub(super) struct Segment<'a> {
+    pub trajectory: Trajectory<'a>,
+    pub tau0: f64,
+    pub dt: f64,
+    pub mid: Vec2,
+    pub end: Vec2,
+}
+
+impl Plant {
+    /// The earliest event inside `(0, dt]`, if any.
+    pub(super) fn first_event(
+        &self,
+        seg: &Segment<'_>,
+        watch: Option<Watch>,
+    ) -> Option<(f64, Stop)> {
+        let mut best: Option<(f64, Stop)> = None;
+        let mut consider = |level: Level, make: fn(f64) -> Stop| {
+            if let Some(tau) = root(seg, &level) {
+                if best.is_none_or(|(b, _)| tau < b) {
+                    best = Some((tau, make(tau)));
+                }
+            }
+        };
+        let (im, i1) = (seg.mid[0], seg.end[0]);
+        let ends_wrong_sign = match self.mode {
+            Conduction::Diode => i1 <= 0.0 || im <= 0.0,
+            Conduction::HighBody => i1 >= 0.0 || im >= 0.0,
+            _ => false,
+        };
+        if ends_wrong_sign {
+            consider(Level::current(0.0), Stop::CurrentZero);
+        }
+        if let Some(sat) = self.params.saturation {
+            if self.outside_band(i1) || self.outside_band(im) {
+                let rising = sat.band(i1.abs().max(im.abs())) > self.band;
+                let edge = sat.lower_edge(if rising { self.band + 1 } else { self.band });
+                let sign = if i1 < 0.0 { -1.0 } else { 1.0 };
+                consider(Level::current(sign * edge), Stop::BandEdge);
+            }
+        }
+        if let Some(w) = watch {
+            // v_o is affine in the state: α·(ESR·i + v_C − ESR·I₀ − ESR·I₁·τ).
+            let (a, esr) = (self.alpha, self.params.esr_ohm);
+            let level = Level {
+                c: [a * esr, a],
+                k0: -a * esr * self.env.load_i_a - w.level_v,
+                k1: -a * esr * self.env.load_i_slope,
+            };
+            let crossed = |x: &Vec2, t: f64| {
+                let v = level.value(x, seg.tau0 + t);
+                if w.rising {
+                    v >= 0.0
+                } else {
+                    v <= 0.0
+                }
+            };
+            if crossed(&seg.mid, 0.5 * seg.dt) || crossed(&seg.end, seg.dt) {
+                consider(level, Stop::Crossing);
+            }
+        }
+        best
+    }
+
+    fn outside_band(&self, i: f64) -> bool {
+        let a = i.abs();
+        a < self.band_range.0 || a >= self.band_range.1
+    }
+}
+
+/// First `t ∈ (0, dt]` where `level` changes sign along the segment: the
+/// first sign change on eight equal steps, then safeguarded Newton
+/// iteration on the closed form. The result lies just past the crossing,
+/// so the caller lands on its far side.
+fn root(seg: &Segment<'_>, level: &Level) -> Option<f64> {
+    let f = |t: f64| -> (f64, f64) {
+        let x = seg.trajectory.at(t);
+        let dx = seg.trajectory.rate(&x, t);
+        let tau = seg.tau0 + t;
+        (level.value(&x, tau), level.c[0] * dx[0] + level.c[1] * dx[1] + level.k1)
+    };
+    let (f_lo, _) = f(0.0);
+    let crossed = |fv: f64| fv == 0.0 || fv.signum() != f_lo.signum();
+    let mut lo = 0.0;
+    let mut hi = None;
+    for k in 1..=8 {
+        let t = seg.dt * f64::from(k) / 8.0;
+        if crossed(f(t).0) {
+            hi = Some(t);
+            break;
+        }
+        lo = t;
+    }
+    let mut hi = hi?;
+    let mut t = 0.5 * (lo + hi);
+    for _ in 0..60 {
+        let (fv, dfv) = f(t);
+        if crossed(fv) {
+            hi = t;
+        } else {
+            lo = t;
+        }
+        let newton = t - fv / dfv;
+        t = if dfv != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+        if hi - lo < 1e-15 {
+            break;
+        }
+        if (fv / dfv).abs() < 1e-16 {
+            // Converged from one side: step just across the root.
+            let mut probe = (fv / dfv).abs().max(1e-16);
+            while lo + probe < hi {
+                if crossed(f(lo + probe).0) {
+                    hi = lo + probe;
+                    break;
+                }
+                probe *= 4.0;
+            }
+            break;
+        }
+    }
+    Some(hi)
+}
