@@ -12,7 +12,7 @@
 //!   `e^{A·t} = P(t)·I + Q(t)·N`: `P = e^{s·t}·cos(ω·t)`,
 //!   `Q = e^{s·t}·sin(ω·t)/ω` for `Δ = −ω² < 0`, the hyperbolic
 //!   counterparts `(e^{λ₁t} ± e^{λ₂t})/2` over the eigenvalues for `Δ > 0`.
-//!   Short steps (`ρ·t ≤ 1/8`, `ρ` the larger eigenvalue magnitude) sum the
+//!   Short steps (`ρ·t ≤ 1/16`, `ρ` the larger eigenvalue magnitude) sum the
 //!   Taylor series of `P` and `Q`, whose coefficients are prepared with
 //!   the system; near `Δ·t² = 0` (critical damping) the even and odd series
 //!   of `cosh(√Δ·t)` and `sinh(√Δ·t)/√Δ` replace the closed forms. So
@@ -80,11 +80,11 @@ enum Form {
 }
 
 /// Terms of the Taylor series of `P` and `Q` kept for short steps.
-const TAYLOR_TERMS: usize = 11;
+const TAYLOR_TERMS: usize = 10;
 
 /// Largest `ρ·h` (`ρ` the larger eigenvalue magnitude) evaluated by the
-/// Taylor series; the first term left out is below `(1/8)¹¹/11! < 3e-18`.
-const TAYLOR_LIMIT: f64 = 1.0 / 8.0;
+/// Taylor series; the first term left out is below `(1/16)¹⁰/10! < 3e-19`.
+const TAYLOR_LIMIT: f64 = 1.0 / 16.0;
 
 #[derive(Clone, Copy, Debug, PartialEq)]
 struct Coupled {

@@ -50,11 +50,12 @@ impl Level {
 /// A segment from the plant's state: its closed form, length, and the
 /// states at its middle and end.
 pub(super) struct Segment<'a> {
-    pub trajectory: Trajectory<'a>,
+    pub trajectory: &'a Trajectory<'a>,
     pub tau0: f64,
     pub dt: f64,
-    pub mid: Vec2,
-    pub end: Vec2,
+    pub start: &'a Vec2,
+    pub mid: &'a Vec2,
+    pub end: &'a Vec2,
 }
 
 impl Plant {
@@ -105,7 +106,7 @@ impl Plant {
                     v <= 0.0
                 }
             };
-            if crossed(&seg.mid, 0.5 * seg.dt) || crossed(&seg.end, seg.dt) {
+            if crossed(seg.mid, 0.5 * seg.dt) || crossed(seg.end, seg.dt) {
                 consider(level, Stop::Crossing);
             }
         }
@@ -120,53 +121,69 @@ impl Plant {
 
 /// First `t ∈ (0, dt]` where `level` changes sign along the segment: the
 /// first sign change on eight equal steps, then safeguarded Newton
-/// iteration on the closed form. The result lies just past the crossing,
-/// so the caller lands on its far side.
+/// iteration on the closed form. The result lies just past the crossing
+/// (within a few 1e-16 s), so the caller lands on its far side.
 fn root(seg: &Segment<'_>, level: &Level) -> Option<f64> {
-    let f = |t: f64| -> (f64, f64) {
-        let x = seg.trajectory.at(t);
-        let dx = seg.trajectory.rate(&x, t);
-        let tau = seg.tau0 + t;
-        (level.value(&x, tau), level.c[0] * dx[0] + level.c[1] * dx[1] + level.k1)
-    };
-    let (f_lo, _) = f(0.0);
-    let crossed = |fv: f64| fv == 0.0 || fv.signum() != f_lo.signum();
-    let mut lo = 0.0;
-    let mut hi = None;
+    let value = |x: &Vec2, t: f64| level.value(x, seg.tau0 + t);
+    let f_start = value(seg.start, 0.0);
+    let crossed = |fv: f64| fv == 0.0 || fv.signum() != f_start.signum();
+    let (mut lo, mut f_lo) = (0.0, f_start);
+    let mut bracket = None;
     for k in 1..=8 {
         let t = seg.dt * f64::from(k) / 8.0;
-        if crossed(f(t).0) {
-            hi = Some(t);
+        let fv = match k {
+            4 => value(seg.mid, t),
+            8 => value(seg.end, t),
+            _ => value(&seg.trajectory.at(t), t),
+        };
+        if crossed(fv) {
+            bracket = Some((t, fv));
             break;
         }
-        lo = t;
+        (lo, f_lo) = (t, fv);
     }
-    let mut hi = hi?;
-    let mut t = 0.5 * (lo + hi);
+    let (mut hi, f_hi) = bracket?;
+    // Regula falsi for a start, then Newton kept inside the bracket.
+    let mut t = lo + (hi - lo) * f_lo / (f_lo - f_hi);
     for _ in 0..60 {
-        let (fv, dfv) = f(t);
+        let x = seg.trajectory.at(t);
+        let dx = seg.trajectory.rate(&x, t);
+        let (fv, dfv) = (value(&x, t), level.c[0] * dx[0] + level.c[1] * dx[1] + level.k1);
         if crossed(fv) {
             hi = t;
         } else {
             lo = t;
         }
-        let newton = t - fv / dfv;
+        let step = fv / dfv;
+        if hi - lo < 1e-15 || step.abs() < 1e-16 {
+            return Some(if crossed(fv) {
+                t
+            } else {
+                step_across(seg, &value, &crossed, t, step, hi)
+            });
+        }
+        let newton = t - step;
         t = if dfv != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
-        if hi - lo < 1e-15 {
-            break;
-        }
-        if (fv / dfv).abs() < 1e-16 {
-            // Converged from one side: step just across the root.
-            let mut probe = (fv / dfv).abs().max(1e-16);
-            while lo + probe < hi {
-                if crossed(f(lo + probe).0) {
-                    hi = lo + probe;
-                    break;
-                }
-                probe *= 4.0;
-            }
-            break;
-        }
     }
     Some(hi)
+}
+
+/// From `t` just short of a root `step` away, the first point past it:
+/// probes at growing distances, never beyond `hi` (known to be past).
+fn step_across(
+    seg: &Segment<'_>,
+    value: &impl Fn(&Vec2, f64) -> f64,
+    crossed: &impl Fn(f64) -> bool,
+    t: f64,
+    step: f64,
+    hi: f64,
+) -> f64 {
+    let mut probe = step.abs().max(1e-16) * 2.0;
+    while t + probe < hi {
+        if crossed(value(&seg.trajectory.at(t + probe), t + probe)) {
+            return t + probe;
+        }
+        probe *= 4.0;
+    }
+    hi
 }

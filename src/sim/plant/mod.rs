@@ -222,15 +222,22 @@ impl Plant {
         let x0 = [self.i_l, self.v_c];
         let trajectory = self.solution.start_at(x0, self.tau);
         let (mid, end) = trajectory.midpoint_and_end(dt);
-        let seg = Segment { trajectory, tau0: self.tau, dt, mid, end };
+        let seg = Segment {
+            trajectory: &trajectory,
+            tau0: self.tau,
+            dt,
+            start: &x0,
+            mid: &mid,
+            end: &end,
+        };
+        let i_heading = end[0];
         let (t, stop, mid, end) = match self.first_event(&seg, watch) {
             Some((t, stop)) => {
-                let (mid, end) = seg.trajectory.midpoint_and_end(t);
+                let (mid, end) = trajectory.midpoint_and_end(t);
                 (t, stop, mid, end)
             }
             None => (dt, Stop::Reached, mid, end),
         };
-        let i_heading = seg.end[0];
         self.accumulate(t, &x0, &mid, &end);
         self.i_l = end[0];
         self.v_c = end[1];
