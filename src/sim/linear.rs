@@ -149,6 +149,7 @@ impl Solution {
     }
 
     /// The trajectory from state `x0` at time `tau0`.
+    #[inline]
     pub fn start_at(&self, x0: Vec2, tau0: f64) -> Trajectory<'_> {
         let (y0, w0) = match &self.form {
             Form::Coupled(c) => {
@@ -163,6 +164,7 @@ impl Solution {
         Trajectory { solution: self, tau0, y0, w0 }
     }
 
+    #[inline]
     fn flow(&self, t: f64) -> Flow {
         match &self.form {
             Form::Coupled(c) => c.flow(t),
@@ -171,6 +173,7 @@ impl Solution {
     }
 
     /// The flow over `2h` from the flow over `h`.
+    #[inline]
     fn doubled(&self, f: &Flow, h: f64) -> Flow {
         match &self.form {
             Form::Coupled(c) => {
@@ -200,6 +203,7 @@ fn taylor_coefficients(s: f64, det: f64) -> [[f64; 2]; TAYLOR_TERMS] {
 }
 
 impl Coupled {
+    #[inline]
     fn flow(&self, t: f64) -> Flow {
         if self.radius * t <= TAYLOR_LIMIT {
             let (mut p, mut q) = (0.0, 0.0);
@@ -290,6 +294,7 @@ impl Trajectory<'_> {
     }
 
     /// The states at `t/2` and at `t`.
+    #[inline]
     pub fn midpoint_and_end(&self, t: f64) -> (Vec2, Vec2) {
         let h = 0.5 * t;
         let half = self.solution.flow(h);
@@ -302,6 +307,7 @@ impl Trajectory<'_> {
         self.solution.system.rate(x, self.tau0 + t)
     }
 
+    #[inline]
     fn state(&self, f: &Flow, t: f64) -> Vec2 {
         let (y, w) = (&self.y0, &self.w0);
         match &self.solution.form {
