@@ -13,7 +13,7 @@
 
 use super::params::{Environment, PlantParams, Stage};
 use super::saturation::TOP_BAND;
-use crate::sim::linear::{Solution, System};
+use crate::sim::linear::{Affine, Solution, System};
 
 /// Which path carries the inductor current.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -55,13 +55,15 @@ fn switch_node(p: &PlantParams, env: &Environment, mode: Conduction) -> (f64, f6
 }
 
 /// `α = 1/(1 + ESR·G)`: the share of the capacitor branch in the output.
-pub fn alpha(p: &PlantParams, env: &Environment) -> f64 {
+fn alpha(p: &PlantParams, env: &Environment) -> f64 {
     1.0 / (1.0 + p.esr_ohm * env.load_g_s)
 }
 
-/// Output voltage `α·(v_C + ESR·(i_L − I₀))` at a state and time, V.
-pub fn output_v(p: &PlantParams, env: &Environment, alpha: f64, i: f64, v_c: f64, tau: f64) -> f64 {
-    alpha * (v_c + p.esr_ohm * (i - env.load_i_at(tau)))
+/// The output voltage as an affine function of the state and `τ`:
+/// `v_o = α·(v_C + ESR·(i_L − I₀ − I₁·τ))`, V.
+pub fn output_map(p: &PlantParams, env: &Environment) -> Affine {
+    let (a, esr) = (alpha(p, env), p.esr_ohm);
+    Affine { c: [a * esr, a], k0: -a * esr * env.load_i_a, k1: -a * esr * env.load_i_slope }
 }
 
 /// The system `x' = A·x + b₀ + b₁·τ`, `x = [i_L, v_C]`, of a mode and band.

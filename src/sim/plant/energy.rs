@@ -8,8 +8,9 @@
 //! drawn from the source as energy per edge or per cycle, so the true
 //! efficiency includes them.
 
-use super::conduction::{output_v, Conduction};
+use super::conduction::Conduction;
 use super::params::{Environment, PlantParams, Stage};
+use crate::sim::linear::Affine;
 use serde::Serialize;
 
 /// A loss term.
@@ -163,7 +164,7 @@ impl Integrals {
     /// `∫` over a segment of `dt` by Simpson's rule, from the values at its
     /// start, middle and end.
     pub fn simpson(dt: f64, a: &Self, m: &Self, b: &Self) -> Self {
-        let w = dt / 6.0;
+        let w = dt * (1.0 / 6.0);
         let rule = |fa: f64, fm: f64, fb: f64| w * (fa + 4.0 * fm + fb);
         Self {
             vin_i: rule(a.vin_i, m.vin_i, b.vin_i),
@@ -181,8 +182,8 @@ pub struct PowerModel<'a> {
     pub params: &'a PlantParams,
     /// The drive.
     pub env: &'a Environment,
-    /// `1/(1 + ESR·G)`.
-    pub alpha: f64,
+    /// The output voltage's map from the state.
+    pub output: &'a Affine,
     /// The conduction mode.
     pub mode: Conduction,
 }
@@ -191,7 +192,7 @@ impl PowerModel<'_> {
     /// The integrands at inductor current `i`, capacitor voltage `v_c`,
     /// time `tau`.
     pub fn at(&self, i: f64, v_c: f64, tau: f64) -> Integrals {
-        let v_o = output_v(self.params, self.env, self.alpha, i, v_c, tau);
+        let v_o = self.output.value(&[i, v_c], tau);
         let i_load = self.env.load_g_s * v_o + self.env.load_i_at(tau);
         let i_c = i - i_load;
         Integrals {

@@ -3,7 +3,7 @@
 
 use super::conduction::Conduction;
 use super::Plant;
-use crate::sim::linear::{Trajectory, Vec2};
+use crate::sim::linear::{Affine, Trajectory, Vec2};
 
 /// A level crossing of the output voltage to stop at (comparator input).
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -27,24 +27,9 @@ pub enum Stop {
     Crossing(f64),
 }
 
-/// An affine function of the state, `c·x + k₀ + k₁·τ`, whose zero is an
-/// event.
-#[derive(Clone, Copy, Debug)]
-struct Level {
-    c: Vec2,
-    k0: f64,
-    k1: f64,
-}
-
-impl Level {
-    /// The inductor current less `amps`.
-    fn current(amps: f64) -> Self {
-        Self { c: [1.0, 0.0], k0: -amps, k1: 0.0 }
-    }
-
-    fn value(&self, x: &Vec2, tau: f64) -> f64 {
-        self.c[0] * x[0] + self.c[1] * x[1] + self.k0 + self.k1 * tau
-    }
+/// The inductor current less `amps`, whose zero is an event.
+fn current_less(amps: f64) -> Affine {
+    Affine { c: [1.0, 0.0], k0: -amps, k1: 0.0 }
 }
 
 /// A segment from the plant's state: its closed form, length, and the
@@ -66,7 +51,7 @@ impl Plant {
         watch: Option<Watch>,
     ) -> Option<(f64, Stop)> {
         let mut best: Option<(f64, Stop)> = None;
-        let mut consider = |level: Level, make: fn(f64) -> Stop| {
+        let mut consider = |level: Affine, make: fn(f64) -> Stop| {
             if let Some(tau) = root(seg, &level) {
                 if best.is_none_or(|(b, _)| tau < b) {
                     best = Some((tau, make(tau)));
@@ -80,24 +65,18 @@ impl Plant {
             _ => false,
         };
         if ends_wrong_sign {
-            consider(Level::current(0.0), Stop::CurrentZero);
+            consider(current_less(0.0), Stop::CurrentZero);
         }
         if let Some(sat) = self.params.saturation {
             if self.outside_band(i1) || self.outside_band(im) {
                 let rising = sat.band(i1.abs().max(im.abs())) > self.band;
                 let edge = sat.lower_edge(if rising { self.band + 1 } else { self.band });
                 let sign = if i1 < 0.0 { -1.0 } else { 1.0 };
-                consider(Level::current(sign * edge), Stop::BandEdge);
+                consider(current_less(sign * edge), Stop::BandEdge);
             }
         }
         if let Some(w) = watch {
-            // v_o is affine in the state: α·(ESR·i + v_C − ESR·I₀ − ESR·I₁·τ).
-            let (a, esr) = (self.alpha, self.params.esr_ohm);
-            let level = Level {
-                c: [a * esr, a],
-                k0: -a * esr * self.env.load_i_a - w.level_v,
-                k1: -a * esr * self.env.load_i_slope,
-            };
+            let level = self.output.less(w.level_v);
             let crossed = |x: &Vec2, t: f64| {
                 let v = level.value(x, seg.tau0 + t);
                 if w.rising {
@@ -123,7 +102,7 @@ impl Plant {
 /// first sign change on eight equal steps, then safeguarded Newton
 /// iteration on the closed form. The result lies just past the crossing
 /// (within a few 1e-16 s), so the caller lands on its far side.
-fn root(seg: &Segment<'_>, level: &Level) -> Option<f64> {
+fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
     let value = |x: &Vec2, t: f64| level.value(x, seg.tau0 + t);
     let f_start = value(seg.start, 0.0);
     let crossed = |fv: f64| fv == 0.0 || fv.signum() != f_start.signum();
@@ -148,7 +127,7 @@ fn root(seg: &Segment<'_>, level: &Level) -> Option<f64> {
     for _ in 0..60 {
         let x = seg.trajectory.at(t);
         let dx = seg.trajectory.rate(&x, t);
-        let (fv, dfv) = (value(&x, t), level.c[0] * dx[0] + level.c[1] * dx[1] + level.k1);
+        let (fv, dfv) = (value(&x, t), level.rate(&dx));
         if crossed(fv) {
             hi = t;
         } else {

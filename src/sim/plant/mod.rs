@@ -34,8 +34,8 @@ pub use events::{Stop, Watch};
 pub use params::{CoreLoss, Environment, PlantParams, Stage};
 pub use saturation::Saturation;
 
-use crate::sim::linear::{Solution, Vec2};
-use conduction::{alpha, output_v, Solutions};
+use crate::sim::linear::{Affine, Solution, Vec2};
+use conduction::{output_map, Solutions};
 use energy::{Integrals, PowerModel};
 use events::Segment;
 use saturation::TOP_BAND;
@@ -59,8 +59,9 @@ pub struct Plant {
     /// start, unless a setter changed mode, environment or state in between
     /// (each clears it).
     end_integrands: Option<Integrals>,
-    /// `1/(1 + ESR·G)` for the present environment.
-    alpha: f64,
+    /// The output voltage's map from the state, for the present
+    /// environment.
+    output: Affine,
     /// Current-magnitude range `[lo, hi)` of the present saturation band.
     band_range: (f64, f64),
 }
@@ -85,7 +86,7 @@ impl Plant {
             solution,
             energy: EnergyLedger::default(),
             end_integrands: None,
-            alpha: alpha(&params, &env),
+            output: output_map(&params, &env),
             band_range: (f64::NEG_INFINITY, f64::INFINITY),
         };
         plant.set_band(0);
@@ -131,7 +132,7 @@ impl Plant {
 
     /// Output voltage now, V.
     pub fn v_out(&self) -> f64 {
-        output_v(&self.params, &self.env, self.alpha, self.i_l, self.v_c, self.tau)
+        self.output.value(&[self.i_l, self.v_c], self.tau)
     }
 
     /// Total load current now, A.
@@ -162,7 +163,7 @@ impl Plant {
             self.solutions.clear();
         }
         self.env = env;
-        self.alpha = alpha(&self.params, &env);
+        self.output = output_map(&self.params, &env);
         self.tau = 0.0;
         self.end_integrands = None;
         self.prepare();
@@ -258,8 +259,12 @@ impl Plant {
     /// Integrate the energies over a segment of `dt` from `x0` through
     /// `mid` to `end`.
     fn accumulate(&mut self, dt: f64, x0: &Vec2, mid: &Vec2, end: &Vec2) {
-        let model =
-            PowerModel { params: &self.params, env: &self.env, alpha: self.alpha, mode: self.mode };
+        let model = PowerModel {
+            params: &self.params,
+            env: &self.env,
+            output: &self.output,
+            mode: self.mode,
+        };
         let start = match self.end_integrands {
             Some(p) => p,
             None => model.at(x0[0], x0[1], self.tau),
