@@ -181,17 +181,35 @@ impl Solution {
     /// The trajectory from state `x0` at time `tau0`.
     #[inline]
     pub fn start_at(&self, x0: Vec2, tau0: f64) -> Trajectory<'_> {
-        let (y0, w0) = match &self.form {
+        Trajectory { solution: self, x0, tau0 }
+    }
+
+    /// The map from the state at `tau0` to the state `t` later, given the
+    /// flow over `t`.
+    #[inline]
+    fn propagator(&self, f: &Flow, tau0: f64, t: f64) -> Propagator {
+        match &self.form {
             Form::Coupled(c) => {
-                let y = [x0[0] - c.p0[0] - c.p1[0] * tau0, x0[1] - c.p0[1] - c.p1[1] * tau0];
-                (y, [c.n[0][0] * y[0] + c.n[0][1] * y[1], c.n[1][0] * y[0] + c.n[1][1] * y[1]])
+                // x(t) = Φ·x₀ + x_p(τ₀ + t) − Φ·x_p(τ₀), Φ = P·I + Q·N.
+                let n = &c.n;
+                let phi =
+                    [[f.p + f.q * n[0][0], f.q * n[0][1]], [f.q * n[1][0], f.p + f.q * n[1][1]]];
+                let xp = [c.p0[0] + c.p1[0] * tau0, c.p0[1] + c.p1[1] * tau0];
+                let offset = [
+                    xp[0] + c.p1[0] * t - phi[0][0] * xp[0] - phi[0][1] * xp[1],
+                    xp[1] + c.p1[1] * t - phi[1][0] * xp[0] - phi[1][1] * xp[1],
+                ];
+                Propagator { phi, offset }
             }
             Form::Held { .. } => {
-                let forcing = self.system.a[1][0] * x0[0] + self.system.b0[1];
-                (x0, [forcing + self.system.b1[1] * tau0, self.system.b1[1]])
+                // v(t) = e^{−gt}·v₀ + φ₁·(a₁₀·i₀ + b₀ + b₁·τ₀) + φ₂·b₁.
+                let (a10, b0, b1) = (self.system.a[1][0], self.system.b0[1], self.system.b1[1]);
+                Propagator {
+                    phi: [[1.0, 0.0], [f.q * a10, f.p]],
+                    offset: [0.0, f.q * (b0 + b1 * tau0) + f.r * b1],
+                }
             }
-        };
-        Trajectory { solution: self, tau0, y0, w0 }
+        }
     }
 
     #[inline]
@@ -317,49 +335,50 @@ fn held_flow(g: f64, t: f64) -> Flow {
     Flow { p: e, q: f1, r: (t - f1) / g }
 }
 
+/// The affine map from a segment's start state to its state some time
+/// later: `x(t) = Φ·x₀ + offset`. It depends on the start time and the
+/// step, not on the start state, so applying it is one 2×2 product.
+#[derive(Clone, Copy, Debug)]
+struct Propagator {
+    phi: Mat2,
+    offset: Vec2,
+}
+
+impl Propagator {
+    #[inline]
+    fn apply(&self, x: &Vec2) -> Vec2 {
+        let row = |r: usize| self.phi[r][0] * x[0] + self.phi[r][1] * x[1] + self.offset[r];
+        [row(0), row(1)]
+    }
+}
+
 /// A solution started from a given state and time.
 #[derive(Clone, Copy, Debug)]
 pub struct Trajectory<'a> {
     solution: &'a Solution,
+    x0: Vec2,
     tau0: f64,
-    /// Coupled: `x₀ − x_p(τ₀)`; held: `x₀`.
-    y0: Vec2,
-    /// Coupled: `N·y₀`; held: the forcing `f₀` and its slope `f₁`.
-    w0: Vec2,
 }
 
 impl Trajectory<'_> {
     /// The state `t` after the start.
     pub fn at(&self, t: f64) -> Vec2 {
-        self.state(&self.solution.flow(t), t)
+        self.solution.propagator(&self.solution.flow(t), self.tau0, t).apply(&self.x0)
     }
 
     /// The states at `t/2` and at `t`.
     #[inline]
     pub fn midpoint_and_end(&self, t: f64) -> (Vec2, Vec2) {
-        let h = 0.5 * t;
-        let half = self.solution.flow(h);
-        let full = self.solution.doubled(&half, h);
-        (self.state(&half, h), self.state(&full, t))
+        let (s, h) = (self.solution, 0.5 * t);
+        let half = s.flow(h);
+        let full = s.doubled(&half, h);
+        let (to_mid, to_end) =
+            (s.propagator(&half, self.tau0, h), s.propagator(&full, self.tau0, t));
+        (to_mid.apply(&self.x0), to_end.apply(&self.x0))
     }
 
     /// `x'` at state `x`, `t` after the start.
     pub fn rate(&self, x: &Vec2, t: f64) -> Vec2 {
         self.solution.system.rate(x, self.tau0 + t)
-    }
-
-    #[inline]
-    fn state(&self, f: &Flow, t: f64) -> Vec2 {
-        let (y, w) = (&self.y0, &self.w0);
-        match &self.solution.form {
-            Form::Coupled(c) => {
-                let tau = self.tau0 + t;
-                [
-                    c.p0[0] + c.p1[0] * tau + f.p * y[0] + f.q * w[0],
-                    c.p0[1] + c.p1[1] * tau + f.p * y[1] + f.q * w[1],
-                ]
-            }
-            Form::Held { .. } => [y[0], f.p * y[1] + f.q * w[0] + f.r * w[1]],
-        }
     }
 }
