@@ -103,19 +103,27 @@ impl Solutions {
         self.table.fill(None);
     }
 
-    /// The solution of `mode` in `band` under `env`.
-    pub fn get(
+    /// Prepare the solution of `mode` in `band` under `env`, if not yet
+    /// done; returns its place for [`Solutions::at`].
+    pub fn prepare(
         &mut self,
         p: &PlantParams,
         env: &Environment,
         mode: Conduction,
         band: u16,
-    ) -> Solution {
-        let slot = &mut self.table[mode.index() * self.bands + usize::from(band)];
-        *slot.get_or_insert_with(|| {
+    ) -> usize {
+        let index = mode.index() * self.bands + usize::from(band);
+        if self.table[index].is_none() {
             // A coupled mode's det A = [(r + DCR + α·ESR)·α·G + α²]/(L·C) > 0
             // for positive L and C; the idle mode is of the held form.
-            Solution::new(system(p, env, mode, band)).expect("det A > 0 in every conducting mode")
-        })
+            let solution = Solution::new(system(p, env, mode, band));
+            self.table[index] = Some(solution.expect("det A > 0 in every conducting mode"));
+        }
+        index
+    }
+
+    /// The solution prepared at `index`.
+    pub fn at(&self, index: usize) -> &Solution {
+        self.table[index].as_ref().expect("prepared before use")
     }
 }

@@ -34,7 +34,7 @@ pub use events::{Stop, Watch};
 pub use params::{CoreLoss, Environment, PlantParams, Stage};
 pub use saturation::Saturation;
 
-use crate::sim::linear::{Affine, Solution, Vec2};
+use crate::sim::linear::{Affine, Vec2};
 use conduction::{output_map, Solutions};
 use energy::{Integrals, PowerModel};
 use events::Segment;
@@ -44,16 +44,17 @@ use saturation::TOP_BAND;
 #[derive(Clone, Debug)]
 pub struct Plant {
     params: PlantParams,
-    i_l: f64,
-    v_c: f64,
+    /// State `[i_L, v_C]`, A and V (kept whole: each step writes and
+    /// reads it as one vector).
+    x: Vec2,
     /// Time since the environment was set, s.
     tau: f64,
     mode: Conduction,
     band: u16,
     env: Environment,
     solutions: Solutions,
-    /// The solution for the present mode, band and environment.
-    solution: Solution,
+    /// Where the present mode, band and environment's solution is.
+    solution: usize,
     energy: EnergyLedger,
     /// The integrands at the end of the last segment: the next segment's
     /// start, unless a setter changed mode, environment or state in between
@@ -73,11 +74,10 @@ impl Plant {
     pub fn new(params: PlantParams, v_c0: f64) -> Self {
         let env = Environment::default();
         let mut solutions = Solutions::new(&params);
-        let solution = solutions.get(&params, &env, Conduction::Idle, 0);
+        let solution = solutions.prepare(&params, &env, Conduction::Idle, 0);
         let mut plant = Self {
             params,
-            i_l: 0.0,
-            v_c: v_c0,
+            x: [0.0, v_c0],
             tau: 0.0,
             mode: Conduction::Idle,
             band: 0,
@@ -96,8 +96,7 @@ impl Plant {
     /// Set the state: inductor current (A) and capacitor voltage (V).
     pub fn set_state(&mut self, i_l: f64, v_c: f64) {
         self.end_integrands = None;
-        self.i_l = i_l;
-        self.v_c = v_c;
+        self.x = [i_l, v_c];
     }
 
     /// The parameters.
@@ -107,12 +106,12 @@ impl Plant {
 
     /// Inductor current, A.
     pub fn i_l(&self) -> f64 {
-        self.i_l
+        self.x[0]
     }
 
     /// Capacitor voltage, V.
     pub fn v_c(&self) -> f64 {
-        self.v_c
+        self.x[1]
     }
 
     /// Conduction mode.
@@ -132,7 +131,7 @@ impl Plant {
 
     /// Output voltage now, V.
     pub fn v_out(&self) -> f64 {
-        self.output.value(&[self.i_l, self.v_c], self.tau)
+        self.output.value(&self.x, self.tau)
     }
 
     /// Total load current now, A.
@@ -147,12 +146,12 @@ impl Plant {
 
     /// Energy stored in the inductor and capacitor, J.
     pub fn stored_j(&self) -> f64 {
-        let i_abs = self.i_l.abs();
+        let i_abs = self.x[0].abs();
         let magnetic = match self.params.saturation {
             Some(sat) => sat.magnetic_j(self.params.l_h, i_abs),
             None => 0.5 * self.params.l_h * i_abs * i_abs,
         };
-        magnetic + 0.5 * self.params.c_f * self.v_c * self.v_c
+        magnetic + 0.5 * self.params.c_f * self.x[1] * self.x[1]
     }
 
     /// Set the drive (input and load) from now on; restarts `τ`.
@@ -174,21 +173,21 @@ impl Plant {
     pub fn set_mode(&mut self, mode: Conduction) {
         self.end_integrands = None;
         self.mode = match mode {
-            Conduction::Diode if self.i_l <= 0.0 => Conduction::Idle,
-            Conduction::HighBody if self.i_l >= 0.0 => Conduction::Idle,
+            Conduction::Diode if self.x[0] <= 0.0 => Conduction::Idle,
+            Conduction::HighBody if self.x[0] >= 0.0 => Conduction::Idle,
             m => m,
         };
         if self.mode == Conduction::Idle {
-            self.i_l = 0.0;
+            self.x[0] = 0.0;
         }
         self.prepare();
     }
 
     /// The body-diode mode for the current's sign (dead time).
     pub fn freewheel_mode(&self) -> Conduction {
-        if self.i_l > 0.0 {
+        if self.x[0] > 0.0 {
             Conduction::Diode
-        } else if self.i_l < 0.0 {
+        } else if self.x[0] < 0.0 {
             Conduction::HighBody
         } else {
             Conduction::Idle
@@ -197,7 +196,7 @@ impl Plant {
 
     /// Draw a switching-transition loss of `½·V_in·|i|·t` from the source.
     pub fn switching_edge(&mut self, transition_s: f64) {
-        let e = 0.5 * self.vin_v() * self.i_l.abs() * transition_s;
+        let e = 0.5 * self.vin_v() * self.x[0].abs() * transition_s;
         self.energy.draw(Loss::Switching, e);
     }
 
@@ -220,8 +219,8 @@ impl Plant {
         if dt <= 0.0 {
             return Stop::Reached;
         }
-        let x0 = [self.i_l, self.v_c];
-        let trajectory = self.solution.start_at(x0, self.tau);
+        let x0 = self.x;
+        let trajectory = self.solutions.at(self.solution).start_at(x0, self.tau);
         let (mid, end) = trajectory.midpoint_and_end(dt);
         let seg = Segment {
             trajectory: &trajectory,
@@ -240,8 +239,7 @@ impl Plant {
             None => (dt, Stop::Reached, mid, end),
         };
         self.accumulate(t, &x0, &mid, &end);
-        self.i_l = end[0];
-        self.v_c = end[1];
+        self.x = end;
         self.tau += t;
         match stop {
             Stop::CurrentZero(_) => self.set_mode(Conduction::Idle),
@@ -253,7 +251,7 @@ impl Plant {
 
     /// The solution for the present mode, band and environment.
     fn prepare(&mut self) {
-        self.solution = self.solutions.get(&self.params, &self.env, self.mode, self.band);
+        self.solution = self.solutions.prepare(&self.params, &self.env, self.mode, self.band);
     }
 
     /// Integrate the energies over a segment of `dt` from `x0` through
@@ -279,7 +277,7 @@ impl Plant {
     /// heading for (`i_end`: where the whole interval would have ended).
     fn enter_band_past_edge(&mut self, i_end: f64) {
         if self.params.saturation.is_some() {
-            let rising = i_end.abs() > self.i_l.abs();
+            let rising = i_end.abs() > self.x[0].abs();
             let band =
                 if rising { (self.band + 1).min(TOP_BAND) } else { self.band.saturating_sub(1) };
             self.set_band(band);
