@@ -1,33 +1,74 @@
 //! Simulator throughput: the default scenario (10 ms, hysteretic law) end to
-//! end, and its rate in simulated switching cycles per wall-clock second.
+//! end, as simulated switching cycles per wall-clock second; and the plant
+//! alone, per step, with step lengths that repeat and that never do (the
+//! cost of a step must not depend on it).
 
-use criterion::{criterion_group, criterion_main, Criterion};
+use criterion::{criterion_group, criterion_main, Criterion, Throughput};
+use ripplectl::sim::plant::{Conduction, Environment, Plant};
 use ripplectl::sim::{self, Scenario};
 use std::hint::black_box;
-use std::time::Instant;
 
-fn bench_default_scenario(c: &mut Criterion) {
+fn default_scenario(c: &mut Criterion) {
     let scenario = Scenario::default_demo();
-    // One timed pass outside criterion for the cycles-per-second figure.
-    let runs = 20;
-    let started = Instant::now();
-    let mut cycles = 0;
-    for _ in 0..runs {
-        cycles += sim::run(&scenario).unwrap().recorder.cycles.len();
+    let cycles = sim::run(&scenario).unwrap().recorder.cycles.len() as u64;
+    let mut group = c.benchmark_group("default scenario, 10 ms simulated");
+    // Criterion reports the rate as "elem/s": switching cycles per second.
+    group.throughput(Throughput::Elements(cycles));
+    group
+        .bench_function("switching cycles", |b| b.iter(|| black_box(sim::run(&scenario).unwrap())));
+    group.finish();
+}
+
+/// 1 000 step lengths: all 1 µs, or spread over 0.2–1.8 µs and never
+/// repeating (a fixed pseudo-random sequence).
+fn step_lengths(irregular: bool) -> Vec<f64> {
+    let mut x: u64 = 0x9E37_79B9_7F4A_7C15;
+    (0..1000)
+        .map(|_| {
+            x = x.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1_442_695_040_888_963_407);
+            let unit = (x >> 11) as f64 / (1u64 << 53) as f64;
+            if irregular {
+                0.2e-6 + 1.6e-6 * unit
+            } else {
+                1e-6
+            }
+        })
+        .collect()
+}
+
+/// Step the default stage at 24 V into 2.5 Ω, switching on below 4.98 V
+/// and off above 5.02 V, so the state stays at its operating point.
+fn run_steps(plant: &mut Plant, steps: &[f64]) {
+    for &dt in steps {
+        black_box(plant.advance(dt, None));
+        let v = plant.v_out();
+        if v < 4.98 {
+            plant.set_mode(Conduction::HighSide);
+        } else if v > 5.02 {
+            plant.set_mode(Conduction::Diode);
+        }
     }
-    let per_s = cycles as f64 / started.elapsed().as_secs_f64();
-    eprintln!(
-        "default scenario: {:.3} million switching cycles per wall-clock second",
-        per_s / 1e6
-    );
-    c.bench_function("default scenario, 10 ms simulated", |b| {
-        b.iter(|| black_box(sim::run(&scenario).unwrap()))
-    });
+}
+
+fn plant_steps(c: &mut Criterion) {
+    let mut params = Scenario::default_demo().plant;
+    params.saturation = None;
+    let env = Environment { vin_v: 24.0, load_g_s: 0.4, ..Environment::default() };
+    let mut group = c.benchmark_group("plant, 1000 steps");
+    group.throughput(Throughput::Elements(1000));
+    for (name, irregular) in [("repeated lengths", false), ("irregular lengths", true)] {
+        let steps = step_lengths(irregular);
+        let mut plant = Plant::new(params, 5.0);
+        plant.set_state(2.0, 5.0);
+        plant.set_environment(env);
+        group.bench_function(name, |b| b.iter(|| run_steps(&mut plant, &steps)));
+    }
+    group.finish();
 }
 
 criterion_group! {
     name = benches;
     config = Criterion::default().sample_size(20);
-    targets = bench_default_scenario
+    targets = default_scenario, plant_steps
 }
 criterion_main!(benches);

@@ -108,7 +108,7 @@ fn saturating_inductor_stores_energy_consistently() {
     let w0 = plant.stored_j();
     let mut t = 0.0;
     while t < 20e-6 {
-        match plant.advance(20e-6 - t, None, None) {
+        match plant.advance(20e-6 - t, None) {
             ripplectl::sim::plant::Stop::Reached => break,
             ripplectl::sim::plant::Stop::BandEdge(tau)
             | ripplectl::sim::plant::Stop::CurrentZero(tau) => t += tau,

@@ -363,8 +363,7 @@ impl<F: Firmware> Engine<F> {
     fn advance_plant(&mut self, mut target: u64) -> u64 {
         while self.plant_tick < target {
             let dt = (target - self.plant_tick) as f64 * self.tick_s - self.frac;
-            let key = (self.frac == 0.0).then_some(target - self.plant_tick);
-            match self.plant.advance(dt, key, self.comparator.watch()) {
+            match self.plant.advance(dt, self.comparator.watch()) {
                 Stop::Reached => {
                     self.plant_tick = target;
                     self.frac = 0.0;

@@ -5,10 +5,11 @@ use super::accounting::{regulating_windows, steady_efficiency};
 use super::audible::{self, Audible};
 use super::emission::{EmissionSummary, Estimate};
 use super::engine::RunOutput;
-use super::plant::EnergyLedger;
+use super::plant::{EnergyLedger, Loss};
 use super::record::Cycle;
 use super::transient::Transient;
 use crate::guard::ClampCounts;
+use serde::ser::{SerializeMap, Serializer};
 use serde::Serialize;
 
 /// A fault the firmware reported.
@@ -20,27 +21,26 @@ pub struct FaultEntry {
     pub t_s: f64,
 }
 
-/// Loss breakdown over the steady windows, W.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize)]
-pub struct LossesW {
-    /// Source resistance.
-    pub source: f64,
-    /// High-side switch conduction.
-    pub high_side: f64,
-    /// Diode conduction.
-    pub diode: f64,
-    /// Low-side switch conduction.
-    pub low_side: f64,
-    /// Inductor DCR.
-    pub dcr: f64,
-    /// Capacitor ESR.
-    pub esr: f64,
-    /// Switching transitions.
-    pub switching: f64,
-    /// Gate charge.
-    pub gate: f64,
-    /// Core.
-    pub core: f64,
+/// Loss breakdown over the steady windows, W: one entry per [`Loss`],
+/// serialized as an object keyed by [`Loss::key`] in table order.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct LossesW(pub [f64; Loss::COUNT]);
+
+impl LossesW {
+    /// One term, W.
+    pub fn get(&self, term: Loss) -> f64 {
+        self.0[term as usize]
+    }
+}
+
+impl Serialize for LossesW {
+    fn serialize<S: Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
+        let mut map = serializer.serialize_map(Some(Loss::COUNT))?;
+        for term in Loss::ALL {
+            map.serialize_entry(term.key(), &self.get(term))?;
+        }
+        map.end()
+    }
 }
 
 /// The summary. Field names are the JSON keys; the first sixteen are the
@@ -176,17 +176,7 @@ impl Summary {
             wall_s,
             scenario: scenario.to_string(),
             clamps: out.clamps,
-            losses_w: LossesW {
-                source: per_s(e.source_j),
-                high_side: per_s(e.high_side_j),
-                diode: per_s(e.diode_j),
-                low_side: per_s(e.low_side_j),
-                dcr: per_s(e.dcr_j),
-                esr: per_s(e.esr_j),
-                switching: per_s(e.switching_j),
-                gate: per_s(e.gate_j),
-                core: per_s(e.core_j),
-            },
+            losses_w: LossesW(e.loss_j.map(per_s)),
             steady_s,
             efficiency_note: efficiency.note(),
             transients: out.recorder.transients.figures(&out.recorder.cycles),

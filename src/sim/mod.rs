@@ -3,7 +3,7 @@
 //!
 //! | module | what |
 //! |---|---|
-//! | [`linear`] | closed-form solution of linear segments (matrix exponential) |
+//! | [`linear`] | closed-form solution of linear segments, same cost for any step |
 //! | [`plant`] | the power stage, its conduction modes and energy ledger |
 //! | [`profile`] | input-voltage and load profiles |
 //! | [`scenario`] | one run's description, from TOML |

@@ -82,14 +82,10 @@ pub fn applied_duty(run: &FixedDuty) -> f64 {
 /// Advance `dt` exactly, stepping over DCM and saturation events.
 fn advance_through_events(plant: &mut Plant, dt: f64) {
     let mut left = dt;
-    let mut key = Some(dt.to_bits());
     while left > 0.0 {
-        match plant.advance(left, key, None) {
+        match plant.advance(left, None) {
             Stop::Reached => break,
-            Stop::CurrentZero(tau) | Stop::BandEdge(tau) | Stop::Crossing(tau) => {
-                left -= tau;
-                key = None;
-            }
+            Stop::CurrentZero(tau) | Stop::BandEdge(tau) | Stop::Crossing(tau) => left -= tau,
         }
     }
 }

@@ -3,6 +3,7 @@
 use super::audible::Audible;
 use super::emission::EmissionSummary;
 use super::metrics::Summary;
+use super::plant::Loss;
 use super::record::{Cycle, Slice};
 use crate::guard::WindowConfig;
 use std::fmt::Write as _;
@@ -105,21 +106,21 @@ pub fn rows(s: &Summary, window: &WindowConfig) -> Vec<(String, String)> {
         "losses",
         format!(
             "switch {}  diode {}  low side {}  DCR {}  ESR {}",
-            eng(l.high_side, "W"),
-            eng(l.diode, "W"),
-            eng(l.low_side, "W"),
-            eng(l.dcr, "W"),
-            eng(l.esr, "W")
+            eng(l.get(Loss::HighSide), "W"),
+            eng(l.get(Loss::Diode), "W"),
+            eng(l.get(Loss::LowSide), "W"),
+            eng(l.get(Loss::Dcr), "W"),
+            eng(l.get(Loss::Esr), "W")
         ),
     );
     row(
         "",
         format!(
             "switching {}  gate {}  core {}  source {}",
-            eng(l.switching, "W"),
-            eng(l.gate, "W"),
-            eng(l.core, "W"),
-            eng(l.source, "W")
+            eng(l.get(Loss::Switching), "W"),
+            eng(l.get(Loss::Gate), "W"),
+            eng(l.get(Loss::Core), "W"),
+            eng(l.get(Loss::Source), "W")
         ),
     );
     let c = &s.clamps;

@@ -1,0 +1,168 @@
+//! Events inside a segment, found on its closed form: the diode current
+//! reaching zero (DCM), a saturation-band edge, a watched output level.
+
+use super::conduction::Conduction;
+use super::Plant;
+use crate::sim::linear::{Affine, Trajectory, Vec2};
+
+/// A level crossing of the output voltage to stop at (comparator input).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Watch {
+    /// Output voltage threshold, V.
+    pub level_v: f64,
+    /// Stop when the output rises through the level (else: falls).
+    pub rising: bool,
+}
+
+/// Why [`Plant::advance`] stopped.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Stop {
+    /// The whole interval was simulated.
+    Reached,
+    /// The diode current reached zero after this many seconds (DCM).
+    CurrentZero(f64),
+    /// The current crossed a saturation-band edge after this many seconds.
+    BandEdge(f64),
+    /// The watched level was crossed after this many seconds.
+    Crossing(f64),
+}
+
+/// The inductor current less `amps`, whose zero is an event.
+fn current_less(amps: f64) -> Affine {
+    Affine { c: [1.0, 0.0], k0: -amps, k1: 0.0 }
+}
+
+/// A segment from the plant's state: its closed form, length, and the
+/// states at its middle and end.
+pub(super) struct Segment<'a> {
+    pub trajectory: &'a Trajectory<'a>,
+    pub tau0: f64,
+    pub dt: f64,
+    pub start: &'a Vec2,
+    pub mid: &'a Vec2,
+    pub end: &'a Vec2,
+}
+
+impl Plant {
+    /// The earliest event inside `(0, dt]`, if any.
+    pub(super) fn first_event(
+        &self,
+        seg: &Segment<'_>,
+        watch: Option<Watch>,
+    ) -> Option<(f64, Stop)> {
+        let mut best: Option<(f64, Stop)> = None;
+        let mut consider = |level: Affine, make: fn(f64) -> Stop| {
+            if let Some(tau) = root(seg, &level) {
+                if best.is_none_or(|(b, _)| tau < b) {
+                    best = Some((tau, make(tau)));
+                }
+            }
+        };
+        let (im, i1) = (seg.mid[0], seg.end[0]);
+        let ends_wrong_sign = match self.mode {
+            Conduction::Diode => i1 <= 0.0 || im <= 0.0,
+            Conduction::HighBody => i1 >= 0.0 || im >= 0.0,
+            _ => false,
+        };
+        if ends_wrong_sign {
+            consider(current_less(0.0), Stop::CurrentZero);
+        }
+        if let Some(sat) = self.params.saturation {
+            if self.outside_band(i1) || self.outside_band(im) {
+                let rising = sat.band(i1.abs().max(im.abs())) > self.band;
+                let edge = sat.lower_edge(if rising { self.band + 1 } else { self.band });
+                let sign = if i1 < 0.0 { -1.0 } else { 1.0 };
+                consider(current_less(sign * edge), Stop::BandEdge);
+            }
+        }
+        if let Some(w) = watch {
+            let level = self.output.less(w.level_v);
+            let crossed = |x: &Vec2, t: f64| {
+                let v = level.value(x, seg.tau0 + t);
+                if w.rising {
+                    v >= 0.0
+                } else {
+                    v <= 0.0
+                }
+            };
+            if crossed(seg.mid, 0.5 * seg.dt) || crossed(seg.end, seg.dt) {
+                consider(level, Stop::Crossing);
+            }
+        }
+        best
+    }
+
+    fn outside_band(&self, i: f64) -> bool {
+        let a = i.abs();
+        a < self.band_range.0 || a >= self.band_range.1
+    }
+}
+
+/// First `t ∈ (0, dt]` where `level` changes sign along the segment: the
+/// first sign change on eight equal steps, then safeguarded Newton
+/// iteration on the closed form. The result lies just past the crossing
+/// (within a few 1e-16 s), so the caller lands on its far side.
+fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
+    let value = |x: &Vec2, t: f64| level.value(x, seg.tau0 + t);
+    let f_start = value(seg.start, 0.0);
+    let crossed = |fv: f64| fv == 0.0 || fv.signum() != f_start.signum();
+    let (mut lo, mut f_lo) = (0.0, f_start);
+    let mut bracket = None;
+    for k in 1..=8 {
+        let t = seg.dt * f64::from(k) / 8.0;
+        let fv = match k {
+            4 => value(seg.mid, t),
+            8 => value(seg.end, t),
+            _ => value(&seg.trajectory.at(t), t),
+        };
+        if crossed(fv) {
+            bracket = Some((t, fv));
+            break;
+        }
+        (lo, f_lo) = (t, fv);
+    }
+    let (mut hi, f_hi) = bracket?;
+    // Regula falsi for a start, then Newton kept inside the bracket.
+    let mut t = lo + (hi - lo) * f_lo / (f_lo - f_hi);
+    for _ in 0..60 {
+        let x = seg.trajectory.at(t);
+        let dx = seg.trajectory.rate(&x, t);
+        let (fv, dfv) = (value(&x, t), level.rate(&dx));
+        if crossed(fv) {
+            hi = t;
+        } else {
+            lo = t;
+        }
+        let step = fv / dfv;
+        if hi - lo < 1e-15 || step.abs() < 1e-16 {
+            return Some(if crossed(fv) {
+                t
+            } else {
+                step_across(seg, &value, &crossed, t, step, hi)
+            });
+        }
+        let newton = t - step;
+        t = if dfv != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+    }
+    Some(hi)
+}
+
+/// From `t` just short of a root `step` away, the first point past it:
+/// probes at growing distances, never beyond `hi` (known to be past).
+fn step_across(
+    seg: &Segment<'_>,
+    value: &impl Fn(&Vec2, f64) -> f64,
+    crossed: &impl Fn(f64) -> bool,
+    t: f64,
+    step: f64,
+    hi: f64,
+) -> f64 {
+    let mut probe = step.abs().max(1e-16) * 2.0;
+    while t + probe < hi {
+        if crossed(value(&seg.trajectory.at(t + probe), t + probe)) {
+            return t + probe;
+        }
+        probe *= 4.0;
+    }
+    hi
+}

@@ -1,0 +1,296 @@
+//! Switched buck converter, solved exactly between events.
+//!
+//! Circuit: ideal source `V_in` with series resistance `R_s`; high-side
+//! switch `R_on`; freewheeling diode (`V_f` + `R_d`) or, in a synchronous
+//! stage, a low-side switch `R_on,low` with a dead time during which the body
+//! diodes conduct; inductor `L` with `DCR` and an optional saturation curve;
+//! output capacitor `C` with `ESR`; a load that is a conductance `G` in
+//! parallel with a current sink `I₀` (either may be zero).
+//!
+//! State `x = [i_L, v_C]`; the output is `v_o = α·(v_C + ESR·(i_L − I₀))`
+//! with `α = 1/(1 + ESR·G)`. The stage is linear with constant coefficients
+//! while the conduction mode, the saturation band and the load conductance
+//! hold, and its drive is at most linear in time, so each segment is solved
+//! in closed form ([`crate::sim::linear`]) at a cost that does not depend on
+//! its length.
+//!
+//! | module | what |
+//! |---|---|
+//! | `params` | the stage's parameters and its drive ([`Environment`]) |
+//! | `saturation` | the inductance's current bands and magnetic energy |
+//! | `conduction` | conduction modes and the linear system of each |
+//! | `energy` | the energy ledger and its loss table |
+//! | `events` | DCM zero-crossings, band edges, output levels, on the closed form |
+
+mod conduction;
+mod energy;
+mod events;
+mod params;
+mod saturation;
+
+pub use conduction::Conduction;
+pub use energy::{EnergyLedger, Loss};
+pub use events::{Stop, Watch};
+pub use params::{CoreLoss, Environment, PlantParams, Stage};
+pub use saturation::Saturation;
+
+use crate::sim::linear::{Affine, Vec2};
+use conduction::{output_map, Solutions};
+use energy::{Integrals, PowerModel};
+use events::Segment;
+use saturation::TOP_BAND;
+
+/// The converter's power stage.
+#[derive(Clone, Debug)]
+pub struct Plant {
+    params: PlantParams,
+    /// State `[i_L, v_C]`, A and V (kept whole: each step writes and
+    /// reads it as one vector).
+    x: Vec2,
+    /// Time since the environment was set, s.
+    tau: f64,
+    mode: Conduction,
+    band: u16,
+    env: Environment,
+    solutions: Solutions,
+    /// Where the present mode, band and environment's solution is.
+    solution: usize,
+    energy: EnergyLedger,
+    /// The integrands at the end of the last segment: the next segment's
+    /// start, unless a setter changed mode, environment or state in between
+    /// (each clears it).
+    end_integrands: Option<Integrals>,
+    /// The output voltage's map from the state, for the present
+    /// environment.
+    output: Affine,
+    /// Current-magnitude range `[lo, hi)` of the present saturation band.
+    band_range: (f64, f64),
+}
+
+impl Plant {
+    /// A plant at rest (no current, capacitor at `v_c0`), idle.
+    ///
+    /// Panics if `l_h` or `c_f` is not positive (a scenario refuses those).
+    pub fn new(params: PlantParams, v_c0: f64) -> Self {
+        let env = Environment::default();
+        let mut solutions = Solutions::new(&params);
+        let solution = solutions.prepare(&params, &env, Conduction::Idle, 0);
+        let mut plant = Self {
+            params,
+            x: [0.0, v_c0],
+            tau: 0.0,
+            mode: Conduction::Idle,
+            band: 0,
+            env,
+            solutions,
+            solution,
+            energy: EnergyLedger::default(),
+            end_integrands: None,
+            output: output_map(&params, &env),
+            band_range: (f64::NEG_INFINITY, f64::INFINITY),
+        };
+        plant.set_band(0);
+        plant
+    }
+
+    /// Set the state: inductor current (A) and capacitor voltage (V).
+    pub fn set_state(&mut self, i_l: f64, v_c: f64) {
+        self.end_integrands = None;
+        self.x = [i_l, v_c];
+    }
+
+    /// The parameters.
+    pub fn params(&self) -> &PlantParams {
+        &self.params
+    }
+
+    /// Inductor current, A.
+    pub fn i_l(&self) -> f64 {
+        self.x[0]
+    }
+
+    /// Capacitor voltage, V.
+    pub fn v_c(&self) -> f64 {
+        self.x[1]
+    }
+
+    /// Conduction mode.
+    pub fn mode(&self) -> Conduction {
+        self.mode
+    }
+
+    /// Energies so far.
+    pub fn energy(&self) -> &EnergyLedger {
+        &self.energy
+    }
+
+    /// Source voltage now, V.
+    pub fn vin_v(&self) -> f64 {
+        self.env.vin_at(self.tau)
+    }
+
+    /// Output voltage now, V.
+    pub fn v_out(&self) -> f64 {
+        self.output.value(&self.x, self.tau)
+    }
+
+    /// Total load current now, A.
+    pub fn i_out(&self) -> f64 {
+        self.env.load_g_s * self.v_out() + self.env.load_i_at(self.tau)
+    }
+
+    /// Incremental inductance now, H.
+    pub fn inductance_h(&self) -> f64 {
+        self.params.inductance_in(self.band)
+    }
+
+    /// Energy stored in the inductor and capacitor, J.
+    pub fn stored_j(&self) -> f64 {
+        let i_abs = self.x[0].abs();
+        let magnetic = match self.params.saturation {
+            Some(sat) => sat.magnetic_j(self.params.l_h, i_abs),
+            None => 0.5 * self.params.l_h * i_abs * i_abs,
+        };
+        magnetic + 0.5 * self.params.c_f * self.x[1] * self.x[1]
+    }
+
+    /// Set the drive (input and load) from now on; restarts `τ`.
+    pub fn set_environment(&mut self, env: Environment) {
+        // The solutions depend on the system alone, which the environment
+        // (with mode and band) fixes; τ is state.
+        if env != self.env {
+            self.solutions.clear();
+        }
+        self.env = env;
+        self.output = output_map(&self.params, &env);
+        self.tau = 0.0;
+        self.end_integrands = None;
+        self.prepare();
+    }
+
+    /// Put the stage into `mode` (the engine decides it from gate and dead
+    /// time); a diode mode against the current's sign becomes idle.
+    pub fn set_mode(&mut self, mode: Conduction) {
+        self.end_integrands = None;
+        self.mode = match mode {
+            Conduction::Diode if self.x[0] <= 0.0 => Conduction::Idle,
+            Conduction::HighBody if self.x[0] >= 0.0 => Conduction::Idle,
+            m => m,
+        };
+        if self.mode == Conduction::Idle {
+            self.x[0] = 0.0;
+        }
+        self.prepare();
+    }
+
+    /// The body-diode mode for the current's sign (dead time).
+    pub fn freewheel_mode(&self) -> Conduction {
+        if self.x[0] > 0.0 {
+            Conduction::Diode
+        } else if self.x[0] < 0.0 {
+            Conduction::HighBody
+        } else {
+            Conduction::Idle
+        }
+    }
+
+    /// Draw a switching-transition loss of `½·V_in·|i|·t` from the source.
+    pub fn switching_edge(&mut self, transition_s: f64) {
+        let e = 0.5 * self.vin_v() * self.x[0].abs() * transition_s;
+        self.energy.draw(Loss::Switching, e);
+    }
+
+    /// Draw the gate-charge loss `Q_g·V_drv` of one cycle from the source.
+    pub fn gate_cycle(&mut self) {
+        self.energy.draw(Loss::Gate, self.params.gate_charge_c * self.params.gate_drive_v);
+    }
+
+    /// Draw one cycle's core loss from the source.
+    pub fn core_cycle(&mut self, delta_i_a: f64, period_s: f64) {
+        if let (Some(core), true) = (self.params.core, period_s > 0.0) {
+            let e = core.power_w(self.params.l_h, delta_i_a, 1.0 / period_s) * period_s;
+            self.energy.draw(Loss::Core, e);
+        }
+    }
+
+    /// Simulate `dt` seconds, or less if an event comes first; `watch`: an
+    /// output level crossing to stop at.
+    pub fn advance(&mut self, dt: f64, watch: Option<Watch>) -> Stop {
+        if dt <= 0.0 {
+            return Stop::Reached;
+        }
+        let x0 = self.x;
+        let trajectory = self.solutions.at(self.solution).start_at(x0, self.tau);
+        let (mid, end) = trajectory.midpoint_and_end(dt);
+        let seg = Segment {
+            trajectory: &trajectory,
+            tau0: self.tau,
+            dt,
+            start: &x0,
+            mid: &mid,
+            end: &end,
+        };
+        let i_heading = end[0];
+        let (t, stop, mid, end) = match self.first_event(&seg, watch) {
+            Some((t, stop)) => {
+                let (mid, end) = trajectory.midpoint_and_end(t);
+                (t, stop, mid, end)
+            }
+            None => (dt, Stop::Reached, mid, end),
+        };
+        self.accumulate(t, &x0, &mid, &end);
+        self.x = end;
+        self.tau += t;
+        match stop {
+            Stop::CurrentZero(_) => self.set_mode(Conduction::Idle),
+            Stop::BandEdge(_) => self.enter_band_past_edge(i_heading),
+            _ => {}
+        }
+        stop
+    }
+
+    /// The solution for the present mode, band and environment.
+    fn prepare(&mut self) {
+        self.solution = self.solutions.prepare(&self.params, &self.env, self.mode, self.band);
+    }
+
+    /// Integrate the energies over a segment of `dt` from `x0` through
+    /// `mid` to `end`.
+    fn accumulate(&mut self, dt: f64, x0: &Vec2, mid: &Vec2, end: &Vec2) {
+        let model = PowerModel {
+            params: &self.params,
+            env: &self.env,
+            output: &self.output,
+            mode: self.mode,
+        };
+        let start = match self.end_integrands {
+            Some(p) => p,
+            None => model.at(x0[0], x0[1], self.tau),
+        };
+        let m = model.at(mid[0], mid[1], self.tau + 0.5 * dt);
+        let b = model.at(end[0], end[1], self.tau + dt);
+        self.energy.add(&model, &Integrals::simpson(dt, &start, &m, &b));
+        self.end_integrands = Some(b);
+    }
+
+    /// After stopping at a band edge, step into the band the current was
+    /// heading for (`i_end`: where the whole interval would have ended).
+    fn enter_band_past_edge(&mut self, i_end: f64) {
+        if self.params.saturation.is_some() {
+            let rising = i_end.abs() > self.x[0].abs();
+            let band =
+                if rising { (self.band + 1).min(TOP_BAND) } else { self.band.saturating_sub(1) };
+            self.set_band(band);
+        }
+    }
+
+    fn set_band(&mut self, band: u16) {
+        self.band = band;
+        self.band_range = match self.params.saturation {
+            None => (f64::NEG_INFINITY, f64::INFINITY),
+            Some(sat) => sat.range(band),
+        };
+        self.end_integrands = None;
+        self.prepare();
+    }
+}
