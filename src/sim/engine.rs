@@ -17,6 +17,7 @@
 //! simulated [`Peripherals`]; after each handler the engine reads the gate
 //! pin, the armed compare and the comparator's DAC.
 
+use super::cpu::{Cpu, CpuUsage, Handler};
 use super::firmware::Firmware;
 use super::hardware::{sensed_input_channel, sensed_output_channel, true_clock_hz};
 use super::mcu::{Adc, Comparator, ComparatorSource};
@@ -52,6 +53,8 @@ pub struct RunOutput {
     pub setpoint_v: f64,
     /// Faults the firmware logged: kind and time since t = 0, s.
     pub faults: Vec<(FaultKind, f64)>,
+    /// What the handlers cost the named core (none without a core).
+    pub cpu: Option<CpuUsage>,
 }
 
 /// Why a scenario could not run.
@@ -62,6 +65,13 @@ pub enum RunError {
     Config(ScenarioError),
     /// The caller cancelled the run.
     Cancelled,
+    /// The handlers needed more than the whole CPU.
+    CpuOverload {
+        /// Their share of the CPU's time.
+        load: f64,
+        /// The scenario key of the rate that asks the most of it.
+        key: String,
+    },
 }
 
 impl std::fmt::Display for RunError {
@@ -69,6 +79,11 @@ impl std::fmt::Display for RunError {
         match self {
             Self::Config(e) => write!(f, "firmware configuration refused: {e}"),
             Self::Cancelled => f.write_str("interrupted"),
+            Self::CpuOverload { load, key } => write!(
+                f,
+                "`{key}`: the firmware's handlers need {:.0} % of the CPU: no core can run them; lower the rate or name a faster core",
+                100.0 * load
+            ),
         }
     }
 }
@@ -105,17 +120,20 @@ struct Schedule {
 }
 
 impl Schedule {
-    fn next_event(&self) -> u64 {
+    /// The next tick something happens; interrupts wait for the core while
+    /// it is busy until `busy_until`.
+    fn next_event(&self, busy_until: u64) -> u64 {
         let mut next = self.end.min(self.next_sample).min(self.next_housekeeping);
         let mut consider = |t: Option<u64>| {
             if let Some(t) = t {
                 next = next.min(t);
             }
         };
-        consider(self.conversion.map(|c| c.0));
+        let entry = |t: u64| t.max(busy_until);
+        consider(self.conversion.map(|c| entry(c.0)));
         consider(self.compare);
-        consider(self.compare_irq);
-        consider(self.edge.map(|e| e.0));
+        consider(self.compare_irq.map(entry));
+        consider(self.edge.map(|e| entry(e.0)));
         consider(self.dead_time_end);
         consider(self.breaks.get(self.next_break).map(|b| b.0));
         consider(self.window_edges.get(self.next_window_edge).map(|w| w.0));
@@ -150,6 +168,11 @@ struct Engine<F> {
     t_fall_s: f64,
     schedule: Schedule,
     recorder: Recorder,
+    cpu: Cpu,
+    /// A fast handler's outputs take effect at this tick (when it ends).
+    effects_at: Option<u64>,
+    /// A housekeeping tick's outputs wait for it to end.
+    housekeeping_effects: bool,
 }
 
 /// Run a scenario to its end with the crate's stack, configured as the
@@ -193,7 +216,7 @@ pub fn run_firmware_with<F: Firmware>(
         if events.is_multiple_of(CHECK_EVERY) && control.check(engine.tick as f64 * engine.tick_s) {
             return Err(RunError::Cancelled);
         }
-        let target = engine.schedule.next_event();
+        let target = engine.next_event();
         engine.tick = if engine.comparator.exists() {
             // A comparator may fire inside the interval: solve eagerly.
             engine.advance_plant(target)
@@ -203,7 +226,24 @@ pub fn run_firmware_with<F: Firmware>(
         engine.dispatch();
     }
     engine.catch_up();
-    Ok(engine.finish(stored_start, scenario))
+    let out = engine.finish(stored_start, scenario);
+    match &out.cpu {
+        Some(cpu) if cpu.load > 1.0 => {
+            Err(RunError::CpuOverload { load: cpu.load, key: overload_key(cpu).to_string() })
+        }
+        _ => Ok(out),
+    }
+}
+
+/// The scenario key of the rate behind the handler that takes the most of
+/// the CPU.
+fn overload_key(cpu: &CpuUsage) -> &'static str {
+    let heaviest = cpu.handlers.iter().max_by(|a, b| a.load.total_cmp(&b.load));
+    match heaviest.map(|h| h.handler.as_str()) {
+        Some("housekeeping") => "firmware.housekeeping_hz",
+        Some("conversion") => "mcu.sample_rate_hz",
+        _ => "mcu.cpu_clock_hz",
+    }
 }
 
 fn ticks(seconds: f64, hz: f64) -> u64 {
@@ -236,6 +276,8 @@ impl<F: Firmware> Engine<F> {
             Stage::Synchronous { dead_time_s, .. } => ticks(dead_time_s, hz),
             Stage::NonSynchronous => 0,
         };
+        let costs = super::cpu::scenario_costs(sc, |h, core| firmware.instructions(h, core));
+        let cpu = Cpu::new(costs.map(|(c, _)| c), hz_true);
         let adc = Adc::new(
             sensed_output_channel(&sc.mcu).map_err(key)?,
             sensed_input_channel(&sc.mcu).map_err(key)?,
@@ -285,6 +327,9 @@ impl<F: Firmware> Engine<F> {
                 end: ticks(sc.duration_s, hz_true),
             },
             recorder,
+            cpu,
+            effects_at: None,
+            housekeeping_effects: false,
         })
     }
 
@@ -298,8 +343,21 @@ impl<F: Firmware> Engine<F> {
             simulated_s: self.schedule.end as f64 * self.tick_s,
             setpoint_v: sc.control.law.setpoint_v(),
             faults: self.firmware.faults().iter().map(|f| (f.kind, since_start(f.at))).collect(),
+            cpu: self.cpu.usage(self.schedule.end as f64 * self.tick_s),
             recorder: self.recorder,
         }
+    }
+
+    /// The next tick something happens.
+    fn next_event(&self) -> u64 {
+        let mut next = self.schedule.next_event(self.cpu.busy_until());
+        if let Some(t) = self.effects_at {
+            next = next.min(t);
+        }
+        if let (true, Some(t)) = (self.housekeeping_effects, self.cpu.housekeeping_until()) {
+            next = next.min(t);
+        }
+        next
     }
 
     fn now(&self) -> Instant {
@@ -355,6 +413,9 @@ impl<F: Firmware> Engine<F> {
     fn schedule_edge_interrupt(&mut self) {
         let ready = ((self.t_s() + self.comparator_delay_s) / self.tick_s).ceil() as u64;
         let at = ready.max(self.plant_tick + 1) + self.latency_ticks;
+        if self.schedule.edge.is_some() {
+            self.cpu.merge(Handler::Comparator);
+        }
         self.schedule.edge = Some((at, self.comparator.level));
     }
 
@@ -390,6 +451,7 @@ impl<F: Firmware> Engine<F> {
         self.window_edges();
         self.dead_time();
         self.compare();
+        self.handler_outputs();
         self.interrupts();
         self.housekeeping();
         self.sample();
@@ -435,41 +497,73 @@ impl<F: Firmware> Engine<F> {
         }
     }
 
-    /// The interrupts due now, by priority: the compare first (it ends
-    /// pulses; and a compare that fired while another interrupt was being
-    /// entered is taken first, as a higher-priority late arrival is on a
-    /// Cortex-M), then the comparator, then the conversion.
+    /// The interrupts due now, by priority, while the core is free: the
+    /// compare first (it ends pulses; and a compare that fired while
+    /// another interrupt was being entered is taken first, as a
+    /// higher-priority late arrival is on a Cortex-M), then the
+    /// comparator, then the conversion. Each runs to its end before the
+    /// next starts (see `cpu`).
     fn interrupts(&mut self) {
-        let due = |t: Option<u64>| t.is_some_and(|t| t <= self.tick);
-        let entering = due(self.schedule.conversion.map(|c| c.0))
-            || due(self.schedule.edge.map(|e| e.0))
-            || due(self.schedule.compare_irq);
-        if entering && self.schedule.compare_irq.is_some() {
-            self.schedule.compare_irq = Some(self.tick);
+        while self.cpu.free_at(self.tick) {
+            let due = |t: Option<u64>| t.is_some_and(|t| t <= self.tick);
+            let entering = due(self.schedule.conversion.map(|c| c.0))
+                || due(self.schedule.edge.map(|e| e.0))
+                || due(self.schedule.compare_irq);
+            if entering && self.schedule.compare_irq.is_some() {
+                self.schedule.compare_irq = Some(self.tick);
+            }
+            let ran =
+                self.compare_interrupt() || self.edge_interrupt() || self.conversion_interrupt();
+            if !ran {
+                return;
+            }
         }
-        self.compare_interrupt();
-        self.edge_interrupt();
-        self.conversion_interrupt();
     }
 
-    fn conversion_interrupt(&mut self) {
-        let Some((t, output, input)) = self.schedule.conversion else { return };
-        if t <= self.tick {
-            self.schedule.conversion = None;
-            let now = self.now();
-            self.firmware.adc_done(output, input, now);
+    /// A fast handler just ran: its outputs take effect when it ends.
+    fn handler_ran(&mut self, handler: Handler) {
+        let end = self.cpu.run_fast(handler, self.tick);
+        if end <= self.tick {
+            self.after_handler();
+        } else {
+            self.effects_at = Some(end);
+        }
+    }
+
+    /// Outputs of handlers that have ended by now.
+    fn handler_outputs(&mut self) {
+        if self.effects_at.is_some_and(|t| t <= self.tick) {
+            self.effects_at = None;
+            self.after_handler();
+        }
+        if self.housekeeping_effects && !self.cpu.housekeeping_running(self.tick) {
+            self.housekeeping_effects = false;
             self.after_handler();
         }
     }
 
-    fn edge_interrupt(&mut self) {
-        let Some((t, level)) = self.schedule.edge else { return };
-        if t <= self.tick {
-            self.schedule.edge = None;
-            let now = self.now();
-            self.firmware.comparator_edge(level, now);
-            self.after_handler();
+    fn conversion_interrupt(&mut self) -> bool {
+        let Some((t, output, input)) = self.schedule.conversion else { return false };
+        if t > self.tick {
+            return false;
         }
+        self.schedule.conversion = None;
+        let now = self.now();
+        self.firmware.adc_done(output, input, now);
+        self.handler_ran(Handler::Conversion);
+        true
+    }
+
+    fn edge_interrupt(&mut self) -> bool {
+        let Some((t, level)) = self.schedule.edge else { return false };
+        if t > self.tick {
+            return false;
+        }
+        self.schedule.edge = None;
+        let now = self.now();
+        self.firmware.comparator_edge(level, now);
+        self.handler_ran(Handler::Comparator);
+        true
     }
 
     /// The compare fires: the timer ends a pulse armed to end here, and
@@ -485,27 +579,42 @@ impl<F: Firmware> Engine<F> {
                 self.follow_pin();
             }
         }
+        if self.schedule.compare_irq.is_some() {
+            self.cpu.merge(Handler::Compare);
+        }
         self.schedule.compare_irq = Some(self.tick + self.latency_ticks);
     }
 
-    fn compare_interrupt(&mut self) {
-        if self.schedule.compare_irq.is_some_and(|t| t <= self.tick) {
-            self.schedule.compare_irq = None;
-            let now = self.now();
-            self.firmware.timer_compare(now);
-            self.after_handler();
+    fn compare_interrupt(&mut self) -> bool {
+        if self.schedule.compare_irq.is_none_or(|t| t > self.tick) {
+            return false;
         }
+        self.schedule.compare_irq = None;
+        let now = self.now();
+        self.firmware.timer_compare(now);
+        self.handler_ran(Handler::Compare);
+        true
     }
 
+    /// The housekeeping tick: the lowest priority, preempted by the other
+    /// handlers; a tick while the last one still runs is merged with it.
     fn housekeeping(&mut self) {
         if self.schedule.next_housekeeping > self.tick {
             return;
         }
         self.schedule.next_housekeeping += self.housekeeping_period;
+        if self.cpu.housekeeping_running(self.tick) {
+            self.cpu.merge(Handler::Housekeeping);
+            return;
+        }
         self.catch_up();
         let now = self.now();
         self.firmware.housekeeping(now);
-        self.after_handler();
+        if self.cpu.run_housekeeping(self.tick) <= self.tick {
+            self.after_handler();
+        } else {
+            self.housekeeping_effects = true;
+        }
         if let Some((output_w, input_w)) = self.firmware.power_estimate() {
             self.recorder.estimate(self.t_s(), output_w, input_w);
         }
@@ -523,6 +632,10 @@ impl<F: Firmware> Engine<F> {
         // The input is scanned in the same sequence.
         let input = self.adc.convert_input(self.plant.vin_v());
         let done = self.tick + self.conversion_ticks + self.latency_ticks;
+        if self.schedule.conversion.is_some() {
+            // The last result was never read: overwritten.
+            self.cpu.merge(Handler::Conversion);
+        }
         self.schedule.conversion = Some((done, output, input));
     }
 

@@ -7,6 +7,7 @@
 //! your own implements [`Firmware`] and runs with
 //! [`run_firmware`](super::run_firmware); `examples/own_law.rs` shows one.
 
+use super::cpu::{Core, Handler};
 use super::peripherals::{Peripherals, SimComparator, SimDac, SimPin, SimTimer};
 use crate::drive::{GateDriver, Polarity, PulseEnd};
 use crate::guard::ClampCounts;
@@ -54,6 +55,16 @@ pub trait Firmware {
     /// At the end: the faults the firmware logged. Default: none.
     fn faults(&self) -> Vec<FaultRecord> {
         Vec::new()
+    }
+
+    /// Instructions one call of `handler` takes on `core`, entry and exit
+    /// excluded, when the scenario names a core. Default: the crate's
+    /// stack's count for the scenario's wiring, from the target proof's
+    /// table ([`super::cpu`]). A firmware of your own can give its own
+    /// (count it with `tests/target/run.sh`'s method).
+    fn instructions(&self, handler: Handler, core: Core) -> Option<u32> {
+        let _ = (handler, core);
+        None
     }
 }
 

@@ -3,6 +3,7 @@
 
 use super::accounting::{regulating_windows, steady_efficiency};
 use super::audible::{self, Audible};
+use super::cpu::CpuUsage;
 use super::emission::{EmissionSummary, Estimate};
 use super::engine::RunOutput;
 use super::plant::{EnergyLedger, Loss};
@@ -99,6 +100,11 @@ pub struct Summary {
     pub audible: Option<Audible>,
     /// Conducted-emission estimate ([`Summary::with_emission`]).
     pub emission: EmissionSummary,
+    /// Share of the named core's time the firmware's handlers took, 0–1
+    /// (null without a core in the scenario).
+    pub cpu_load: Option<f64>,
+    /// The core's time by handler, and the longest handler.
+    pub cpu: Option<CpuUsage>,
 }
 
 /// `a / b`, or NaN when `b` is zero.
@@ -184,6 +190,8 @@ impl Summary {
             emission: EmissionSummary::NotAvailable {
                 reason: "not estimated for this summary".to_string(),
             },
+            cpu_load: out.cpu.as_ref().map(|c| c.load),
+            cpu: out.cpu.clone(),
         }
     }
 

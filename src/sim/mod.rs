@@ -11,6 +11,7 @@
 //! | [`peripherals`] | simulated gate pin, compare timer, comparator and DAC |
 //! | [`build`] | the crate's stack configured from a scenario |
 //! | [`mcu`] | the microcontroller model: ADC, comparator |
+//! | [`cpu`] | the core: each handler's cost, and how handlers share it |
 //! | [`engine`] | the event loop: plant, peripherals, interrupts |
 //! | [`hardware`] | the simulated peripherals' errors against the firmware's configuration |
 //! | [`run_control`] | progress and cancellation of a run |
@@ -30,6 +31,7 @@ pub mod audible;
 pub mod build;
 pub mod cells;
 pub mod compare;
+pub mod cpu;
 pub mod emission;
 pub mod engine;
 pub mod firmware;

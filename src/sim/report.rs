@@ -1,6 +1,7 @@
 //! The terminal report and the CSV files of a run.
 
 use super::audible::Audible;
+use super::cpu::{CpuUsage, WARN_LOAD};
 use super::emission::EmissionSummary;
 use super::metrics::Summary;
 use super::plant::Loss;
@@ -145,6 +146,7 @@ pub fn rows(s: &Summary, window: &WindowConfig) -> Vec<(String, String)> {
     }
     row("audible", audible_text(s.audible.as_ref()));
     row("emission", emission_text(&s.emission));
+    row("cpu", cpu_text(s.cpu.as_ref()));
     row("faults", faults);
     row(
         "run",
@@ -186,6 +188,30 @@ pub fn emission_text(e: &EmissionSummary) -> String {
         ),
         EmissionSummary::NotAvailable { reason } => format!("not available: {reason}"),
     }
+}
+
+/// The CPU row: load, the longest handler, overruns, a warning above
+/// [`WARN_LOAD`].
+pub fn cpu_text(cpu: Option<&CpuUsage>) -> String {
+    let Some(c) = cpu else {
+        return "not modelled (no `mcu.core` in the scenario: handlers take no time)".to_string();
+    };
+    let merged: u64 = c.handlers.iter().map(|h| h.merged).sum();
+    let mut text = format!(
+        "{} at {}: load {:.1} %   longest handler {} {}",
+        c.core,
+        eng(c.cpu_clock_hz, "Hz"),
+        100.0 * c.load,
+        c.worst_handler,
+        eng(c.worst_handler_s, "s")
+    );
+    if merged > 0 {
+        text += &format!("   {merged} events merged while waiting");
+    }
+    if c.load > WARN_LOAD {
+        text += &format!("   WARNING: above {:.0} %", 100.0 * WARN_LOAD);
+    }
+    text
 }
 
 /// The envelope slices as CSV.

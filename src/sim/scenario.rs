@@ -5,6 +5,7 @@
 //! physical consistency (a negative inductance, an output the input can
 //! never reach), and [`ScenarioError`] names the key and its line.
 
+use super::cpu::Core;
 use super::emission::EmissionParams;
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, Load, LoadChange, Profile};
@@ -69,6 +70,21 @@ pub struct McuParams {
     /// fast); applied by the simulated timer only.
     #[serde(default, skip_serializing_if = "is_zero")]
     pub clock_error_ppm: f64,
+    /// The core the firmware runs on; omitted: handlers take no time (an
+    /// ideal CPU). See [`super::cpu`].
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub core: Option<Core>,
+    /// The core's clock, Hz; omitted: `clock_hz` (the timer counts the
+    /// core clock).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cpu_clock_hz: Option<f64>,
+    /// Cycles per instruction, overriding the core's factor (a part with
+    /// flash wait states, say).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cpi: Option<f64>,
+    /// Interrupt entry and exit, cycles, overriding the core's factor.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub irq_overhead_cycles: Option<f64>,
 }
 
 fn is_zero(x: &f64) -> bool {
@@ -412,6 +428,15 @@ impl Scenario {
         let m = &self.mcu;
         if m.clock_hz == 0 {
             return Err(invalid("mcu.clock_hz", "must be above 0"));
+        }
+        if let Some(hz) = m.cpu_clock_hz {
+            positive("mcu.cpu_clock_hz", hz)?;
+        }
+        if let Some(cpi) = m.cpi {
+            positive("mcu.cpi", cpi)?;
+        }
+        if let Some(cycles) = m.irq_overhead_cycles {
+            non_negative("mcu.irq_overhead_cycles", cycles)?;
         }
         positive("mcu.sample_rate_hz", m.sample_rate_hz)?;
         if m.sample_rate_hz > f64::from(m.clock_hz) {

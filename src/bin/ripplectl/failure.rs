@@ -37,6 +37,6 @@ pub fn interrupted() -> Failure {
 pub fn run_failure(e: RunError) -> Failure {
     match e {
         RunError::Cancelled => interrupted(),
-        RunError::Config(_) => bad_input(e),
+        RunError::Config(_) | RunError::CpuOverload { .. } => bad_input(e),
     }
 }
