@@ -49,6 +49,12 @@ pub enum LightLoad {
     /// can return the energy. Without one the output rises until the
     /// over-voltage protection acts.
     ForcedPulse,
+    /// Make each pulse smaller as the load falls, so the loop must switch
+    /// more often: the stack's slow path lowers the current limit's cap
+    /// while periods run long ([`crate::stack::light_load`]), and turns on
+    /// forced pulses only once the cap has reached its floor. The guard
+    /// itself reports long periods, as [`LightLoad::ReportOnly`] does.
+    SmallerPulses,
 }
 
 /// Guard limits in SI units.
@@ -84,6 +90,7 @@ impl WindowConfig {
     ///   begin; the margin covers timer and clock tolerance.
     /// - 150 ns minimum on-time, 300 ns minimum off-time and 40 µs maximum
     ///   on-time are demo values for a small MOSFET with a bootstrap driver.
+    /// - Light load: [`LightLoad::SmallerPulses`].
     pub const fn demo() -> Self {
         Self {
             f_min_hz: 20_000.0,
@@ -91,7 +98,7 @@ impl WindowConfig {
             min_on_s: 150e-9,
             min_off_s: 300e-9,
             max_on_s: 40e-6,
-            light_load: LightLoad::ReportOnly,
+            light_load: LightLoad::SmallerPulses,
         }
     }
 }
@@ -191,6 +198,9 @@ pub struct FrequencyGuard<L> {
     may_turn_on: bool,
     slow_noted: bool,
     pulse_due: bool,
+    // Forced pulses on: `LightLoad::ForcedPulse`, or the slow path's last
+    // resort under `SmallerPulses`.
+    forced_pulses: bool,
     on_clamp_noted: bool,
     off_clamp_noted: bool,
     counts: ClampCounts,
@@ -213,6 +223,7 @@ impl<L: Law> FrequencyGuard<L> {
             may_turn_on: true,
             slow_noted: true,
             pulse_due: false,
+            forced_pulses: matches!(window.light_load, LightLoad::ForcedPulse),
             on_clamp_noted: false,
             off_clamp_noted: false,
             counts: ClampCounts {
@@ -249,6 +260,13 @@ impl<L: Law> FrequencyGuard<L> {
     /// Clamp counters since construction or the last [`take_counts`](Self::take_counts).
     pub const fn counts(&self) -> &ClampCounts {
         &self.counts
+    }
+
+    /// Slow path: issue forced pulses below `f_min` or not (the last resort
+    /// of [`LightLoad::SmallerPulses`]; [`LightLoad::ForcedPulse`] starts
+    /// with them on).
+    pub fn set_forced_pulses(&mut self, on: bool) {
+        self.forced_pulses = on;
     }
 
     /// Read and zero the clamp counters (slow path, telemetry).
@@ -317,7 +335,7 @@ impl<L: Law> FrequencyGuard<L> {
             }
             self.slow_noted = true;
             self.counts.slow_periods = self.counts.slow_periods.wrapping_add(1);
-            self.pulse_due = self.window.light_load == LightLoad::ForcedPulse;
+            self.pulse_due = self.forced_pulses;
         }
         if self.pulse_due {
             return self.forced_pulse(now);

@@ -158,8 +158,21 @@ fn tolerance_json_has_the_yield_failures_and_figures() {
 #[test]
 fn tolerance_out_writes_histograms_and_reproducing_scenarios() {
     let dir = tempfile::tempdir().unwrap();
+    // A regulation band of ±0.05 %: some runs fail, so there are files to
+    // reproduce them.
+    let strict = dir.path().join("strict.toml");
+    std::fs::write(&strict, default_toml() + "\n[tolerance.criteria]\nregulation_pct = 0.05\n")
+        .unwrap();
     let out_dir = dir.path().join("tol");
-    let out = ripplectl(&["tolerance", "--runs", "30", "--out", out_dir.to_str().unwrap()]);
+    let out = ripplectl(&[
+        "tolerance",
+        "--scenario",
+        strict.to_str().unwrap(),
+        "--runs",
+        "30",
+        "--out",
+        out_dir.to_str().unwrap(),
+    ]);
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let names: Vec<String> = std::fs::read_dir(&out_dir)
         .unwrap()
@@ -171,6 +184,7 @@ fn tolerance_out_writes_histograms_and_reproducing_scenarios() {
     let passed: usize =
         text.split(" of 30 pass").next().unwrap().rsplit(' ').next().unwrap().parse().unwrap();
     assert_eq!(failing.len(), 30 - passed, "{text}");
+    assert!(!failing.is_empty(), "{text}");
     // Each file is a scenario `simulate` accepts.
     let first = out_dir.join(failing[0]);
     let run = ripplectl(&["simulate", "--scenario", first.to_str().unwrap(), "--json"]);

@@ -53,7 +53,10 @@ fn hard_short_is_limited_and_hiccups() {
 #[test]
 fn open_feedback_divider_latches_before_the_output_runs_away() {
     let mut s = base();
-    s.duration_s = 14e-3;
+    // Each restart takes its hiccup (2 ms), its soft-start (1 ms: no cycle
+    // ended by the ramping cap counts toward a short) and the 8 limited
+    // cycles: the fifth detection, which latches, comes after 15 ms.
+    s.duration_s = 18e-3;
     s.mcu.feedback_open_at_s = Some(3e-3);
     let out = sim::run(&s).unwrap();
     let ovp = f64::from(s.firmware.protection.ovp_v);

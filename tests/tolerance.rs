@@ -114,7 +114,10 @@ fn the_yield_interval_covers_a_yield_known_by_a_dense_scan() {
 
 #[test]
 fn a_failing_runs_file_reproduces_it_exactly() {
-    let base = Scenario::default_demo();
+    // A regulation band of ±0.05 %, so that some runs fail.
+    let mut base = Scenario::default_demo();
+    let criteria = Criteria { regulation_pct: 0.05, ..Criteria::default() };
+    base.tolerance = Some(ToleranceParams { spread: Spreads::default(), criteria });
     let outcome = study(&base, Mode::Random { runs: 30, seed: 1 });
     let failing = outcome.runs.iter().find(|r| !r.verdict.passed()).expect("some run fails");
     let text = toml::to_string(&run_scenario(&base, failing)).unwrap();

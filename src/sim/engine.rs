@@ -123,13 +123,14 @@ impl Schedule {
     /// The next tick something happens; interrupts wait for the core while
     /// it is busy until `busy_until`.
     fn next_event(&self, busy_until: u64) -> u64 {
-        let mut next = self.end.min(self.next_sample).min(self.next_housekeeping);
+        let entry = |t: u64| t.max(busy_until);
+        // The housekeeping tick, too, waits for a handler in progress.
+        let mut next = self.end.min(self.next_sample).min(entry(self.next_housekeeping));
         let mut consider = |t: Option<u64>| {
             if let Some(t) = t {
                 next = next.min(t);
             }
         };
-        let entry = |t: u64| t.max(busy_until);
         consider(self.conversion.map(|c| entry(c.0)));
         consider(self.compare);
         consider(self.compare_irq.map(entry));
@@ -599,8 +600,18 @@ impl<F: Firmware> Engine<F> {
     /// The housekeeping tick: the lowest priority, preempted by the other
     /// handlers; a tick while the last one still runs is merged with it.
     fn housekeeping(&mut self) {
-        if self.schedule.next_housekeeping > self.tick {
+        if self.schedule.next_housekeeping > self.tick || !self.cpu.free_at(self.tick) {
             return;
+        }
+        // A compare that has fired is served first (its priority is higher,
+        // and its pulse end has happened: the firmware must learn of it
+        // before the slow path reads the estimate).
+        if self.schedule.compare_irq.is_some() {
+            self.schedule.compare_irq = Some(self.tick);
+            self.interrupts();
+            if !self.cpu.free_at(self.tick) {
+                return;
+            }
         }
         self.schedule.next_housekeeping += self.housekeeping_period;
         if self.cpu.housekeeping_running(self.tick) {

@@ -20,7 +20,7 @@
 //! # assert_eq!(stack.telemetry().state, ripplectl::supervisor::State::Off);
 //! ```
 
-use super::slow::{SlowPath, SlowPathConfig};
+use super::slow::{LightLoadSettings, SlowPath, SlowPathConfig};
 use crate::error::{attempt, ConfigError};
 use crate::estimate::{CurrentEstimator, InductorModel, LossConfig, Steinmetz};
 use crate::guard::{Window, WindowConfig};
@@ -146,7 +146,13 @@ impl StackParts {
         estimator.follow_output(vout);
         estimator.follow_input(vin);
         let limits = attempt!(Limits::new(&cfg.protection, vout, vin, clock, setpoint));
-        let slow = attempt!(SlowPath::new(&cfg.slow, &cfg.model, vout, vin, clock, setpoint));
+        let light = LightLoadSettings {
+            policy: cfg.window.light_load,
+            f_min_hz: cfg.window.f_min_hz,
+            current_limit: limits.current_limit,
+        };
+        let slow =
+            attempt!(SlowPath::new(&cfg.slow, &cfg.model, vout, vin, clock, setpoint, light));
         Ok(Self { sensing: cfg.sensing, window, estimator, limits, slow })
     }
 }

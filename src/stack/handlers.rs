@@ -61,12 +61,17 @@ impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
 
     /// The one-shot compare fired; `now` is the timer's reading in the
     /// handler. A pulse the timer ended in hardware is reported to the
-    /// stack at the compare's own instant.
+    /// stack at the compare's own instant, or at the stack's last event if
+    /// another handler ran in between (give the compare the highest
+    /// priority, so none does: the estimate then times the edge exactly).
     ///
     /// Errors: the gate pin's.
     #[inline]
     pub fn compare_fired(&mut self, now: Instant) -> Result<(), P::Error> {
-        let at = self.driver.compare_fired(now).unwrap_or(now);
+        let at = match self.driver.compare_fired(now) {
+            Some(at) => self.stack.not_before_last_event(at),
+            None => now,
+        };
         let command = self.stack.on_timer(at);
         self.driver.apply(command)
     }

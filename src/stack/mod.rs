@@ -22,11 +22,13 @@
 //! | `mod.rs` | [`Stack`]: assembly and entry points |
 //! | `config.rs` | [`StackConfig`] (SI), [`StackParts`] (raw) |
 //! | `slow.rs` | the housekeeping window: losses, retuning, DC correction, observer |
+//! | `light_load.rs` | smaller pulses at light load (the current limit's cap) |
 //! | `handlers.rs` | [`Handlers`]: the stack wired to its gate driver, one call per interrupt |
 //! | `telemetry.rs` | [`Telemetry`] |
 
 mod config;
 mod handlers;
+pub mod light_load;
 pub mod slow;
 mod telemetry;
 
@@ -116,6 +118,18 @@ impl<L: Law + Regulate> Stack<L> {
     /// How the law gets the output.
     pub const fn sensing(&self) -> Sensing {
         self.sensing
+    }
+
+    /// `at`, or the instant of the stack's last event when `at` precedes
+    /// it: no event may go back in time (fast path: one compare).
+    #[inline]
+    pub fn not_before_last_event(&self, at: Instant) -> Instant {
+        let last = self.supervisor.estimator().segment_start();
+        if at.ticks_since(last) > crate::tick::MAX_DURATION_TICKS {
+            last
+        } else {
+            at
+        }
     }
 
     /// The estimated inductor current at `now` (fast path).

@@ -13,12 +13,13 @@
 //! Integer arithmetic only: a core without an FPU links no float code for
 //! it. Configuration ([`SlowPath::new`]) is a `const fn`.
 
+use super::light_load::PulseSizer;
 use crate::error::{attempt, positive, ConfigError};
 use crate::estimate::{
     Amps, CurrentEstimator, InductorModel, LossBreakdown, LossConfig, LossModel, Observer,
     ObserverConfig, Phases,
 };
-use crate::guard::ClampCounts;
+use crate::guard::{ClampCounts, LightLoad};
 use crate::law::{Conditions, DcCorrection, Law, Regulate};
 use crate::scale::{AdcChannel, TimerClock};
 use crate::supervisor::{State, Supervisor};
@@ -57,6 +58,15 @@ pub struct SlowPathConfig {
     pub dc_correction: bool,
     /// The loss model behind the efficiency estimate.
     pub losses: LossConfig,
+}
+
+/// What the slow path needs of the frequency window and the current limit
+/// (for the light-load policy).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(super) struct LightLoadSettings {
+    pub(super) policy: LightLoad,
+    pub(super) f_min_hz: f32,
+    pub(super) current_limit: Amps,
 }
 
 /// The observer with what its input needs.
@@ -103,6 +113,8 @@ pub struct SlowPath {
     last_vin: u32,
     hold: u8,
     clamps_before: ClampCounts,
+    // `Some` under `LightLoad::SmallerPulses`.
+    sizer: Option<PulseSizer>,
     report: SlowReport,
 }
 
@@ -113,13 +125,14 @@ impl SlowPath {
     /// Errors: `housekeeping_hz` or `output_capacitance_f` not positive;
     /// those of [`Observer::new`], [`LossModel::new`] and
     /// [`DcCorrection::new`].
-    pub const fn new(
+    pub(super) const fn new(
         cfg: &SlowPathConfig,
         model: &InductorModel,
         vout: &AdcChannel,
         vin: &AdcChannel,
         clock: &TimerClock,
         setpoint_code: u16,
+        light: LightLoadSettings,
     ) -> Result<Self, ConfigError> {
         let hz = attempt!(positive("housekeeping_hz", cfg.housekeeping_hz as f64));
         let averaged = match cfg.observer_bandwidth_hz {
@@ -139,6 +152,12 @@ impl SlowPath {
             averaged,
             dc,
             input_steady: steady as u32,
+            sizer: match light.policy {
+                LightLoad::SmallerPulses => {
+                    Some(PulseSizer::new(light.current_limit, light.f_min_hz))
+                }
+                _ => None,
+            },
             last_vin: 0,
             hold: OBSERVER_HOLD,
             clamps_before: ClampCounts {
@@ -231,7 +250,16 @@ impl SlowPath {
             if let Some(dc) = self.dc.as_mut() {
                 dc.reset();
             }
+            if let Some(sizer) = self.sizer.as_mut() {
+                sizer.reset();
+            }
             return;
+        }
+        if let Some(sizer) = self.sizer.as_mut() {
+            let slow = clamps.slow_periods != before.slow_periods;
+            let size = sizer.update(phases.f_sw_hz, phases.cycles, slow);
+            sup.set_pulse_cap(size.cap);
+            sup.inner_mut().set_forced_pulses(size.forced);
         }
         let conditions = Conditions {
             vin,

@@ -10,6 +10,11 @@
 //! blanking and is ended in the same call (valley hold-off). A pulse begun
 //! just below the limit can so pass it by up to the on-slope times the
 //! minimum on-time.
+//!
+//! The level it acts at is the *cap*: the configured limit, or lower while
+//! the soft-start ramps it up (`soft_start.rs`) or while the light-load
+//! policy makes pulses smaller (`stack::light_load`). Only a cycle ended at
+//! the configured limit counts toward a short circuit.
 
 use crate::estimate::{Amps, CurrentEstimator};
 use crate::tick::Instant;
@@ -18,20 +23,34 @@ use crate::tick::Instant;
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub(super) struct CurrentLimit {
+    // The configured limit, and the level the limit acts at (≤ limit).
     limit: Amps,
+    cap: Amps,
     // The wrapped stage's minimum on-time, ticks.
     blanking: u32,
     // End of the present pulse's blanking: the limit acts from then on.
     blank_end: Instant,
     // Predicted crossing, set at each turn-on.
     deadline: Option<Instant>,
-    // The limit ended the present cycle's on-time.
+    // The configured limit ended the present cycle's on-time.
     acted: bool,
 }
 
 impl CurrentLimit {
     pub(super) const fn new(limit: Amps, blanking: u32) -> Self {
-        Self { limit, blanking, blank_end: Instant(0), deadline: None, acted: false }
+        Self { limit, cap: limit, blanking, blank_end: Instant(0), deadline: None, acted: false }
+    }
+
+    /// The level the limit acts at now.
+    pub(super) const fn cap(&self) -> Amps {
+        self.cap
+    }
+
+    /// Act at `cap` from the next turn-on (held within the configured
+    /// limit, not below zero).
+    #[inline(always)]
+    pub(super) fn set_cap(&mut self, cap: Amps) {
+        self.cap = cap.min(self.limit).max(Amps::ZERO);
     }
 
     /// The blanking time, ticks.
@@ -43,9 +62,9 @@ impl CurrentLimit {
     /// blanking and predict the crossing.
     #[inline(always)]
     pub(super) fn arm(&mut self, now: Instant, current_now: Amps, estimator: &CurrentEstimator) {
-        let blanking = if current_now >= self.limit { 0 } else { self.blanking };
+        let blanking = if current_now >= self.cap { 0 } else { self.blanking };
         self.blank_end = now.after(blanking);
-        self.deadline = estimator.ticks_to_reach(self.limit).map(|t| now.after(t.max(blanking)));
+        self.deadline = estimator.ticks_to_reach(self.cap).map(|t| now.after(t.max(blanking)));
     }
 
     /// Whether the limit ends the pulse now: the estimate reached it, or
@@ -55,7 +74,7 @@ impl CurrentLimit {
     #[inline(always)]
     pub(super) fn reached(&self, now: Instant, current_now: Amps) -> bool {
         let predicted = self.deadline.is_some_and(|d| now.has_reached(d));
-        (current_now >= self.limit || predicted) && now.has_reached(self.blank_end)
+        (current_now >= self.cap || predicted) && now.has_reached(self.blank_end)
     }
 
     /// The predicted crossing, for the timer.
@@ -64,10 +83,11 @@ impl CurrentLimit {
         self.deadline
     }
 
-    /// Note that the limit ended this cycle's on-time.
+    /// Note that the limit ended this cycle's on-time (at the configured
+    /// limit: a reduced cap's pulses are no sign of a short).
     #[inline(always)]
     pub(super) fn note_acted(&mut self) {
-        self.acted = true;
+        self.acted = self.cap >= self.limit;
     }
 
     /// Whether the limit ended the cycle just completed; forgets it.

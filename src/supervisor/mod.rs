@@ -8,7 +8,8 @@
 //! |---|---|
 //! | `config.rs` | [`ProtectionConfig`] (SI) and [`Limits`] (codes, ticks, amperes) |
 //! | `fault.rs` | [`FaultKind`], [`FaultRecord`], the [`FaultLog`] |
-//! | `sequence.rs` | [`State`]s, soft-start, hiccup, retries |
+//! | `sequence.rs` | [`State`]s, hiccup, retries |
+//! | `soft_start.rs` | the soft-start ramp of reference and current cap, every reading |
 //! | `limit.rs` | the cycle-by-cycle current limit and its blanking |
 //! | `detect.rs` | short-circuit and stuck-sensor detectors |
 //! | `readings.rs` | readings and their window averages for the slow path |
@@ -36,6 +37,7 @@ mod fault;
 mod limit;
 mod readings;
 mod sequence;
+mod soft_start;
 
 pub use config::{Limits, ProtectionConfig};
 pub use fault::{FaultKind, FaultLog, FaultRecord, FAULT_LOG_LEN};
@@ -48,6 +50,7 @@ use detect::{CycleView, Detectors};
 use limit::CurrentLimit;
 use readings::Readings;
 use sequence::{Sequencer, Step};
+use soft_start::SoftStartRamp;
 
 /// The supervisor around a law `L`.
 #[derive(Clone, Debug)]
@@ -59,6 +62,7 @@ pub struct Supervisor<L> {
     // compare per reading finds either.
     out_stop: u16,
     sequence: Sequencer,
+    ramp: SoftStartRamp,
     gate: Gate,
     readings: Readings,
     out_average: u32,
@@ -94,7 +98,8 @@ impl<L: Law + Regulate> Supervisor<L> {
             inner,
             estimator,
             out_stop,
-            sequence: Sequencer::new(setpoint),
+            sequence: Sequencer::new(),
+            ramp: SoftStartRamp::new(limits.soft_start, setpoint),
             gate: Gate::Off,
             readings: Readings::new(),
             out_average: 0,
@@ -168,6 +173,21 @@ impl<L: Law + Regulate> Supervisor<L> {
         self.readings.last_out
     }
 
+    /// The level the current limit acts at now: the configured limit, or
+    /// lower during the soft-start or under a light-load policy.
+    pub const fn pulse_cap(&self) -> Amps {
+        self.limit.cap()
+    }
+
+    /// Slow path: end pulses at `cap` (held within the configured limit)
+    /// from the next turn-on: a light-load policy's smaller pulses. The
+    /// soft-start ramp sets its own cap while it runs, and ignores this.
+    pub fn set_pulse_cap(&mut self, cap: Amps) {
+        if self.sequence.state() != State::SoftStart {
+            self.limit.set_cap(cap);
+        }
+    }
+
     /// The last input reading, code.
     pub const fn last_input(&self) -> u16 {
         self.readings.last_in
@@ -200,6 +220,27 @@ impl<L: Law + Regulate> Supervisor<L> {
         }
         self.detect.reset();
         Command::hold(Gate::Off)
+    }
+
+    /// Move the soft-start ramp to `now`: the law's reference and the
+    /// current limit's cap; at its end, the setpoint, the full limit, and
+    /// regulation.
+    #[inline(always)]
+    fn soft_start_step(&mut self, now: Instant) {
+        match self.ramp.at(now.ticks_since(self.sequence.since())) {
+            Some((reference, cap)) => {
+                self.inner.set_reference(reference);
+                self.limit.set_cap(cap);
+            }
+            None => self.end_soft_start(),
+        }
+    }
+
+    #[cold]
+    fn end_soft_start(&mut self) {
+        self.inner.set_reference(self.ramp.target());
+        self.limit.set_cap(self.limits.current_limit);
+        self.sequence.regulating();
     }
 
     /// Check a reading against the rails and the over-voltage threshold.
@@ -292,6 +333,9 @@ impl<L: Law + Regulate> Supervisor<L> {
             self.readings.note_output(code);
             return None;
         }
+        if self.sequence.state() == State::SoftStart {
+            self.soft_start_step(now);
+        }
         self.check_output(code, now)
     }
 
@@ -320,14 +364,20 @@ impl<L: Law + Regulate> Supervisor<L> {
         let l = &self.limits;
         let input_ok = vin >= l.uvlo_on && vin <= l.vin_resume;
         match self.sequence.step(input_ok, self.readings.last_out, now, &self.limits) {
-            Step::Begin(reference) => {
+            Step::Begin(output) => {
                 self.estimator.restart_at(now);
-                self.inner.set_reference(reference);
+                self.ramp.begin(output, self.limits.current_limit);
+                self.soft_start_step(now);
             }
-            Step::Reference(reference) => self.inner.set_reference(reference),
+            Step::Hold if self.sequence.state() == State::SoftStart => self.soft_start_step(now),
             Step::Hold => {}
         }
         self.out_average = self.readings.take_output_average();
+        // Within an eighth of the setpoint: regulation reached.
+        let target = u32::from(self.ramp.target()) << 16;
+        if self.out_average >= target - target / 8 {
+            self.sequence.reached_regulation();
+        }
         let out = ((self.out_average + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
         self.estimator.set_voltage_codes(vin, out);
         None
@@ -360,6 +410,9 @@ impl<L: Law + Regulate> Law for Supervisor<L> {
             self.readings.note_output(code);
             self.force_off(now);
             return Command::hold(Gate::Off);
+        }
+        if self.sequence.state() == State::SoftStart {
+            self.soft_start_step(now);
         }
         if let Some(stop) = self.check_output(code, now) {
             return stop;

@@ -9,7 +9,7 @@
 //! ```
 //!
 //! - **Soft-start**: the reference ramps from the present output to the
-//!   setpoint over the configured time, at every housekeeping tick.
+//!   setpoint over the configured time, every reading (`soft_start.rs`).
 //! - **Hiccup**: after a short or an over-voltage the stage stays off for
 //!   the hiccup time, then soft-starts again.
 //! - **Retries**: after that many hiccups in a row without reaching
@@ -39,10 +39,9 @@ pub enum State {
 pub(super) enum Step {
     /// Nothing changes.
     Hold,
-    /// A soft-start begins: restart the estimator, set this reference.
+    /// A soft-start begins from this output code: restart the estimator,
+    /// ramp from there.
     Begin(u16),
-    /// Set this reference (the ramp, or the setpoint at its end).
-    Reference(u16),
 }
 
 /// The state machine and its timing.
@@ -54,21 +53,30 @@ pub(super) struct Sequencer {
     switching: bool,
     // When the present state began.
     since: Instant,
-    // The setpoint and where the ramp started, output codes.
-    target: u16,
-    ramp_from: u16,
     retries: u16,
 }
 
 impl Sequencer {
-    pub(super) const fn new(target: u16) -> Self {
-        Self {
-            state: State::Off,
-            switching: false,
-            since: Instant(0),
-            target,
-            ramp_from: 0,
-            retries: 0,
+    pub(super) const fn new() -> Self {
+        Self { state: State::Off, switching: false, since: Instant(0), retries: 0 }
+    }
+
+    /// When the present state began.
+    #[inline(always)]
+    pub(super) const fn since(&self) -> Instant {
+        self.since
+    }
+
+    /// The soft-start ramp is over: regulating.
+    pub(super) fn regulating(&mut self) {
+        self.state = State::Regulating;
+    }
+
+    /// The output reached regulation: the retries are forgotten (a ramp
+    /// that ran its time without the output following does not count).
+    pub(super) fn reached_regulation(&mut self) {
+        if self.state == State::Regulating {
+            self.retries = 0;
         }
     }
 
@@ -117,7 +125,7 @@ impl Sequencer {
     }
 
     /// One housekeeping step: start when `input_ok`, restart after the
-    /// hiccup, ramp the reference; `output` the last output reading.
+    /// hiccup; `output` the last output reading.
     pub(super) fn step(
         &mut self,
         input_ok: bool,
@@ -129,27 +137,12 @@ impl Sequencer {
         match self.state {
             State::Off if input_ok => self.begin(output, now),
             State::Restart if elapsed >= limits.hiccup => self.begin(output, now),
-            State::SoftStart => Step::Reference(self.ramp(elapsed, limits.soft_start)),
             _ => Step::Hold,
         }
     }
 
     fn begin(&mut self, output: u16, now: Instant) -> Step {
         self.enter(State::SoftStart, now);
-        self.ramp_from = output.min(self.target);
-        Step::Begin(self.ramp_from)
-    }
-
-    /// The ramp's reference `elapsed` ticks into a soft-start of
-    /// `soft_start` ticks; at its end, the setpoint and `Regulating`.
-    fn ramp(&mut self, elapsed: u32, soft_start: u32) -> u16 {
-        if elapsed >= soft_start {
-            self.state = State::Regulating;
-            self.retries = 0;
-            return self.target;
-        }
-        let span = u64::from(self.target - self.ramp_from);
-        let step = crate::units::div_u64(span * u64::from(elapsed), u64::from(soft_start));
-        self.ramp_from + step as u16
+        Step::Begin(output)
     }
 }

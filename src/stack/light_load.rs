@@ -1,0 +1,111 @@
+//! Light load without the audible band: smaller pulses, not fewer.
+//!
+//! In DCM a pulse carries a charge set by its peak current, and pulses come
+//! only as often as the load draws that charge: as the load falls the
+//! frequency falls with it, into the audible band. Under
+//! [`LightLoad::SmallerPulses`](crate::LightLoad::SmallerPulses) the slow
+//! path watches each window: while periods run long (a period past
+//! `1/f_min`, or a window's frequency below 1.25·`f_min`) it lowers the
+//! current limit's cap by an eighth, so each pulse ends at a lower peak and
+//! carries less charge (the charge goes as the peak squared), and the loop
+//! must switch more often; once the frequency is back above 2.5·`f_min` it
+//! raises the cap again by an eighth, up to the configured limit (so a load
+//! step finds the full limit within a few windows). The thresholds are
+//! demo values; the eighth, the step (common practice for a multiplicative
+//! adaptation: slow against the window, fast against a load change).
+//!
+//! **Where it ends.** The cap does not go below a floor of 1/32 of the
+//! limit. If periods still run long there (almost no load: even the
+//! smallest pulses outlast it), forced pulses at the minimum on-time are
+//! the last resort, and those push a diode stage's output up unless
+//! something absorbs them: no load at all needs a bleeder resistor or a
+//! synchronous stage. **What it costs.** More pulses for the same charge:
+//! switching and gate losses per watt delivered grow as the pulse shrinks,
+//! so light-load efficiency falls (the README gives the demo's figures).
+
+use crate::estimate::Amps;
+
+/// The adaptation's state.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PulseSizer {
+    limit: Amps,
+    floor: Amps,
+    cap: Amps,
+    /// Below this window frequency the cap falls, Hz.
+    f_low: u32,
+    /// Above this one it rises again, Hz.
+    f_high: u32,
+}
+
+/// What a window asks of the stage.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct PulseSize {
+    /// End pulses at this current.
+    pub cap: Amps,
+    /// Force a minimum pulse when a period would pass `1/f_min`.
+    pub forced: bool,
+}
+
+impl PulseSizer {
+    /// For a current `limit` and a window floor `f_min_hz`.
+    pub const fn new(limit: Amps, f_min_hz: f32) -> Self {
+        Self {
+            limit,
+            floor: Amps::from_bits(limit.to_bits() / 32),
+            cap: limit,
+            f_low: (f_min_hz * 1.25) as u32,
+            f_high: (f_min_hz * 2.5) as u32,
+        }
+    }
+
+    /// One window while regulating: its frequency (Hz), its cycles, and
+    /// whether a period ran past `1/f_min`.
+    pub fn update(&mut self, f_sw_hz: u32, cycles: u32, slow: bool) -> PulseSize {
+        let too_slow = slow || cycles == 0 || f_sw_hz < self.f_low;
+        let step = Amps::from_bits((self.cap.to_bits() / 8).max(1));
+        if too_slow {
+            self.cap = self.cap.saturating_sub(step).max(self.floor);
+        } else if f_sw_hz > self.f_high {
+            self.cap = self.cap.saturating_add(step).min(self.limit);
+        }
+        PulseSize { cap: self.cap, forced: too_slow && self.cap <= self.floor }
+    }
+
+    /// Back to the full limit (out of regulation).
+    pub fn reset(&mut self) {
+        self.cap = self.limit;
+    }
+
+    /// The cap now.
+    pub const fn cap(&self) -> Amps {
+        self.cap
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_cap_falls_while_slow_and_recovers() {
+        let mut s = PulseSizer::new(Amps::from_num(4), 20e3);
+        let mut last = s.cap();
+        for _ in 0..10 {
+            let size = s.update(15_000, 2, true);
+            assert!(size.cap < last || size.cap == Amps::from_num(0.125));
+            last = size.cap;
+        }
+        for _ in 0..40 {
+            s.update(10_000, 1, true);
+        }
+        assert_eq!(s.cap(), Amps::from_num(0.125), "held at the floor, 1/32 of the limit");
+        assert!(s.update(10_000, 1, true).forced, "forced pulses only at the floor");
+        // In the middle band nothing moves; above 50 kHz it rises.
+        assert_eq!(s.update(40_000, 4, false).cap, Amps::from_num(0.125));
+        for _ in 0..60 {
+            s.update(80_000, 8, false);
+        }
+        assert_eq!(s.cap(), Amps::from_num(4));
+    }
+}
