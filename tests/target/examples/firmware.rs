@@ -1,4 +1,6 @@
-//! A whole firmware on a Cortex-M4 (builds for `thumbv7em-none-eabihf`):
+//! A whole firmware (builds for `thumbv6m-none-eabi` and
+//! `thumbv7em-none-eabihf`; `run.sh` measures its flash, RAM and float
+//! routines on both):
 //! the greenhouse valve rail of the crate's demo (24 V bus, 18–32 V, to
 //! 5 V / 2 A) under the constant on-time law with input feed-forward, a
 //! frequency trim, DC correction and the averaged-model observer: the
