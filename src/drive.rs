@@ -85,7 +85,7 @@ pub enum PulseEnd {
 ///
 /// Starts with the gate off: [`GateDriver::new`] drives the pin to the off
 /// level and disarms the timer.
-#[derive(Debug)]
+#[derive(Clone, Debug)]
 pub struct GateDriver<P, T> {
     pin: P,
     timer: T,

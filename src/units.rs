@@ -9,7 +9,11 @@
 //! conversion saturates at the range's edges; none panics, and NaN gives 0.
 //!
 //! The `const fn` conversions from `f64` run at configuration (compile time
-//! in a firmware's `const`); the rest are integer arithmetic.
+//! in a firmware's `const`); the rest are integer arithmetic. The slow
+//! path's helpers (`mul`, `scale`, the divisions, `ratio`) are never
+//! inlined: each is called from a dozen places, and on a Cortex-M0 their
+//! 64-bit arithmetic is long, so one copy saves flash for a few
+//! instructions of call per use.
 
 use crate::scale::AdcChannel;
 use fixed::types::I16F16;
@@ -73,13 +77,13 @@ pub const fn clamp_i32(x: i64) -> i32 {
 }
 
 /// `a · b` for two `I16F16` values, saturating.
-#[inline]
+#[inline(never)]
 pub fn mul(a: I16F16, b: I16F16) -> I16F16 {
     I16F16::from_bits(clamp_i32((i64::from(a.to_bits()) * i64::from(b.to_bits())) >> 16))
 }
 
 /// `x · f` for a [`Fraction`] `f`, saturating.
-#[inline]
+#[inline(never)]
 pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
     I16F16::from_bits(clamp_i32((i64::from(x.to_bits()) * i64::from(f)) >> 16))
 }
@@ -87,7 +91,7 @@ pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
 /// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit (one
 /// instruction on a Cortex-M3/M4, a short library call on the M0; a 64-bit
 /// division is a long one on both).
-#[inline]
+#[inline(never)]
 pub fn div_u64(n: u64, d: u64) -> u64 {
     if d == 0 {
         0
@@ -100,7 +104,7 @@ pub fn div_u64(n: u64, d: u64) -> u64 {
 
 /// `n / d` rounded toward zero, 0 for `d = 0`, saturating (see
 /// [`div_u64`]).
-#[inline]
+#[inline(never)]
 pub fn div_i64(n: i64, d: i64) -> i64 {
     let q = div_u64(n.unsigned_abs(), d.unsigned_abs()).min(i64::MAX as u64) as i64;
     if (n < 0) != (d < 0) {
@@ -114,7 +118,7 @@ pub fn div_i64(n: i64, d: i64) -> i64 {
 /// `u32::MAX`. Both are first cut to keep `num` within 16 bits, so the
 /// division is 32-bit; for a fraction up to 1 that leaves `den` 15 bits or
 /// more (relative error below 2⁻¹⁵).
-#[inline]
+#[inline(never)]
 pub fn ratio(num: u64, den: u64) -> Fraction {
     let shift = (64 - num.leading_zeros()).saturating_sub(16);
     let (n, d) = (num >> shift, den >> shift);

@@ -3,33 +3,7 @@
 
 mod common;
 
-use common::program::{default_toml, ripplectl};
-
-/// Write `text` as a scenario, run `simulate` on it, return (exit code, stderr).
-fn simulate_text(text: &str) -> (i32, String) {
-    let dir = tempfile::tempdir().unwrap();
-    let file = dir.path().join("s.toml");
-    std::fs::write(&file, text).unwrap();
-    let out_dir = dir.path().join("out");
-    let out = ripplectl(&[
-        "simulate",
-        "--scenario",
-        file.to_str().unwrap(),
-        "--out",
-        out_dir.to_str().unwrap(),
-    ]);
-    assert!(!out_dir.exists(), "nothing may be written on bad input");
-    (out.status.code().unwrap(), String::from_utf8(out.stderr).unwrap())
-}
-
-fn assert_one_line_error(text: &str, expect: &[&str]) {
-    let (code, err) = simulate_text(text);
-    assert_eq!(code, 2, "exit code; stderr: {err}");
-    assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
-    for e in expect {
-        assert!(err.contains(e), "{err:?} should mention {e:?}");
-    }
-}
+use common::program::{assert_one_line_error, default_toml, ripplectl};
 
 #[test]
 fn simulate_json_has_the_contract_keys() {

@@ -266,7 +266,6 @@ impl Phases {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct CurrentEstimator {
     clock_hz: u32,
-    model: InductorModel,
     // Timer tick over the inductance, s/H (configuration only).
     inv_l_tick: f64,
     // Resistive drops' slopes per ampere of mean current, I8F24 A/tick per
@@ -371,7 +370,6 @@ impl CurrentEstimator {
         let cap = if cap < 1 { 1 } else { cap };
         Ok(Self {
             clock_hz: clock.hz(),
-            model: *model,
             inv_l_tick,
             drop_on_per_amp: to_fixed_i32(model.on_resistance() as f64 * inv_l_tick, 40),
             drop_off_per_amp: to_fixed_i32(model.off_resistance() as f64 * inv_l_tick, 40),
@@ -408,11 +406,6 @@ impl CurrentEstimator {
                 valley_sum: 0,
             },
         })
-    }
-
-    /// The model in use.
-    pub const fn model(&self) -> &InductorModel {
-        &self.model
     }
 
     /// Longest segment integrated, ticks.
@@ -625,7 +618,8 @@ impl CurrentEstimator {
     /// correction); a diode stage stays at or above zero.
     pub fn shift(&mut self, delta: Amps) {
         let shifted = within(self.current.saturating_add(delta.to_bits()), CURRENT_LIMIT_BITS);
-        self.current = if self.model.r_low_ohm.is_none() { shifted.max(0) } else { shifted };
+        // The floor is zero for a diode stage and below the range otherwise.
+        self.current = shifted.max(self.off_floor);
     }
 
     /// Slow path: take and reset the cycle sums, turn them into phase

@@ -21,7 +21,7 @@ use crate::tick::Instant;
 use embedded_hal::digital::OutputPin;
 
 /// The stack and the driver that carries out its commands.
-#[derive(Debug)]
+#[derive(Clone, Debug)]
 pub struct Handlers<L, P, T> {
     stack: Stack<L>,
     driver: GateDriver<P, T>,

@@ -112,7 +112,12 @@ pub struct SlowPath {
     input_steady: u32,
     last_vin: u32,
     hold: u8,
-    clamps_before: ClampCounts,
+    // The window limits' clamp counts that mark the window as binding
+    // (minimum period, slow periods, maximum on-time), summed (wrapping)
+    // at the last window: a change means one of them acted since.
+    binding_before: u32,
+    // The slow-period count at the last window.
+    slow_before: u32,
     // `Some` under `LightLoad::SmallerPulses`.
     sizer: Option<PulseSizer>,
     report: SlowReport,
@@ -160,14 +165,8 @@ impl SlowPath {
             },
             last_vin: 0,
             hold: OBSERVER_HOLD,
-            clamps_before: ClampCounts {
-                min_on: 0,
-                min_off: 0,
-                max_on: 0,
-                min_period: 0,
-                slow_periods: 0,
-                forced_pulses: 0,
-            },
+            binding_before: 0,
+            slow_before: 0,
             report: SlowReport {
                 vin: Volts::ZERO,
                 vout: Volts::ZERO,
@@ -244,8 +243,11 @@ impl SlowPath {
         vout: Volts,
         regulating: bool,
     ) {
-        let clamps = *sup.inner().counts();
-        let before = core::mem::replace(&mut self.clamps_before, clamps);
+        let counts = sup.inner().counts();
+        let binding = binding_clamps(counts);
+        let before = core::mem::replace(&mut self.binding_before, binding);
+        let slow_before = core::mem::replace(&mut self.slow_before, counts.slow_periods);
+        let slow = counts.slow_periods != slow_before;
         if !regulating {
             if let Some(dc) = self.dc.as_mut() {
                 dc.reset();
@@ -256,7 +258,6 @@ impl SlowPath {
             return;
         }
         if let Some(sizer) = self.sizer.as_mut() {
-            let slow = clamps.slow_periods != before.slow_periods;
             let size = sizer.update(phases.f_sw_hz, phases.cycles, slow);
             sup.set_pulse_cap(size.cap);
             sup.inner_mut().set_forced_pulses(size.forced);
@@ -266,9 +267,7 @@ impl SlowPath {
             vout,
             cycles: phases.cycles,
             period_ticks: phases.period_ticks,
-            window_binding: clamps.min_period != before.min_period
-                || clamps.slow_periods != before.slow_periods
-                || clamps.max_on != before.max_on,
+            window_binding: binding != before,
         };
         sup.inner_mut().retune(&conditions);
         if let Some(dc) = self.dc.as_mut() {
@@ -301,6 +300,13 @@ impl SlowPath {
             est.shift(scale(gap, OBSERVER_BLEND));
         }
     }
+}
+
+/// The clamp counts that mark a window as binding, summed (wrapping): it
+/// changes whenever one of them counts (only 2³² clamps within one window,
+/// beyond any window's cycles, could hide a change).
+fn binding_clamps(c: &ClampCounts) -> u32 {
+    c.min_period.wrapping_add(c.slow_periods).wrapping_add(c.max_on)
 }
 
 impl Averaged {

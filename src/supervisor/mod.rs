@@ -329,12 +329,13 @@ impl<L: Law + Regulate> Supervisor<L> {
     /// otherwise the law's last command and deadline stand.
     #[inline]
     pub fn on_output_reading(&mut self, code: u16, now: Instant) -> Option<Command> {
-        if !self.sequence.is_switching() {
-            self.readings.note_output(code);
-            return None;
-        }
-        if self.sequence.state() == State::SoftStart {
-            self.soft_start_step(now);
+        match self.sequence.state() {
+            State::Regulating => {}
+            State::SoftStart => self.soft_start_step(now),
+            _ => {
+                self.readings.note_output(code);
+                return None;
+            }
         }
         self.check_output(code, now)
     }
@@ -406,13 +407,14 @@ impl<L: Law + Regulate> Supervisor<L> {
 impl<L: Law + Regulate> Law for Supervisor<L> {
     #[inline]
     fn on_sample(&mut self, code: u16, now: Instant) -> Command {
-        if !self.sequence.is_switching() {
-            self.readings.note_output(code);
-            self.force_off(now);
-            return Command::hold(Gate::Off);
-        }
-        if self.sequence.state() == State::SoftStart {
-            self.soft_start_step(now);
+        match self.sequence.state() {
+            State::Regulating => {}
+            State::SoftStart => self.soft_start_step(now),
+            _ => {
+                self.readings.note_output(code);
+                self.force_off(now);
+                return Command::hold(Gate::Off);
+            }
         }
         if let Some(stop) = self.check_output(code, now) {
             return stop;

@@ -1,4 +1,6 @@
-//! A whole firmware on a Cortex-M4 (builds for `thumbv7em-none-eabihf`):
+//! A whole firmware (builds for `thumbv6m-none-eabi` and
+//! `thumbv7em-none-eabihf`; `run.sh` measures its flash, RAM and float
+//! routines on both):
 //! the greenhouse valve rail of the crate's demo (24 V bus, 18–32 V, to
 //! 5 V / 2 A) under the constant on-time law with input feed-forward, a
 //! frequency trim, DC correction and the averaged-model observer: the
@@ -19,13 +21,17 @@
 //! into codes, ticks and fixed-point coefficients, and refuses a bad value
 //! at build time naming it. No floating-point code runs on the target.
 //!
-//! The two peripheral handlers are plain functions here: a board's
-//! peripheral access crate puts them in its vector table (`#[interrupt]`
-//! on its ADC and timer interrupts, the timer's at the highest priority)
-//! and implements [`OutputPin`] and [`OneShot`] on its GPIO and timer. The
-//! stand-ins below keep the example free of any one vendor's registers: the
-//! pin and the compare are words in RAM, the ADC results arrive as
-//! arguments.
+//! A board's peripheral access crate puts the two peripheral handlers in
+//! its vector table (`#[interrupt]` on its ADC and timer interrupts, the
+//! timer's at the highest priority) and implements [`OutputPin`] and
+//! [`OneShot`] on its GPIO and timer. The stand-ins below keep the example
+//! free of any one vendor's registers: the default handler dispatches
+//! interrupts 0 (ADC) and 1 (timer) by number, the pin and the compare are
+//! words in RAM, and so are the ADC's result registers.
+//!
+//! The firmware's state lives in `.bss` (a `cortex_m::singleton!`, reached
+//! through a pointer under a critical section), so it costs no flash for an
+//! initial image.
 //!
 //! Caution: a power stage under firmware control can burn, shock and
 //! destroy loads. Bring a board up from a current-limited bench supply and
@@ -72,6 +78,9 @@ static COMPARE_ARMED: AtomicBool = AtomicBool::new(false);
 /// Stand-in for the free-running counter (a board reads its timer's
 /// count register).
 static COUNTER: AtomicU32 = AtomicU32::new(0);
+/// Stand-ins for the ADC's result registers: output and input of a scan.
+static ADC_OUTPUT: AtomicU32 = AtomicU32::new(0);
+static ADC_INPUT: AtomicU32 = AtomicU32::new(0);
 
 struct GatePin;
 
@@ -113,10 +122,12 @@ fn now() -> Instant {
 
 type Firmware = Handlers<OnTime, GatePin, OnTimeTimer>;
 
-static FIRMWARE: Mutex<RefCell<Option<Firmware>>> = Mutex::new(RefCell::new(None));
+static FIRMWARE: Mutex<RefCell<Option<&'static mut Firmware>>> = Mutex::new(RefCell::new(None));
 
 /// Conversion-complete interrupt: the output and input readings of one scan.
-pub fn adc_done(out_code: u16, in_code: u16) {
+fn adc_done() {
+    let out_code = ADC_OUTPUT.load(Ordering::Relaxed) as u16;
+    let in_code = ADC_INPUT.load(Ordering::Relaxed) as u16;
     interrupt::free(|cs| {
         if let Some(fw) = FIRMWARE.borrow(cs).borrow_mut().as_mut() {
             let Ok(()) = fw.conversion_done(out_code, in_code, now());
@@ -125,12 +136,23 @@ pub fn adc_done(out_code: u16, in_code: u16) {
 }
 
 /// Compare interrupt of the one-shot timer.
-pub fn timer_compare() {
+fn timer_compare() {
     interrupt::free(|cs| {
         if let Some(fw) = FIRMWARE.borrow(cs).borrow_mut().as_mut() {
             let Ok(()) = fw.compare_fired(now());
         }
     });
+}
+
+/// The peripheral interrupts, by number (a board's vector table has an
+/// entry each instead).
+#[exception]
+unsafe fn DefaultHandler(irqn: i16) {
+    match irqn {
+        0 => adc_done(),
+        1 => timer_compare(),
+        _ => {}
+    }
 }
 
 /// Housekeeping at 10 kHz: the whole slow path.
@@ -152,7 +174,13 @@ fn main() -> ! {
     };
     let Ok(driver) =
         GateDriver::new(GatePin, OnTimeTimer, Polarity::ActiveHigh, PulseEnd::Hardware);
-    let firmware = Handlers::new(Stack::new(LAW, PARTS), driver);
+    let Some(firmware) =
+        cortex_m::singleton!(: Firmware = Handlers::new(Stack::new(LAW, PARTS), driver))
+    else {
+        loop {
+            cortex_m::asm::wfi();
+        }
+    };
     interrupt::free(|cs| *FIRMWARE.borrow(cs).borrow_mut() = Some(firmware));
     core.SYST.set_clock_source(SystClkSource::Core);
     core.SYST.set_reload(SYSTICK_RELOAD - 1);

@@ -10,13 +10,16 @@
 //! path is checked bit for bit too.
 #![no_std]
 
+#[cfg(feature = "target")]
+pub mod board;
+
 use core::hint::black_box;
 use ripplectl::estimate::{CurrentEstimator, InductorModel};
 use ripplectl::law::{
     ComparatorPassThrough, FrequencyTrim, Hysteretic, HystereticConfig, OnTime, OnTimeConfig,
     OnTimeFeedForward, Regulate,
 };
-use ripplectl::stack::{SlowPathConfig, Stack, StackConfig, StackParts};
+use ripplectl::stack::{Sensing, SlowPathConfig, Stack, StackConfig, StackParts};
 use ripplectl::supervisor::State;
 use ripplectl::{
     unwrap_config, AdcChannel, Command, FrequencyGuard, Gate, Instant, Law, TimerClock, Window,
@@ -80,11 +83,22 @@ pub const COT_PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
     ..CONFIG
 }));
 
+/// The demo stack's parts with an edge-driven law (an analog comparator
+/// whose threshold the law arms; the ADC's readings serve the protections).
+pub const EDGE_PARTS: StackParts =
+    unwrap_config(StackParts::new(&StackConfig { sensing: Sensing::Edge, ..CONFIG }));
+
 /// The demo's hysteretic law: 40 mV band around 5 V.
 pub const HYSTERETIC: Hysteretic = unwrap_config(Hysteretic::new(
     &HystereticConfig { setpoint_v: CONFIG.setpoint_v, band_v: 0.04 },
     &CONFIG.output_adc,
 ));
+
+/// The board's own comparator loop passed through (the analog retrofit):
+/// its setpoint is the middle of its thresholds, the hysteretic law's
+/// reference.
+pub const RETROFIT: ComparatorPassThrough =
+    ComparatorPassThrough::new(true).with_setpoint(HYSTERETIC.reference_code());
 
 /// The demo's plain on-time law: 2.08 µs (about 100 kHz at 24 V).
 pub const PLAIN_ON_TIME: OnTime = unwrap_config(OnTime::new(

@@ -7,65 +7,19 @@
 #![no_std]
 #![no_main]
 
-use core::ptr::read_volatile;
 use cortex_m_rt::entry;
-use embedded_hal::digital::{ErrorType, OutputPin};
 use panic_never as _;
-use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
 use ripplectl::stack::{Handlers, Stack};
 use ripplectl::{Gate, Instant, Law};
+use ripplectl_target::board::{driver, input, output};
 use ripplectl_target::{Rig, COT_PARTS, ON_TIME};
-
-/// A pin whose writes are volatile stores.
-struct Pin;
-
-impl ErrorType for Pin {
-    type Error = core::convert::Infallible;
-}
-
-impl OutputPin for Pin {
-    fn set_low(&mut self) -> Result<(), Self::Error> {
-        output(0);
-        Ok(())
-    }
-    fn set_high(&mut self) -> Result<(), Self::Error> {
-        output(1);
-        Ok(())
-    }
-}
-
-/// A compare whose arms are volatile stores.
-struct Compare;
-
-impl OneShot for Compare {
-    fn arm(&mut self, at: Instant, ends_pulse: bool) {
-        output(at.0 ^ u32::from(ends_pulse));
-    }
-    fn disarm(&mut self) {
-        output(u32::MAX);
-    }
-}
-
-static mut INPUT: [u32; 4] = [0; 4];
-static mut OUTPUT: u32 = 0;
-
-fn input(k: usize) -> u32 {
-    // SAFETY: single-threaded; volatile keeps the compiler from assuming.
-    unsafe { read_volatile(core::ptr::addr_of!(INPUT).cast::<u32>().add(k & 3)) }
-}
-
-fn output(x: u32) {
-    // SAFETY: single-threaded.
-    unsafe { core::ptr::write_volatile(core::ptr::addr_of_mut!(OUTPUT), x) }
-}
 
 #[entry]
 fn main() -> ! {
     let mut rig = Rig::demo();
-    let Ok(driver) = GateDriver::new(Pin, Compare, Polarity::ActiveLow, PulseEnd::Hardware);
     // The whole firmware, as the example wires it: every handler, the slow
     // path included.
-    let mut firmware = Handlers::new(Stack::new(ON_TIME, COT_PARTS), driver);
+    let mut firmware = Handlers::new(Stack::new(ON_TIME, COT_PARTS), driver());
     loop {
         let (code, now, level) = (input(0) as u16, Instant(input(1)), input(2) & 1 != 0);
         let gate = if level { Gate::On } else { Gate::Off };

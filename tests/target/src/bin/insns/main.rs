@@ -20,17 +20,21 @@
 #![no_std]
 #![no_main]
 
+mod handlers;
+
 use core::hint::black_box;
 use cortex_m::peripheral::{syst::SystClkSource, Peripherals, SYST};
 use cortex_m_rt::entry;
 use cortex_m_semihosting::{debug, hprintln};
+use handlers::{closed_loop, Comparator, Tallies};
 use panic_semihosting as _;
 use ripplectl::estimate::{Amps, CurrentEstimator};
 use ripplectl::law::Regulate;
 use ripplectl::reference::{GuardModel, HystereticModel};
-use ripplectl::stack::Stack;
+use ripplectl::stack::{Handlers, Stack, StackParts};
 use ripplectl::{Command, Gate, Instant, Law};
-use ripplectl_target::Rig;
+use ripplectl_target::board::driver;
+use ripplectl_target::{Rig, COT_PARTS, EDGE_PARTS, HYSTERETIC, ON_TIME, PARTS, RETROFIT};
 
 const CALLS: u32 = 2_048;
 
@@ -73,10 +77,15 @@ fn calibrate() -> u64 {
 }
 
 /// Ticks for `CALLS` turns of `f`.
+fn run(f: impl FnMut(u32)) -> u32 {
+    run_n(CALLS, f)
+}
+
+/// Ticks for `n` turns of `f`.
 #[inline(never)]
-fn run(mut f: impl FnMut(u32)) -> u32 {
+fn run_n(n: u32, mut f: impl FnMut(u32)) -> u32 {
     let s = ticks();
-    for i in 0..CALLS {
+    for i in 0..n {
         f(black_box(i));
     }
     since(s)
@@ -190,7 +199,12 @@ impl Meter {
     /// Mean instructions per call from the SysTick ticks of `CALLS` calls,
     /// rounded.
     fn per_call(&self, ticks: u32) -> u32 {
-        ((u64::from(ticks) * self.per_tick / u64::from(CALLS) + (1 << 15)) >> 16) as u32
+        ((self.per_call_q16(ticks, CALLS) + (1 << 15)) >> 16) as u32
+    }
+
+    /// Mean instructions per call from the ticks of `n` calls, 16.16.
+    fn per_call_q16(&self, ticks: u32, n: u32) -> u64 {
+        u64::from(ticks) * self.per_tick / u64::from(n)
     }
 
     /// Mean instructions per call of `handler` on `obj` with inputs
@@ -220,16 +234,30 @@ impl Meter {
     /// the state it meets (an estimator's turn-on completes a cycle, its
     /// turn-off does not).
     fn count_from<T: Clone>(&self, start: &T, a: u32, now: Instant, handler: Handler<T>) -> u32 {
-        let empty = run(|_| {
+        ((self.count_from_q16(CALLS, start, a, now, handler) + (1 << 15)) >> 16) as u32
+    }
+
+    /// [`count_from`](Self::count_from) over `n` repetitions, 16.16
+    /// instructions (the SysTick's step, 40–63 instructions under QEMU,
+    /// over `n` bounds the error).
+    fn count_from_q16<T: Clone>(
+        &self,
+        n: u32,
+        start: &T,
+        a: u32,
+        now: Instant,
+        handler: Handler<T>,
+    ) -> u64 {
+        let empty = run_n(n, |_| {
             let mut obj = start.clone();
             black_box(idle(&mut obj, a, now));
         });
-        let t = run(|_| {
+        let t = run_n(n, |_| {
             let mut obj = start.clone();
             black_box(handler(&mut obj, a, now));
         })
         .saturating_sub(empty);
-        self.per_call(t)
+        self.per_call_q16(t, n)
     }
 
     /// [`count`](Self::count), printed as `op`.
@@ -260,29 +288,99 @@ fn code(i: u32) -> u16 {
     1968 + if k < 32 { k } else { 64 - k }
 }
 
+/// A small buck in `f32` around which the counts close their loops: the
+/// demo's 47 µH, 220 µF with 40 mΩ ESR, 28 V in, 1 A out, a 0.45 V diode,
+/// Euler steps of one sample (1 µs). Only the recording runs it, not the
+/// measured calls.
+#[derive(Clone, Copy)]
+struct Buck {
+    i_l: f32,
+    v_c: f32,
+}
+
+impl Buck {
+    const LOAD: f32 = 1.0;
+    const ESR: f32 = 0.040;
+
+    /// In regulation at 5 V, carrying the load.
+    fn new() -> Self {
+        Self { i_l: Self::LOAD, v_c: 5.0 }
+    }
+
+    /// The output's ADC code (the demo's 12-bit, 3.3 V channel behind its
+    /// 4.7/14.7 divider).
+    fn output_code(&self) -> u16 {
+        let volts_per_code = 3.3 / 4096.0 / (4.7 / 14.7);
+        (self.v_out() / volts_per_code + 0.5) as u16
+    }
+
+    fn v_out(&self) -> f32 {
+        self.v_c + Self::ESR * (self.i_l - Self::LOAD)
+    }
+
+    /// One sample period with the switch `on`.
+    fn step(&mut self, on: bool) {
+        let (l, c, vin, dt) = (47e-6f32, 220e-6f32, 28.0f32, 1e-6f32);
+        let v_sw = if on { vin } else { -0.45 };
+        self.i_l = (self.i_l + (v_sw - self.v_out()) / l * dt).max(0.0);
+        self.v_c += (self.i_l - Self::LOAD) / c * dt;
+    }
+}
+
 /// Output codes for `CALLS` samples, 64 ticks (1 µs) apart from `base`,
 /// of `control` (a copy of the object to be measured: true for gate on)
-/// closing the loop around a small buck in `f32` (the demo's 47 µH,
-/// 220 µF with 40 mΩ ESR, 28 V in, 1 A out, Euler steps of one sample;
-/// only the recording runs it, not the measurement). The measured loop
-/// then replays the same codes at the same instants, so the baseline
-/// consumes exactly what the measured call does.
+/// closing the loop around the [`Buck`]. The measured loop then replays
+/// the same codes at the same instants, so the baseline consumes exactly
+/// what the measured call does.
 fn regulating_codes(
     codes: &mut [u16; CALLS as usize],
     base: u32,
     mut control: impl FnMut(u16, Instant) -> bool,
 ) {
-    let (l, c, esr, vin, load, dt) = (47e-6f32, 220e-6f32, 0.040f32, 28.0f32, 1.0f32, 1e-6f32);
-    let volts_per_code = 3.3 / 4096.0 / (4.7 / 14.7);
-    let (mut i_l, mut v_c) = (load, 5.0f32);
+    let mut buck = Buck::new();
     for (k, slot) in codes.iter_mut().enumerate() {
-        let v_out = v_c + esr * (i_l - load);
-        *slot = (v_out / volts_per_code + 0.5) as u16;
+        *slot = buck.output_code();
         let on = control(*slot, Instant(base.wrapping_add(64 * k as u32)));
-        let v_sw = if on { vin } else { -0.45 };
-        i_l = (i_l + (v_sw - v_out) / l * dt).max(0.0);
-        v_c += (i_l - load) / c * dt;
+        buck.step(on);
     }
+}
+
+/// Count the handlers of the stack around `law` (the event kinds named,
+/// see [`handlers`]) as `<prefix>_<kind>`; false if it did not regulate.
+#[inline(never)]
+fn handler_counts<L: Law + Regulate + Clone>(
+    meter: &Meter,
+    prefix: &str,
+    (law, parts): (L, StackParts),
+    comparator: Comparator,
+    kinds: &[&str],
+) -> bool {
+    let mut firmware = Handlers::new(Stack::new(law, parts), driver());
+    let mut tallies = Tallies::of(kinds);
+    let regulating = closed_loop(meter, &mut firmware, comparator, &mut tallies);
+    tallies.print(core_name(), prefix);
+    if !regulating {
+        hprintln!("{}: not regulating while counted", prefix);
+    }
+    regulating
+}
+
+/// Every handler count: the hysteretic, on-time and edge-driven stacks
+/// and the analog retrofit.
+fn whole_handlers(meter: &Meter) -> bool {
+    let all = ["conversion", "comparator", "compare", "housekeeping"];
+    let sampled = ["conversion", "compare", "housekeeping"];
+    let board =
+        Comparator::Board { lower: HYSTERETIC.lower_code(), upper: HYSTERETIC.upper_code() };
+    let hyst =
+        handler_counts(meter, "handler_hyst", (HYSTERETIC, PARTS), Comparator::None, &sampled);
+    let cot =
+        handler_counts(meter, "handler_cot", (ON_TIME, COT_PARTS), Comparator::None, &sampled);
+    let edge =
+        handler_counts(meter, "handler_edge", (HYSTERETIC, EDGE_PARTS), Comparator::Armed, &all);
+    let retrofit =
+        handler_counts(meter, "handler_retrofit", (RETROFIT, EDGE_PARTS), board, &["comparator"]);
+    hyst && cot && edge && retrofit
 }
 
 #[entry]
@@ -416,7 +514,9 @@ fn main() -> ! {
     let mut guard = GuardModel::new(150e-9, 300e-9, 40e-6, 1.0 / 140e3);
     let demands = |i: u32| (u32::from(i & 16 == 0), at(i, 64, b));
     meter.report("guard_f64", &mut guard, demands, guard_f64);
-    debug::exit(debug::EXIT_SUCCESS);
+
+    let regulating = whole_handlers(&meter);
+    debug::exit(if regulating { debug::EXIT_SUCCESS } else { debug::EXIT_FAILURE });
     loop {
         cortex_m::asm::wfi();
     }

@@ -1,0 +1,23 @@
+//! Size probe `slow_path`: the on-time stack's housekeeping tick (the
+//! supervisor's housekeeping, the estimator's window, losses, feed-forward
+//! and trim, DC correction, observer) and its telemetry; no fast path.
+#![no_std]
+#![no_main]
+
+use panic_halt as _;
+use ripplectl::law::OnTime;
+use ripplectl::stack::Stack;
+use ripplectl_target::board::{event, halt, output};
+use ripplectl_target::{COT_PARTS, ON_TIME};
+
+#[cortex_m_rt::entry]
+fn main() -> ! {
+    let Some(stack) = cortex_m::singleton!(: Stack<OnTime> = Stack::new(ON_TIME, COT_PARTS)) else {
+        halt()
+    };
+    loop {
+        let stop = stack.housekeeping(event().now);
+        let t = stack.telemetry();
+        output(u32::from(stop.is_some()) ^ t.efficiency ^ t.losses.output.to_bits() as u32);
+    }
+}

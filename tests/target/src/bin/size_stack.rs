@@ -1,0 +1,31 @@
+//! Size probe `stack`: the whole firmware as the firmware example wires it
+//! (`Handlers`: the on-time stack with feed-forward, trim, DC correction
+//! and the observer, driving a gate driver), every interrupt handler's
+//! body, the comparator's code and telemetry.
+#![no_std]
+#![no_main]
+
+use panic_halt as _;
+use ripplectl::law::OnTime;
+use ripplectl::stack::{Handlers, Stack};
+use ripplectl_target::board::{driver, event, halt, output, Compare, Pin};
+use ripplectl_target::{COT_PARTS, ON_TIME};
+
+#[cortex_m_rt::entry]
+fn main() -> ! {
+    let Some(fw) = cortex_m::singleton!(: Handlers<OnTime, Pin, Compare> =
+        Handlers::new(Stack::new(ON_TIME, COT_PARTS), driver()))
+    else {
+        halt()
+    };
+    loop {
+        let e = event();
+        let Ok(()) = match e.which & 3 {
+            0 => fw.conversion_done(e.output, e.input, e.now),
+            1 => fw.comparator_edge(e.level, e.now),
+            2 => fw.compare_fired(e.now),
+            _ => fw.housekeeping(e.now, Some(e.level)),
+        };
+        output(u32::from(fw.comparator_code().unwrap_or(0)) ^ fw.stack().telemetry().efficiency);
+    }
+}

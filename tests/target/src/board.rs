@@ -1,0 +1,157 @@
+//! Stand-ins for a board's peripherals, shared by the target binaries: the
+//! gate pin and the one-shot compare are words in RAM, inputs are volatile
+//! reads of words in RAM. Volatile accesses keep the compiler from folding
+//! any input into a constant or dropping any output, so an image links
+//! exactly what its calls can reach.
+
+use core::ptr::{addr_of, addr_of_mut, read_volatile, write_volatile};
+use embedded_hal::digital::{ErrorType, OutputPin};
+use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
+use ripplectl::Instant;
+
+static mut INPUT: [u32; 4] = [0; 4];
+static mut OUTPUT: u32 = 0;
+static mut PIN: u32 = 0;
+static mut COMPARE: u32 = 0;
+static mut COMPARE_MODE: u32 = 0;
+
+/// Input word `k` (of 4), read as a peripheral register would be.
+pub fn input(k: usize) -> u32 {
+    // SAFETY: in bounds (`k & 3`); single-threaded; volatile keeps the
+    // compiler from assuming the value.
+    unsafe { read_volatile(addr_of!(INPUT).cast::<u32>().add(k & 3)) }
+}
+
+/// A result, stored where the compiler cannot drop it.
+pub fn output(x: u32) {
+    // SAFETY: single-threaded.
+    unsafe { write_volatile(addr_of_mut!(OUTPUT), x) }
+}
+
+/// The gate pin: its level is a word in RAM.
+#[derive(Clone, Debug)]
+pub struct Pin;
+
+impl ErrorType for Pin {
+    type Error = core::convert::Infallible;
+}
+
+impl OutputPin for Pin {
+    fn set_low(&mut self) -> Result<(), Self::Error> {
+        // SAFETY: single-threaded.
+        unsafe { write_volatile(addr_of_mut!(PIN), 0) };
+        Ok(())
+    }
+    fn set_high(&mut self) -> Result<(), Self::Error> {
+        // SAFETY: single-threaded.
+        unsafe { write_volatile(addr_of_mut!(PIN), 1) };
+        Ok(())
+    }
+}
+
+/// `COMPARE_MODE`: armed.
+const ARMED: u32 = 1;
+/// `COMPARE_MODE`: the compare ends the pulse in hardware.
+const ENDS_PULSE: u32 = 2;
+
+/// The one-shot compare: its compare register and its mode register
+/// (armed, clear the output on match) are words in RAM.
+#[derive(Clone, Debug)]
+pub struct Compare;
+
+impl OneShot for Compare {
+    fn arm(&mut self, at: Instant, ends_pulse: bool) {
+        // SAFETY: single-threaded.
+        unsafe {
+            write_volatile(addr_of_mut!(COMPARE), at.0);
+            write_volatile(
+                addr_of_mut!(COMPARE_MODE),
+                ARMED | (ENDS_PULSE * u32::from(ends_pulse)),
+            );
+        }
+    }
+    fn disarm(&mut self) {
+        // SAFETY: single-threaded.
+        unsafe { write_volatile(addr_of_mut!(COMPARE_MODE), 0) };
+    }
+}
+
+/// The deadline armed on the compare, if any.
+pub fn armed_compare() -> Option<Instant> {
+    // SAFETY: single-threaded.
+    let (at, mode) =
+        unsafe { (read_volatile(addr_of!(COMPARE)), read_volatile(addr_of!(COMPARE_MODE))) };
+    (mode & ARMED != 0).then_some(Instant(at))
+}
+
+/// The driver on the stand-ins (active low, pulses ended by the timer).
+pub fn driver() -> GateDriver<Pin, Compare> {
+    let Ok(driver) = GateDriver::new(Pin, Compare, Polarity::ActiveLow, PulseEnd::Hardware);
+    driver
+}
+
+/// One event as the probes and the panic check read it: which handler
+/// (`input(3)`, low bits), an output and an input code (`input(0)`), the
+/// timer reading (`input(1)`) and a level (`input(2)`, bit 0).
+#[derive(Clone, Copy, Debug)]
+pub struct Event {
+    /// Which entry point to call (the probe's own numbering).
+    pub which: u32,
+    /// Output code.
+    pub output: u16,
+    /// Input code.
+    pub input: u16,
+    /// Timer reading.
+    pub now: Instant,
+    /// Comparator level or gate (true: on).
+    pub level: bool,
+}
+
+/// The next event.
+pub fn event() -> Event {
+    let codes = input(0);
+    Event {
+        which: input(3),
+        output: codes as u16,
+        input: (codes >> 16) as u16,
+        now: Instant(input(1)),
+        level: input(2) & 1 != 0,
+    }
+}
+
+/// The stand-in registers (pin, compare, compare mode), to restore after
+/// a call that must leave no trace.
+#[derive(Clone, Copy, Debug)]
+pub struct Registers([u32; 3]);
+
+impl Registers {
+    /// Their present values.
+    pub fn save() -> Self {
+        // SAFETY: single-threaded.
+        unsafe {
+            Self([
+                read_volatile(addr_of!(PIN)),
+                read_volatile(addr_of!(COMPARE)),
+                read_volatile(addr_of!(COMPARE_MODE)),
+            ])
+        }
+    }
+
+    /// Put them back.
+    pub fn restore(self) {
+        let [pin, compare, mode] = self.0;
+        // SAFETY: single-threaded.
+        unsafe {
+            write_volatile(addr_of_mut!(PIN), pin);
+            write_volatile(addr_of_mut!(COMPARE), compare);
+            write_volatile(addr_of_mut!(COMPARE_MODE), mode);
+        }
+    }
+}
+
+/// Stop here, asleep (a probe's state could not be placed).
+pub fn halt() -> ! {
+    loop {
+        cortex_m::asm::wfi();
+    }
+}
