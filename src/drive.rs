@@ -57,6 +57,11 @@ pub trait OneShot {
 
     /// Cancel any armed deadline.
     fn disarm(&mut self);
+
+    /// The timer's reading now (the counter register). Read right after a
+    /// turn-on's pin write, it tells when the gate really switched; see
+    /// [`Handlers`](crate::stack::Handlers).
+    fn now(&self) -> Instant;
 }
 
 /// The gate driver's input level that turns the switch on.
@@ -130,15 +135,35 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
     /// to drive the gate off, and the timer is disarmed.
     #[inline]
     pub fn apply(&mut self, command: Command) -> Result<(), P::Error> {
-        if command.gate != self.gate {
-            if let Err(e) = self.write(command.gate) {
+        self.set_gate(command.gate)?;
+        self.schedule(command.wake);
+        Ok(())
+    }
+
+    /// Fast path, the first half of [`apply`](Self::apply): drive the pin
+    /// if the gate changes.
+    ///
+    /// Errors: the pin's error. A failed turn-on is followed by an attempt
+    /// to drive the gate off, and the timer is disarmed.
+    #[inline]
+    pub fn set_gate(&mut self, gate: Gate) -> Result<(), P::Error> {
+        if gate != self.gate {
+            if let Err(e) = self.write(gate) {
                 self.disarm();
                 // Best effort: the error being reported is the first one.
                 let _ = self.write(Gate::Off);
                 return Err(e);
             }
         }
-        match command.wake {
+        Ok(())
+    }
+
+    /// Fast path, the second half of [`apply`](Self::apply): arm the timer
+    /// at `wake` (a pulse end in hardware while on, when so built), or
+    /// disarm it.
+    #[inline]
+    pub fn schedule(&mut self, wake: Option<Instant>) {
+        match wake {
             Some(at) => {
                 let ends = self.gate.is_on() && self.pulse_end == PulseEnd::Hardware;
                 self.timer.arm(at, ends);
@@ -146,7 +171,6 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
             }
             None => self.disarm(),
         }
-        Ok(())
     }
 
     /// Fast path, first in the compare interrupt (`now`: the timer's
@@ -163,6 +187,13 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
         self.gate = Gate::Off;
         self.armed_end = None;
         Some(at)
+    }
+
+    /// The compare armed to end the present pulse in hardware, if any: a
+    /// turn-off written after it has passed happened there, not at the
+    /// write.
+    pub const fn hardware_end(&self) -> Option<Instant> {
+        self.armed_end
     }
 
     /// Fast path: gate off now and timer disarmed, whatever the law says

@@ -277,10 +277,7 @@ impl<L: Law> FrequencyGuard<L> {
     #[inline(always)]
     fn switch_on(&mut self, now: Instant) {
         self.gate = Gate::On;
-        self.rise = now;
-        self.min_on_end = now.after(self.window.min_on);
-        self.max_on_end = now.after(self.window.max_on);
-        self.max_period_end = now.after(self.window.max_period);
+        self.time_rise(now);
         self.slow_noted = false;
         self.pulse_due = false;
         self.on_clamp_noted = false;
@@ -290,13 +287,28 @@ impl<L: Law> FrequencyGuard<L> {
     #[inline(always)]
     fn switch_off(&mut self, now: Instant) {
         self.gate = Gate::Off;
-        self.fall = now;
-        // The later of the minimum off-time's end and the minimum period's.
-        let period_left = self.window.min_period.saturating_sub(now.ticks_since(self.rise));
-        self.turn_on_at = now.after(self.window.min_off.max(period_left));
+        self.time_fall(now);
         self.may_turn_on = false;
         self.off_clamp_noted = false;
         self.inner.on_gate(Gate::Off, now);
+    }
+
+    /// The turn-on's deadlines, from the rise at `at`.
+    #[inline(always)]
+    fn time_rise(&mut self, at: Instant) {
+        self.rise = at;
+        self.min_on_end = at.after(self.window.min_on);
+        self.max_on_end = at.after(self.window.max_on);
+        self.max_period_end = at.after(self.window.max_period);
+    }
+
+    /// The earliest next turn-on, from the fall at `at`: the later of the
+    /// minimum off-time's end and the minimum period's.
+    #[inline(always)]
+    fn time_fall(&mut self, at: Instant) {
+        self.fall = at;
+        let period_left = self.window.min_period.saturating_sub(at.ticks_since(self.rise));
+        self.turn_on_at = at.after(self.window.min_off.max(period_left));
     }
 
     #[inline(always)]
@@ -311,7 +323,11 @@ impl<L: Law> FrequencyGuard<L> {
         }
         if now.has_reached(self.min_on_end) {
             self.switch_off(now);
-            return self.while_off(Gate::Off, now);
+            // A law may already ask for the next pulse (an on-time law on
+            // a comparator, its output still below the reference): it then
+            // waits for the minimum off-time, not for a sample.
+            let next = if self.inner.asks_on_after_off() { Gate::On } else { Gate::Off };
+            return self.while_off(next, now);
         }
         if !self.on_clamp_noted {
             self.on_clamp_noted = true;
@@ -431,6 +447,16 @@ impl<L: Law> Law for FrequencyGuard<L> {
                 Gate::Off => self.switch_off(at),
             }
         }
+    }
+
+    /// The window's limits count from the edge at `at`; so does the law.
+    fn edge_at(&mut self, at: Instant) {
+        match self.gate {
+            Gate::On => self.time_rise(at),
+            Gate::Off => self.time_fall(at),
+        }
+        self.may_turn_on = false;
+        self.inner.edge_at(at);
     }
 }
 

@@ -581,6 +581,60 @@ impl CurrentEstimator {
         }
     }
 
+    /// Fast path, right after a switching edge's pin write: the gate
+    /// really switched at `at`, not when the [`on_gate`](Self::on_gate)
+    /// call said. Later (the handler's own time to its write): the segment
+    /// the gate left runs on to `at`, a late turn-on's valley and a late
+    /// turn-off's peak move there, and the cycle and window sums keep the
+    /// ticks in between (a late turn-on's completed cycle keeps its DCM
+    /// flag). Earlier, a turn-off only (the timer ended the pulse before
+    /// the handler that turned it off began), within the pulse: the
+    /// on-segment is cut back to `at`. Anything else changes nothing.
+    #[inline]
+    pub fn move_edge(&mut self, at: Instant) {
+        let late = at.ticks_since(self.since);
+        if late == 0 {
+            return;
+        }
+        if late > self.max_segment {
+            self.advance_turn_off(self.since.ticks_since(at));
+            return;
+        }
+        let on = self.gate.is_on();
+        // The segment before the edge was of the other kind.
+        let (current, _) = self.segment_end(!on, late);
+        self.current = current;
+        self.since = at;
+        if on {
+            self.cycle.valley = Amps::from_bits(current);
+            // The cycle this turn-on completed (counted, unless it was the
+            // first) was that much longer.
+            if self.totals.cycles != 0 {
+                self.totals.period_ticks = self.totals.period_ticks.wrapping_add(late);
+            }
+        } else {
+            self.cycle.period_ticks = self.cycle.period_ticks.wrapping_add(late);
+            self.cycle.on_ticks = self.cycle.period_ticks;
+            self.cycle.peak = Amps::from_bits(current);
+        }
+    }
+
+    /// The last turn-off happened `early` ticks before it was reported.
+    #[cold]
+    fn advance_turn_off(&mut self, early: u32) {
+        if self.gate.is_on() || early > self.cycle.on_ticks || early > self.max_segment {
+            return;
+        }
+        // |slope| ≤ 2·cap and early ≤ max_segment: the product fits.
+        let slope = self.on_base - self.vout_term;
+        let back = (slope * early as i32) >> 8;
+        self.current = within(self.current - back, CURRENT_LIMIT_BITS);
+        self.since = Instant(self.since.0.wrapping_sub(early));
+        self.cycle.period_ticks = self.cycle.period_ticks.wrapping_sub(early);
+        self.cycle.on_ticks = self.cycle.period_ticks;
+        self.cycle.peak = Amps::from_bits(self.current);
+    }
+
     #[inline(always)]
     fn count_cycle(&mut self) {
         let (t, c) = (&mut self.totals, &self.cycle);

@@ -127,6 +127,27 @@ pub trait Law {
         let _ = (gate, at);
     }
 
+    /// Right after a turn-off ([`on_gate`](Self::on_gate) with
+    /// [`Gate::Off`]): whether the law already asks for the next pulse (an
+    /// on-time law on a comparator whose output is still below the
+    /// reference, which no new edge will report). Default: no.
+    #[inline(always)]
+    fn asks_on_after_off(&self) -> bool {
+        false
+    }
+
+    /// The last switching edge really happened at `at`, not at the instant
+    /// the call that made it was given (later by the interrupt handler's
+    /// own time to its pin write, or, for a turn-off, earlier when the
+    /// timer ended the pulse first; see
+    /// [`stack::Handlers`](crate::stack::Handlers)): time from `at` what
+    /// was timed from that edge. Default: ignored, right for a law that
+    /// times nothing from its edges.
+    #[inline(always)]
+    fn edge_at(&mut self, at: Instant) {
+        let _ = at;
+    }
+
     /// The shortest pulse this stage makes, timer ticks (`u32`): an outer
     /// stage that ends pulses itself (the supervisor's current limit) keeps
     /// each pulse at least this long. Default: 0, no minimum.

@@ -2,7 +2,9 @@
 //! reference (the valley), stay on for a set time.
 //!
 //! The turn-on decision is one integer compare per sample (or a comparator
-//! edge); the on-time is a tick count that a timer deadline ends
+//! edge: an on-time that ends with the comparator still below the
+//! reference asks for the next pulse at once, as a sample there would);
+//! the on-time is a tick count that a timer deadline ends
 //! ([`Command::wake`]). The law times its on-time from the real turn-on
 //! ([`Law::on_gate`]), so a guard delaying the turn-on does not shorten it.
 //! The minimum off-time is the guard's job.
@@ -50,6 +52,9 @@ pub struct OnTime {
     on_until: Instant,
     off_since: Instant,
     demand: Gate,
+    // Edge input: the comparator's last level said the output is below
+    // the reference (an on-time that ends there asks for the next at once).
+    below: bool,
     ripple: Option<EmulatedRipple>,
     ripple_peak: u32,
     predicted: Option<Instant>,
@@ -79,6 +84,7 @@ impl OnTime {
             on_until: Instant(0),
             off_since: Instant(0),
             demand: Gate::Off,
+            below: false,
             ripple: None,
             ripple_peak: 0,
             predicted: None,
@@ -225,6 +231,7 @@ impl Law for OnTime {
     /// `level`: the comparator against the reference (true: above).
     #[inline]
     fn on_edge(&mut self, level: bool, now: Instant) -> Command {
+        self.below = !level;
         if !self.gate_on && !level {
             self.demand = Gate::On;
         }
@@ -259,8 +266,25 @@ impl Law for OnTime {
             }
             self.gate_on = false;
             self.off_since = at;
-            // An on-time ended early (a guard or a limit) still ends.
-            self.demand = Gate::Off;
+            // An on-time ended early (a guard or a limit) still ends; with
+            // the output still below the reference (no comparator edge
+            // since), the next one is due at once (the guard holds it for
+            // the minimum off-time).
+            self.demand = if self.below { Gate::On } else { Gate::Off };
+        }
+    }
+
+    fn asks_on_after_off(&self) -> bool {
+        !self.gate_on && self.demand.is_on()
+    }
+
+    /// The on-time (or the off-time) counts from `at`.
+    fn edge_at(&mut self, at: Instant) {
+        if self.gate_on {
+            self.on_since = at;
+            self.on_until = at.after(self.on_ticks);
+        } else {
+            self.off_since = at;
         }
     }
 }

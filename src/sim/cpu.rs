@@ -21,12 +21,16 @@
 //! **Sharing.** The handlers that act on the gate (the compare, the
 //! comparator, the conversion, in that priority) do not preempt each other:
 //! one waits until the one before has finished, and its outputs (the gate
-//! pin, the compare it arms) take effect when it ends. A second event of
+//! pin, the compare it arms) take effect when it ends; the timer a handler
+//! reads after its pin write reads that end (`stack::Handlers` times a
+//! turn-on there, so a pulse keeps its length). A second event of
 //! the same source while its handler still waits is merged with it, as an
 //! interrupt controller's single pending bit does: the handler runs once,
 //! with the newest data, and the merge is counted (an overrun). The
 //! housekeeping tick has the lowest priority and is preempted by all of
-//! them: it ends its cost plus their time after it began. A tick that
+//! them: it ends its cost plus their time after it began. Its own pin
+//! writes (a stop, a start on the comparator's level) act when it begins,
+//! as a firmware makes them first, in a critical section. A tick that
 //! comes while the previous one has not ended is merged the same way.
 
 use super::scenario::{HystereticInput, LawParams, Scenario};

@@ -172,8 +172,6 @@ struct Engine<F> {
     cpu: Cpu,
     /// A fast handler's outputs take effect at this tick (when it ends).
     effects_at: Option<u64>,
-    /// A housekeeping tick's outputs wait for it to end.
-    housekeeping_effects: bool,
 }
 
 /// Run a scenario to its end with the crate's stack, configured as the
@@ -330,7 +328,6 @@ impl<F: Firmware> Engine<F> {
             recorder,
             cpu,
             effects_at: None,
-            housekeeping_effects: false,
         })
     }
 
@@ -353,9 +350,6 @@ impl<F: Firmware> Engine<F> {
     fn next_event(&self) -> u64 {
         let mut next = self.schedule.next_event(self.cpu.busy_until());
         if let Some(t) = self.effects_at {
-            next = next.min(t);
-        }
-        if let (true, Some(t)) = (self.housekeeping_effects, self.cpu.housekeeping_until()) {
             next = next.min(t);
         }
         next
@@ -382,9 +376,17 @@ impl<F: Firmware> Engine<F> {
             t_s: self.t_s(),
             vo_v: self.plant.v_out(),
             il_a: self.plant.i_l(),
-            il_est_a: self.firmware.estimated_current_a(self.now()).unwrap_or(f64::NAN),
+            il_est_a: self.firmware.estimated_current_a(self.plant_instant()).unwrap_or(f64::NAN),
             gate_on: self.gate,
         }
+    }
+
+    /// The timer's reading at the plant's time (the tick at or before it),
+    /// which runs ahead of or behind the event loop's while it solves an
+    /// interval.
+    fn plant_instant(&self) -> Instant {
+        let within = (self.frac / self.tick_s) as u64;
+        Instant(self.start.wrapping_add((self.plant_tick + within) as u32))
     }
 
     fn observe(&mut self) {
@@ -521,10 +523,26 @@ impl<F: Firmware> Engine<F> {
         }
     }
 
-    /// A fast handler just ran: its outputs take effect when it ends.
-    fn handler_ran(&mut self, handler: Handler) {
+    /// A fast handler starts now: the core is busy until it ends, and the
+    /// timer read at its pin write reads that end (its outputs take effect
+    /// then). Returns the end, for [`handler_ran`](Self::handler_ran).
+    fn start_handler(&mut self, handler: Handler) -> u64 {
         let end = self.cpu.run_fast(handler, self.tick);
+        self.set_handler_clock(end);
+        self.peripherals.stage();
+        end
+    }
+
+    /// What the timer reads while a handler ending at tick `end` runs.
+    fn set_handler_clock(&mut self, end: u64) {
+        self.peripherals.set_clock(Instant(self.start.wrapping_add(end as u32)));
+    }
+
+    /// A fast handler ending at `end` just ran: its outputs take effect
+    /// then.
+    fn handler_ran(&mut self, end: u64) {
         if end <= self.tick {
+            self.peripherals.commit();
             self.after_handler();
         } else {
             self.effects_at = Some(end);
@@ -535,10 +553,7 @@ impl<F: Firmware> Engine<F> {
     fn handler_outputs(&mut self) {
         if self.effects_at.is_some_and(|t| t <= self.tick) {
             self.effects_at = None;
-            self.after_handler();
-        }
-        if self.housekeeping_effects && !self.cpu.housekeeping_running(self.tick) {
-            self.housekeeping_effects = false;
+            self.peripherals.commit();
             self.after_handler();
         }
     }
@@ -550,8 +565,9 @@ impl<F: Firmware> Engine<F> {
         }
         self.schedule.conversion = None;
         let now = self.now();
+        let end = self.start_handler(Handler::Conversion);
         self.firmware.adc_done(output, input, now);
-        self.handler_ran(Handler::Conversion);
+        self.handler_ran(end);
         true
     }
 
@@ -562,8 +578,9 @@ impl<F: Firmware> Engine<F> {
         }
         self.schedule.edge = None;
         let now = self.now();
+        let end = self.start_handler(Handler::Comparator);
         self.firmware.comparator_edge(level, now);
-        self.handler_ran(Handler::Comparator);
+        self.handler_ran(end);
         true
     }
 
@@ -592,8 +609,9 @@ impl<F: Firmware> Engine<F> {
         }
         self.schedule.compare_irq = None;
         let now = self.now();
+        let end = self.start_handler(Handler::Compare);
         self.firmware.timer_compare(now);
-        self.handler_ran(Handler::Compare);
+        self.handler_ran(end);
         true
     }
 
@@ -620,12 +638,15 @@ impl<F: Firmware> Engine<F> {
         }
         self.catch_up();
         let now = self.now();
+        // The core is the tick's until it ends, preempted by the fast
+        // handlers; its pin writes (a stop, a start on the comparator's
+        // level) act at once: a firmware makes them first, in a critical
+        // section, as the stack's state they follow is shared with the
+        // fast handlers.
+        self.cpu.run_housekeeping(self.tick);
+        self.set_handler_clock(self.tick);
         self.firmware.housekeeping(now);
-        if self.cpu.run_housekeeping(self.tick) <= self.tick {
-            self.after_handler();
-        } else {
-            self.housekeeping_effects = true;
-        }
+        self.after_handler();
         if let Some((output_w, input_w)) = self.firmware.power_estimate() {
             self.recorder.estimate(self.t_s(), output_w, input_w);
         }

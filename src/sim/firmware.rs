@@ -133,6 +133,9 @@ impl<L: Law + Regulate> Firmware for StackFirmware<L> {
     }
 
     fn estimated_current_a(&self, now: Instant) -> Option<f64> {
+        // While a handler runs, a turn-on it made is timed at its end: the
+        // estimate holds its value until then.
+        let now = self.stack().not_before_last_event(now);
         Some(self.stack().current_at(now).to_num::<f64>())
     }
 

@@ -37,6 +37,46 @@ struct Shared {
     compare: Cell<Option<Compare>>,
     dac: Cell<u16>,
     comparator: Cell<bool>,
+    // The timer's reading a handler's pin write sees.
+    clock: Cell<Instant>,
+    // While a handler runs on a named core, its writes wait here for its
+    // end (`Peripherals::stage`, `Peripherals::commit`).
+    staging: Cell<bool>,
+    pending: Cell<Pending>,
+}
+
+/// A running handler's writes, not yet seen by the hardware.
+#[derive(Clone, Copy, Debug, Default)]
+struct Pending {
+    gate: Option<bool>,
+    compare: Option<Option<Compare>>,
+    dac: Option<u16>,
+}
+
+impl Shared {
+    fn write_gate(&self, on: bool) {
+        if self.staging.get() {
+            self.pending.set(Pending { gate: Some(on), ..self.pending.get() });
+        } else {
+            self.gate.set(on);
+        }
+    }
+
+    fn write_compare(&self, compare: Option<Compare>) {
+        if self.staging.get() {
+            self.pending.set(Pending { compare: Some(compare), ..self.pending.get() });
+        } else {
+            self.compare.set(compare);
+        }
+    }
+
+    fn write_dac(&self, code: u16) {
+        if self.staging.get() {
+            self.pending.set(Pending { dac: Some(code), ..self.pending.get() });
+        } else {
+            self.dac.set(code);
+        }
+    }
 }
 
 /// The microcontroller's peripherals as the simulator sees them; hand out
@@ -82,6 +122,35 @@ impl Peripherals {
         self.shared.gate.set(false);
     }
 
+    /// Set what the timer reads during the next handler: the instant its
+    /// pin write takes effect (simulator side).
+    pub(crate) fn set_clock(&self, at: Instant) {
+        self.shared.clock.set(at);
+    }
+
+    /// A handler that takes time starts: its writes (pin, compare, DAC)
+    /// wait for [`commit`](Self::commit), and the hardware meanwhile keeps
+    /// what it had (a compare armed before still fires).
+    pub(crate) fn stage(&self) {
+        self.shared.staging.set(true);
+    }
+
+    /// The handler ended: its writes reach the hardware.
+    pub(crate) fn commit(&self) {
+        let s = &self.shared;
+        s.staging.set(false);
+        let p = s.pending.take();
+        if let Some(on) = p.gate {
+            s.gate.set(on);
+        }
+        if let Some(compare) = p.compare {
+            s.compare.set(compare);
+        }
+        if let Some(code) = p.dac {
+            s.dac.set(code);
+        }
+    }
+
     /// The armed compare, if any.
     pub fn compare(&self) -> Option<Compare> {
         self.shared.compare.get()
@@ -115,12 +184,12 @@ impl ErrorType for SimPin {
 
 impl OutputPin for SimPin {
     fn set_low(&mut self) -> Result<(), Infallible> {
-        self.shared.gate.set(false);
+        self.shared.write_gate(false);
         Ok(())
     }
 
     fn set_high(&mut self) -> Result<(), Infallible> {
-        self.shared.gate.set(true);
+        self.shared.write_gate(true);
         Ok(())
     }
 }
@@ -133,11 +202,17 @@ pub struct SimTimer {
 
 impl OneShot for SimTimer {
     fn arm(&mut self, at: Instant, ends_pulse: bool) {
-        self.shared.compare.set(Some(Compare { at, ends_pulse }));
+        self.shared.write_compare(Some(Compare { at, ends_pulse }));
     }
 
     fn disarm(&mut self) {
-        self.shared.compare.set(None);
+        self.shared.write_compare(None);
+    }
+
+    /// The instant the running handler's outputs take effect: its own
+    /// instant when handlers take no time, its end on a named core.
+    fn now(&self) -> Instant {
+        self.shared.clock.get()
     }
 }
 
@@ -150,7 +225,7 @@ pub struct SimDac {
 impl SimDac {
     /// Set the threshold, output ADC codes.
     pub fn write(&mut self, code: u16) {
-        self.shared.dac.set(code);
+        self.shared.write_dac(code);
     }
 }
 

@@ -13,6 +13,15 @@
 //!
 //! With an edge-driven law, arm the comparator's DAC at
 //! [`Handlers::comparator_code`] after each call.
+//!
+//! **An edge is timed at its pin write.** A handler decides at the
+//! instant it was given (the event's, or its entry's timer reading) but
+//! drives the pin later, after its own work. Each switching edge reads the
+//! timer right after the write ([`OneShot::now`]) and moves the estimate's
+//! edge there; a turn-on moves the current limit and the deadline armed
+//! with the pulse (maximum on-time, on-time end, predicted limit) too: a
+//! pulse keeps its length however long the handler took, and the estimate
+//! does not count the wait as the wrong phase.
 
 use super::{Sensing, Stack};
 use crate::drive::{GateDriver, OneShot};
@@ -45,7 +54,7 @@ impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
         now: Instant,
     ) -> Result<(), P::Error> {
         match self.stack.on_conversion(output, input, now) {
-            Some(command) => self.driver.apply(command),
+            Some(command) => self.carry_out(command, now),
             None => Ok(()),
         }
     }
@@ -56,7 +65,7 @@ impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
     #[inline]
     pub fn comparator_edge(&mut self, level: bool, now: Instant) -> Result<(), P::Error> {
         let command = self.stack.on_edge(level, now);
-        self.driver.apply(command)
+        self.carry_out(command, now)
     }
 
     /// The one-shot compare fired; `now` is the timer's reading in the
@@ -73,7 +82,7 @@ impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
             None => now,
         };
         let command = self.stack.on_timer(at);
-        self.driver.apply(command)
+        self.carry_out(command, at)
     }
 
     /// The housekeeping tick. `comparator_level`: the comparator's output
@@ -93,6 +102,29 @@ impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
             (Sensing::Edge, Some(level)) => self.comparator_edge(level, now),
             _ => Ok(()),
         }
+    }
+
+    /// Drive the pin for `command`, decided at `now`; an edge is timed at
+    /// the timer's reading after the write; then arm the deadline.
+    #[inline(always)]
+    fn carry_out(&mut self, command: Command, now: Instant) -> Result<(), P::Error> {
+        let switches = command.gate != self.driver.gate();
+        let hardware_end = self.driver.hardware_end().filter(|_| !command.gate.is_on());
+        self.driver.set_gate(command.gate)?;
+        let wake = if switches {
+            let mut at = self.driver.timer().now();
+            // A turn-off the timer made before the write (its compare
+            // passed before or while this handler ran) happened at the
+            // compare (the estimate keeps it within the pulse).
+            if let Some(end) = hardware_end.filter(|&end| at.has_reached(end)) {
+                at = end;
+            }
+            self.stack.switched_at(now, at, command.wake)
+        } else {
+            command.wake
+        };
+        self.driver.schedule(wake);
+        Ok(())
     }
 
     /// The DAC code an edge-driven law wants its comparator armed at.

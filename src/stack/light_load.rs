@@ -4,12 +4,14 @@
 //! only as often as the load draws that charge: as the load falls the
 //! frequency falls with it, into the audible band. Under
 //! [`LightLoad::SmallerPulses`](crate::LightLoad::SmallerPulses) the slow
-//! path watches each window: while periods run long (a period past
-//! `1/f_min`, or a window's frequency below 1.25·`f_min`) it lowers the
-//! current limit's cap by an eighth, so each pulse ends at a lower peak and
+//! path watches each window: while most of its cycles are DCM (light load:
+//! a low frequency in CCM is no sign of it, and a smaller cap there would
+//! only starve the load) and periods run long (a period past `1/f_min`, or
+//! a window's frequency below 1.25·`f_min`), or a window has no cycle at
+//! all, it lowers the current limit's cap by an eighth, so each pulse ends at a lower peak and
 //! carries less charge (the charge goes as the peak squared), and the loop
-//! must switch more often; once the frequency is back above 2.5·`f_min` it
-//! raises the cap again by an eighth, up to the configured limit (so a load
+//! must switch more often; once the frequency is back above 2.5·`f_min`,
+//! or most cycles are CCM again, it raises the cap again by an eighth, up to the configured limit (so a load
 //! step finds the full limit within a few windows). The thresholds are
 //! demo values; the eighth, the step (common practice for a multiplicative
 //! adaptation: slow against the window, fast against a load change).
@@ -59,14 +61,15 @@ impl PulseSizer {
         }
     }
 
-    /// One window while regulating: its frequency (Hz), its cycles, and
-    /// whether a period ran past `1/f_min`.
-    pub fn update(&mut self, f_sw_hz: u32, cycles: u32, slow: bool) -> PulseSize {
-        let too_slow = slow || cycles == 0 || f_sw_hz < self.f_low;
+    /// One window while regulating: its frequency (Hz), its cycles, how
+    /// many of them were DCM, and whether a period ran past `1/f_min`.
+    pub fn update(&mut self, f_sw_hz: u32, cycles: u32, dcm_cycles: u32, slow: bool) -> PulseSize {
+        let light = dcm_cycles >= cycles - cycles / 2;
+        let too_slow = cycles == 0 || (light && (slow || f_sw_hz < self.f_low));
         let step = Amps::from_bits((self.cap.to_bits() / 8).max(1));
         if too_slow {
             self.cap = self.cap.saturating_sub(step).max(self.floor);
-        } else if f_sw_hz > self.f_high {
+        } else if !light || f_sw_hz > self.f_high {
             self.cap = self.cap.saturating_add(step).min(self.limit);
         }
         PulseSize { cap: self.cap, forced: too_slow && self.cap <= self.floor }
@@ -92,19 +95,38 @@ mod tests {
         let mut s = PulseSizer::new(Amps::from_num(4), 20e3);
         let mut last = s.cap();
         for _ in 0..10 {
-            let size = s.update(15_000, 2, true);
+            let size = s.update(15_000, 2, 2, true);
             assert!(size.cap < last || size.cap == Amps::from_num(0.125));
             last = size.cap;
         }
         for _ in 0..40 {
-            s.update(10_000, 1, true);
+            s.update(10_000, 1, 1, true);
         }
         assert_eq!(s.cap(), Amps::from_num(0.125), "held at the floor, 1/32 of the limit");
-        assert!(s.update(10_000, 1, true).forced, "forced pulses only at the floor");
+        assert!(s.update(10_000, 1, 1, true).forced, "forced pulses only at the floor");
         // In the middle band nothing moves; above 50 kHz it rises.
-        assert_eq!(s.update(40_000, 4, false).cap, Amps::from_num(0.125));
+        assert_eq!(s.update(40_000, 4, 4, false).cap, Amps::from_num(0.125));
         for _ in 0..60 {
-            s.update(80_000, 8, false);
+            s.update(80_000, 8, 8, false);
+        }
+        assert_eq!(s.cap(), Amps::from_num(4));
+    }
+
+    #[test]
+    fn a_slow_ccm_window_is_no_light_load() {
+        let mut s = PulseSizer::new(Amps::from_num(4), 20e3);
+        // Heavy load at a low frequency: the cap stays at the limit.
+        for _ in 0..10 {
+            assert_eq!(s.update(15_000, 15, 0, true).cap, Amps::from_num(4));
+        }
+        // Light load lowers it; the load coming back (CCM) raises it again
+        // whatever the frequency.
+        for _ in 0..10 {
+            s.update(15_000, 15, 15, true);
+        }
+        assert!(s.cap() < Amps::from_num(2));
+        for _ in 0..40 {
+            s.update(30_000, 30, 10, false);
         }
         assert_eq!(s.cap(), Amps::from_num(4));
     }

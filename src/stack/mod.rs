@@ -93,6 +93,21 @@ impl<L: Law + Regulate> Stack<L> {
         self.supervisor.on_timer(now)
     }
 
+    /// Fast path, right after a switching edge's pin write: the gate
+    /// switched at `at`, the timer's reading after the write, not at
+    /// `now`, the instant the call that switched it was given. Returns the
+    /// deadline to arm in place of that call's `wake` (see
+    /// [`Supervisor::switched_at`]). [`Handlers`] does this.
+    #[inline]
+    pub fn switched_at(
+        &mut self,
+        now: Instant,
+        at: Instant,
+        wake: Option<Instant>,
+    ) -> Option<Instant> {
+        self.supervisor.switched_at(now, at, wake)
+    }
+
     /// Slow path, at the configured housekeeping rate: protections on the
     /// input, soft-start and hiccup, the estimator's voltages, then the
     /// window's losses, retuning, DC correction and observer. Returns a

@@ -258,7 +258,7 @@ impl SlowPath {
             return;
         }
         if let Some(sizer) = self.sizer.as_mut() {
-            let size = sizer.update(phases.f_sw_hz, phases.cycles, slow);
+            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow);
             sup.set_pulse_cap(size.cap);
             sup.inner_mut().set_forced_pulses(size.forced);
         }

@@ -77,6 +77,15 @@ impl CurrentLimit {
         (current_now >= self.cap || predicted) && now.has_reached(self.blank_end)
     }
 
+    /// The pulse really began `late` ticks after it was armed: blanking
+    /// and predicted crossing move with it (the current fell meanwhile, so
+    /// the crossing comes no earlier than that: on the safe side).
+    #[inline(always)]
+    pub(super) fn delay(&mut self, late: u32) {
+        self.blank_end = self.blank_end.after(late);
+        self.deadline = self.deadline.map(|d| d.after(late));
+    }
+
     /// The predicted crossing, for the timer.
     #[inline(always)]
     pub(super) const fn deadline(&self) -> Option<Instant> {

@@ -283,6 +283,41 @@ impl<L: Law + Regulate> Supervisor<L> {
         Command { gate: Gate::On, wake: earliest(now, cmd.wake, self.limit.deadline()) }
     }
 
+    /// Fast path, right after a switching edge's pin write: the gate
+    /// really switched at `at`, not at `now`, the instant of the call that
+    /// switched it: later by the handler's own time to its write, or, for
+    /// a turn-off, earlier when the timer had ended the pulse before the
+    /// handler began. The estimate, the guard and the law time the edge
+    /// from `at`; after a late turn-on the current limit's blanking and
+    /// predicted crossing, and `wake`, the deadline that call returned,
+    /// move by as much (every deadline armed at a turn-on counts from it;
+    /// the current fell meanwhile, so the crossing comes no earlier: on
+    /// the safe side). Returns the deadline to arm. Out of line: once per
+    /// edge, from every handler, so one copy.
+    #[inline(never)]
+    pub fn switched_at(
+        &mut self,
+        now: Instant,
+        at: Instant,
+        wake: Option<Instant>,
+    ) -> Option<Instant> {
+        let late = at.ticks_since(now);
+        if late == 0 {
+            return wake;
+        }
+        let on = self.gate.is_on();
+        if late > crate::tick::MAX_DURATION_TICKS && on {
+            return wake;
+        }
+        self.estimator.move_edge(at);
+        self.inner.edge_at(at);
+        if !on {
+            return wake;
+        }
+        self.limit.delay(late);
+        wake.map(|w| w.after(late))
+    }
+
     /// The gate switches to `gate` at `now`: tell the estimator, judge the
     /// cycle it completes, and at a turn-on arm the current limit.
     #[inline(always)]

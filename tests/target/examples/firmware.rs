@@ -114,6 +114,9 @@ impl OneShot for OnTimeTimer {
     fn disarm(&mut self) {
         COMPARE_ARMED.store(false, Ordering::Relaxed);
     }
+    fn now(&self) -> Instant {
+        now()
+    }
 }
 
 fn now() -> Instant {

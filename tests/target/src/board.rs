@@ -14,6 +14,7 @@ static mut OUTPUT: u32 = 0;
 static mut PIN: u32 = 0;
 static mut COMPARE: u32 = 0;
 static mut COMPARE_MODE: u32 = 0;
+static mut COUNTER: u32 = 0;
 
 /// Input word `k` (of 4), read as a peripheral register would be.
 pub fn input(k: usize) -> u32 {
@@ -74,6 +75,17 @@ impl OneShot for Compare {
         // SAFETY: single-threaded.
         unsafe { write_volatile(addr_of_mut!(COMPARE_MODE), 0) };
     }
+    fn now(&self) -> Instant {
+        // SAFETY: single-threaded.
+        Instant(unsafe { read_volatile(addr_of!(COUNTER)) })
+    }
+}
+
+/// Set what the timer's counter reads (the instant a handler's pin write
+/// sees).
+pub fn set_counter(at: Instant) {
+    // SAFETY: single-threaded.
+    unsafe { write_volatile(addr_of_mut!(COUNTER), at.0) }
 }
 
 /// The deadline armed on the compare, if any.

@@ -26,7 +26,7 @@ use ripplectl::law::Regulate;
 use ripplectl::stack::Handlers;
 use ripplectl::supervisor::State;
 use ripplectl::{Command, Gate, Instant, Law};
-use ripplectl_target::board::{armed_compare, Compare, Pin, Registers};
+use ripplectl_target::board::{armed_compare, set_counter, Compare, Pin, Registers};
 
 type Firmware<L> = Handlers<L, Pin, Compare>;
 
@@ -43,6 +43,13 @@ const REPS: u32 = 16;
 const REPS_WORST: u32 = 256;
 /// 28 V on the demo's input channel: 28·0.0826/(3.3/4096) = 2870.7.
 const VIN_28V: u16 = 2871;
+/// What the timer reads after a counted handler's pin write: its event's
+/// instant plus this many ticks (250 ns at 64 MHz), so each switching
+/// edge takes the path a board's does (`Handlers` times the edge there;
+/// its cost does not depend on how late). The live calls that close the
+/// loop read their own instant: the [`Buck`] switches at the step's
+/// start.
+const WRITE_LATE: u32 = 16;
 
 /// What drives an edge-driven law.
 #[derive(Clone, Copy)]
@@ -145,6 +152,7 @@ fn add<T: Clone>(
     (a, now): (u32, Instant),
     handler: Handler<T>,
 ) {
+    set_counter(now.after(WRITE_LATE));
     let q = meter.count_from_q16(REPS, fw, a, now, handler);
     t.sum_q16 += q;
     t.calls += 1;
@@ -152,6 +160,7 @@ fn add<T: Clone>(
     if q + (8 << 16) >= t.worst_q16 {
         t.worst_q16 = t.worst_q16.max(meter.count_from_q16(REPS_WORST, fw, a, now, handler));
     }
+    set_counter(now);
 }
 
 /// Conversion complete: `a` packs the output code (low half) and the input
@@ -219,6 +228,7 @@ fn fire_compares<L: Law + Regulate + Clone>(
         if counting {
             measure(meter, tallies, COMPARE, fw, (0, at), compare);
         }
+        set_counter(at);
         let Ok(()) = fw.compare_fired(at);
     }
 }
@@ -240,6 +250,7 @@ pub fn closed_loop<L: Law + Regulate + Clone>(
             regulating &= fw.stack().supervisor().state() == State::Regulating;
         }
         fire_compares(meter, tallies, fw, now, counting);
+        set_counter(now);
         let code = buck.output_code();
         let seen = comparator_level(comparator, fw, code, level);
         if !matches!(comparator, Comparator::None) && seen != level {
