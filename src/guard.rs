@@ -28,7 +28,7 @@
 //! even in edge mode on an idle converter.
 
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
-use crate::law::{Command, Conditions, Gate, Law, Regulate};
+use crate::law::{Command, Conditions, Event, Gate, Law, Regulate};
 use crate::scale::TimerClock;
 use crate::tick::{earliest, Instant};
 
@@ -284,7 +284,7 @@ impl<L: Law> FrequencyGuard<L> {
         self.inner.on_gate(Gate::On, now);
     }
 
-    #[inline(always)]
+    #[inline(never)]
     fn switch_off(&mut self, now: Instant) {
         self.gate = Gate::Off;
         self.time_fall(now);
@@ -426,6 +426,13 @@ impl<L: Law> Law for FrequencyGuard<L> {
     #[inline(always)]
     fn on_timer(&mut self, now: Instant) -> Command {
         let demand = self.inner.on_timer(now);
+        self.filter(demand, now)
+    }
+
+    /// The law's answer to any event, then the filter: one copy of it.
+    #[inline(always)]
+    fn on_event(&mut self, event: Event, now: Instant) -> Command {
+        let demand = self.inner.on_event(event, now);
         self.filter(demand, now)
     }
 

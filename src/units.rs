@@ -65,14 +65,18 @@ pub const fn q16(x: f64) -> I16F16 {
     I16F16::from_bits(to_fixed_i32(x, 16))
 }
 
-/// An `i64` held within `i32`.
+/// An `i64` held within `i32`: `x` when its upper half is only the sign of
+/// its lower (one compare on a 32-bit core, not two 64-bit ones), else the
+/// bound on `x`'s side. Out of line: a dozen slow-path uses.
+#[inline(never)]
 pub const fn clamp_i32(x: i64) -> i32 {
-    if x > i32::MAX as i64 {
-        i32::MAX
-    } else if x < i32::MIN as i64 {
+    let low = x as i32;
+    if low as i64 == x {
+        low
+    } else if x < 0 {
         i32::MIN
     } else {
-        x as i32
+        i32::MAX
     }
 }
 
@@ -98,8 +102,30 @@ pub fn div_u64(n: u64, d: u64) -> u64 {
     } else if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) {
         u64::from(n as u32 / d as u32)
     } else {
-        n / d
+        long_division(n, d)
     }
+}
+
+/// `n / d` for `d > 0` by shift and subtract, one turn per quotient bit
+/// (at most 64 turns). The same quotient as `n / d` in a few dozen bytes,
+/// where the compiler's 64-bit division helpers take about a kilobyte on a
+/// Cortex-M0; [`div_u64`] needs it only when an operand passes 32 bits.
+fn long_division(n: u64, d: u64) -> u64 {
+    if n < d {
+        return 0;
+    }
+    // n ≥ d > 0: d shifted left by `bits` has its top bit where n's is.
+    let bits = d.leading_zeros() - n.leading_zeros();
+    let (mut rest, mut step, mut q) = (n, d << bits, 0u64);
+    for _ in 0..=bits {
+        q <<= 1;
+        if rest >= step {
+            rest -= step;
+            q |= 1;
+        }
+        step >>= 1;
+    }
+    q
 }
 
 /// `n / d` rounded toward zero, 0 for `d = 0`, saturating (see
@@ -190,6 +216,20 @@ mod tests {
     fn saturating_helpers() {
         assert_eq!(to_fixed_i32(1e12, 16), i32::MAX);
         assert_eq!(to_fixed_i32(f64::NAN, 16), 0);
+        for (x, held) in [
+            (0i64, 0i32),
+            (-1, -1),
+            (i64::from(i32::MAX), i32::MAX),
+            (i64::from(i32::MAX) + 1, i32::MAX),
+            (i64::from(i32::MIN), i32::MIN),
+            (i64::from(i32::MIN) - 1, i32::MIN),
+            (1 << 40, i32::MAX),
+            (-(1 << 40), i32::MIN),
+            (i64::MAX, i32::MAX),
+            (i64::MIN, i32::MIN),
+        ] {
+            assert_eq!(clamp_i32(x), held, "{x}");
+        }
         assert_eq!(mul(I16F16::from_num(300), I16F16::from_num(300)), I16F16::MAX);
         assert_eq!(ratio(1, 4), ONE / 4);
         assert_eq!(ratio(1, 0), 0);
@@ -197,5 +237,31 @@ mod tests {
         assert_eq!(div_i64(-7, 2), -3);
         assert_eq!(div_i64(i64::MIN, -1), i64::MAX);
         assert_eq!(div_u64(1 << 40, 1 << 8), 1 << 32);
+    }
+
+    /// The shift-and-subtract division against the language's own `/`
+    /// (an independent implementation) on edge cases and a spread of
+    /// operands of every width.
+    #[test]
+    fn long_division_matches_the_builtin_division() {
+        let edges = [1u64, 2, 3, 0xffff_ffff, 1 << 32, (1 << 32) + 1, u64::MAX - 1, u64::MAX];
+        for &n in &edges {
+            for &d in &edges {
+                assert_eq!(long_division(n, d), n / d, "{n} / {d}");
+            }
+        }
+        // A 64-bit LCG (Knuth's MMIX multiplier and increment, from memory) for
+        // operands of every width.
+        let mut x = 0x2545_f491_4f6c_dd1du64;
+        let mut next = || {
+            x = x.wrapping_mul(6_364_136_223_846_793_005).wrapping_add(1_442_695_040_888_963_407);
+            x
+        };
+        for _ in 0..100_000 {
+            let n = next() >> (next() % 64);
+            let d = (next() >> (next() % 64)).max(1);
+            assert_eq!(long_division(n, d), n / d, "{n} / {d}");
+            assert_eq!(div_u64(n, d), n / d, "{n} / {d}");
+        }
     }
 }

@@ -204,6 +204,7 @@ pub struct Phases {
 /// `b`, A² with 16 fraction bits. Currents are held within ±128 A (2²³
 /// bits) here, so each product fits 2⁴⁶ and their sum times 21 846 (1/3 in
 /// `Q16`, 3·10⁻⁵ high) fits 2⁶³: no 64-bit division.
+#[inline(never)]
 fn ramp_mean_square(a: Amps, b: Amps) -> i64 {
     const HELD: i32 = 1 << 23;
     let held = |x: Amps| i64::from(x.to_bits().clamp(-HELD, HELD));
@@ -230,23 +231,27 @@ impl Phases {
 
     /// The on-phase's charge over the window's time (its share of the
     /// mean current).
+    #[inline(never)]
     pub fn average_on(&self) -> Amps {
         scale(midpoint(self.valley, self.peak), self.duty)
     }
 
     /// The conducting off-phase's share of the mean current.
+    #[inline(never)]
     pub fn average_off(&self) -> Amps {
         scale(midpoint(self.peak, self.off_end), self.off_fraction)
     }
 
     /// The on-phase's share of the mean square current, A² (16 fraction
     /// bits).
+    #[inline(never)]
     pub fn mean_square_on(&self) -> i64 {
         share_of(ramp_mean_square(self.valley, self.peak), self.duty)
     }
 
     /// The off-phase's share of the mean square current, A² (16 fraction
     /// bits).
+    #[inline(never)]
     pub fn mean_square_off(&self) -> i64 {
         share_of(ramp_mean_square(self.peak, self.off_end), self.off_fraction)
     }

@@ -204,12 +204,14 @@ pub struct LossModel {
 
 /// `x · 2⁴⁰ · f_sw` as a `Q16` share (`t·f` dimensionless, or `E·f` in
 /// watts), held within `i32`: one 32 × 32-bit multiply.
+#[inline(never)]
 fn per_cycle(x_q40: i32, f_sw_hz: u32) -> i32 {
     clamp_i32((i64::from(x_q40) * i64::from(f_sw_hz)) >> 24)
 }
 
 /// A mean square (A², 16 fraction bits, held within 2³¹) through a
 /// resistance, watts.
+#[inline(never)]
 fn joule(mean_square: i64, r: Ohms) -> Watts {
     Watts::from_bits(clamp_i32((i64::from(clamp_i32(mean_square)) * i64::from(r.to_bits())) >> 16))
 }

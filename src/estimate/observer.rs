@@ -275,14 +275,10 @@ impl Observer {
         }
         let innovation = v_out.to_bits().saturating_sub(self.x[1]);
         let x = self.x;
-        let term = |c: i32, v: i32| i64::from(c) * i64::from(v);
+        let inputs = [u.to_bits(), innovation];
         let rows = self.phi.iter().zip(self.gamma.iter().zip(&self.gain));
         for (next, (phi, (gamma, gain))) in self.x.iter_mut().zip(rows) {
-            let sum = term(phi[0], x[0])
-                .saturating_add(term(phi[1], x[1]))
-                .saturating_add(term(phi[2], x[2]))
-                .saturating_add(term(*gamma, u.to_bits()))
-                .saturating_add(term(*gain, innovation));
+            let sum = row_sum(phi, &x, [*gamma, *gain], inputs);
             *next = clamp_i32(sum >> self.frac);
         }
         Amps::from_bits(self.x[0])
@@ -324,4 +320,17 @@ impl Observer {
 }
 
 /// `I16F16` is the state's format.
+/// One row of the update, `Φᵣ·x + Γᵣ·u + Kᵣ·(y − v̂)`, each product 64-bit
+/// and the sum saturating, in that order. Out of line: the three rows share
+/// one copy (64-bit arithmetic is long on a Cortex-M0).
+#[inline(never)]
+fn row_sum(phi: &[i32; 3], x: &[i32; 3], gamma_gain: [i32; 2], inputs: [i32; 2]) -> i64 {
+    let term = |c: i32, v: i32| i64::from(c) * i64::from(v);
+    term(phi[0], x[0])
+        .saturating_add(term(phi[1], x[1]))
+        .saturating_add(term(phi[2], x[2]))
+        .saturating_add(term(gamma_gain[0], inputs[0]))
+        .saturating_add(term(gamma_gain[1], inputs[1]))
+}
+
 const _: () = assert!(I16F16::FRAC_NBITS == 16);

@@ -103,6 +103,18 @@ impl Command {
     }
 }
 
+/// One fast-path event, as [`Law::on_event`] takes it.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub enum Event {
+    /// An output conversion finished with this code ([`Law::on_sample`]).
+    Sample(u16),
+    /// The comparator's output is now this level ([`Law::on_edge`]).
+    Edge(bool),
+    /// A deadline was reached ([`Law::on_timer`]).
+    Timer,
+}
+
 /// A switching law, or anything wrapping one (guard, supervisor).
 pub trait Law {
     /// An ADC conversion of the sensed output finished.
@@ -120,6 +132,20 @@ pub trait Law {
 
     /// The deadline of an earlier [`Command::wake`] was reached.
     fn on_timer(&mut self, now: Instant) -> Command;
+
+    /// Any of the three events above, one entry point: an outer stage that
+    /// handles every event alike after the law's answer (the supervisor)
+    /// compiles that handling once, not once per event. Default: the
+    /// event's own method; a wrapper (the guard) overrides it to apply its
+    /// own filter once after the inner law's `on_event`.
+    #[inline(always)]
+    fn on_event(&mut self, event: Event, now: Instant) -> Command {
+        match event {
+            Event::Sample(code) => self.on_sample(code, now),
+            Event::Edge(level) => self.on_edge(level, now),
+            Event::Timer => self.on_timer(now),
+        }
+    }
 
     /// The gate actually switched to `gate` at `at`. Default: ignored.
     #[inline(always)]

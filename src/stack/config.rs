@@ -135,8 +135,8 @@ impl StackParts {
     /// Check and convert (a `const fn`).
     ///
     /// Errors: those of [`Window::new`], [`CurrentEstimator::new`],
-    /// [`Limits::new`] and [`SlowPath::new`], each naming its field;
-    /// `setpoint_v` outside the output channel's range.
+    /// [`Limits::new`] and the slow path's (`SlowPath::new`), each naming
+    /// its field; `setpoint_v` outside the output channel's range.
     pub const fn new(cfg: &StackConfig) -> Result<Self, ConfigError> {
         let (clock, vout, vin) = (&cfg.clock, &cfg.output_adc, &cfg.input_adc);
         let setpoint = attempt!(vout.code_for("setpoint_v", cfg.setpoint_v as f64)).raw;

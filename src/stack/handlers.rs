@@ -26,19 +26,21 @@
 use super::{Sensing, Stack};
 use crate::drive::{GateDriver, OneShot};
 use crate::law::{Command, Law, Regulate};
+use crate::supervisor::FAULT_LOG_LEN;
 use crate::tick::Instant;
 use embedded_hal::digital::OutputPin;
 
-/// The stack and the driver that carries out its commands.
+/// The stack and the driver that carries out its commands (`LOG`: the
+/// fault log's length, see [`Stack`]).
 #[derive(Clone, Debug)]
-pub struct Handlers<L, P, T> {
-    stack: Stack<L>,
+pub struct Handlers<L, P, T, const LOG: usize = FAULT_LOG_LEN> {
+    stack: Stack<L, LOG>,
     driver: GateDriver<P, T>,
 }
 
-impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
+impl<L: Law + Regulate, P: OutputPin, T: OneShot, const LOG: usize> Handlers<L, P, T, LOG> {
     /// Wire `stack` to `driver` (whose gate starts off).
-    pub fn new(stack: Stack<L>, driver: GateDriver<P, T>) -> Self {
+    pub fn new(stack: Stack<L, LOG>, driver: GateDriver<P, T>) -> Self {
         Self { stack, driver }
     }
 
@@ -133,12 +135,12 @@ impl<L: Law + Regulate, P: OutputPin, T: OneShot> Handlers<L, P, T> {
     }
 
     /// The stack.
-    pub const fn stack(&self) -> &Stack<L> {
+    pub const fn stack(&self) -> &Stack<L, LOG> {
         &self.stack
     }
 
     /// The stack, mutable (slow path: clear faults, retune).
-    pub fn stack_mut(&mut self) -> &mut Stack<L> {
+    pub fn stack_mut(&mut self) -> &mut Stack<L, LOG> {
         &mut self.stack
     }
 

@@ -40,25 +40,35 @@ pub use telemetry::Telemetry;
 use crate::estimate::Amps;
 use crate::guard::FrequencyGuard;
 use crate::law::{Command, Law, Regulate};
-use crate::supervisor::{FaultRecord, Supervisor};
+use crate::supervisor::{FaultRecord, Supervisor, FAULT_LOG_LEN};
 use crate::tick::Instant;
 
-/// The firmware stack around a law `L`.
+/// The firmware stack around a law `L`, keeping the last `LOG` faults
+/// ([`FAULT_LOG_LEN`] unless a firmware chooses fewer, 8 bytes of RAM each).
 #[derive(Clone, Debug)]
-pub struct Stack<L> {
-    supervisor: Supervisor<FrequencyGuard<L>>,
+pub struct Stack<L, const LOG: usize = FAULT_LOG_LEN> {
+    supervisor: Supervisor<FrequencyGuard<L>, LOG>,
     slow: SlowPath,
     sensing: Sensing,
 }
 
 impl<L: Law + Regulate> Stack<L> {
     /// Assemble the stack around `law`, whose present reference is the
-    /// setpoint. Starts off; the first housekeeping tick with a good input
-    /// begins the soft-start.
+    /// setpoint, with a fault log of [`FAULT_LOG_LEN`] entries. Starts off;
+    /// the first housekeeping tick with a good input begins the soft-start.
     pub fn new(law: L, parts: StackParts) -> Self {
+        Self::with_fault_log(law, parts)
+    }
+}
+
+impl<L: Law + Regulate, const LOG: usize> Stack<L, LOG> {
+    /// [`new`](Stack::new) with a fault log of `LOG` entries, the length
+    /// the type names (`Stack::<MyLaw, 4>::with_fault_log(law, parts)`, or
+    /// as the receiving type says).
+    pub fn with_fault_log(law: L, parts: StackParts) -> Self {
         let guard = FrequencyGuard::new(law, parts.window);
         Self {
-            supervisor: Supervisor::new(guard, parts.estimator, parts.limits),
+            supervisor: Supervisor::with_fault_log(guard, parts.estimator, parts.limits),
             slow: parts.slow,
             sensing: parts.sensing,
         }
@@ -112,6 +122,8 @@ impl<L: Law + Regulate> Stack<L> {
     /// input, soft-start and hiccup, the estimator's voltages, then the
     /// window's losses, retuning, DC correction and observer. Returns a
     /// command when it stopped the stage (the gate must go off now).
+    /// Compiled once, out of line, whoever calls it.
+    #[inline(never)]
     pub fn housekeeping(&mut self, now: Instant) -> Option<Command> {
         let sup = &mut self.supervisor;
         sup.estimator_mut().update(now);
@@ -186,12 +198,12 @@ impl<L: Law + Regulate> Stack<L> {
     }
 
     /// The supervisor, with the guarded law and the estimator inside.
-    pub const fn supervisor(&self) -> &Supervisor<FrequencyGuard<L>> {
+    pub const fn supervisor(&self) -> &Supervisor<FrequencyGuard<L>, LOG> {
         &self.supervisor
     }
 
     /// The supervisor, mutable.
-    pub fn supervisor_mut(&mut self) -> &mut Supervisor<FrequencyGuard<L>> {
+    pub fn supervisor_mut(&mut self) -> &mut Supervisor<FrequencyGuard<L>, LOG> {
         &mut self.supervisor
     }
 

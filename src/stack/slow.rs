@@ -11,7 +11,8 @@
 //!    toward it (CCM only; held while the input moves).
 //!
 //! Integer arithmetic only: a core without an FPU links no float code for
-//! it. Configuration ([`SlowPath::new`]) is a `const fn`.
+//! it. Configuration (`SlowPath::new`, called by
+//! [`StackParts::new`](super::StackParts::new)) is a `const fn`.
 
 use super::light_load::PulseSizer;
 use crate::error::{attempt, positive, ConfigError};
@@ -208,9 +209,9 @@ impl SlowPath {
 
     /// One window: `phases` from the estimator, `vin_q16` the input's mean
     /// code × 2¹⁶; the supervisor has done its own housekeeping.
-    pub fn run<L: Law + Regulate>(
+    pub fn run<L: Law + Regulate, const LOG: usize>(
         &mut self,
-        sup: &mut Supervisor<FrequencyGuard<L>>,
+        sup: &mut Supervisor<FrequencyGuard<L>, LOG>,
         phases: &Phases,
         vin_q16: u32,
     ) {
@@ -235,9 +236,9 @@ impl SlowPath {
     }
 
     /// Retune the law and trim the reference, while regulating.
-    fn regulate<L: Law + Regulate>(
+    fn regulate<L: Law + Regulate, const LOG: usize>(
         &mut self,
-        sup: &mut Supervisor<FrequencyGuard<L>>,
+        sup: &mut Supervisor<FrequencyGuard<L>, LOG>,
         phases: &Phases,
         vin: Volts,
         vout: Volts,

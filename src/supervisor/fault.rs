@@ -3,7 +3,10 @@
 use crate::tick::Instant;
 use heapless::Deque;
 
-/// Capacity of the fault log.
+/// Capacity of the fault log unless a firmware chooses another (the
+/// `LOG` parameter of [`FaultLog`], [`Supervisor`](super::Supervisor),
+/// [`Stack`](crate::stack::Stack) and [`Handlers`](crate::stack::Handlers)):
+/// 8 bytes of RAM an entry.
 pub const FAULT_LOG_LEN: usize = 16;
 
 /// Kinds of fault.
@@ -60,14 +63,15 @@ pub struct FaultRecord {
     pub at: Instant,
 }
 
-/// The last [`FAULT_LOG_LEN`] faults, oldest first; a full log drops its
-/// oldest entry.
+/// The last `N` faults (at least one; [`FAULT_LOG_LEN`] unless chosen),
+/// oldest first; a full log drops its oldest entry. Only telemetry reads
+/// it: the supervisor's sequencing never depends on its length.
 #[derive(Clone, Debug)]
-pub struct FaultLog {
-    entries: Deque<FaultRecord, FAULT_LOG_LEN>,
+pub struct FaultLog<const N: usize = FAULT_LOG_LEN> {
+    entries: Deque<FaultRecord, N>,
 }
 
-impl FaultLog {
+impl<const N: usize> FaultLog<N> {
     /// An empty log.
     pub const fn new() -> Self {
         Self { entries: Deque::new() }
@@ -102,7 +106,7 @@ impl FaultLog {
     }
 }
 
-impl Default for FaultLog {
+impl<const N: usize> Default for FaultLog<N> {
     fn default() -> Self {
         Self::new()
     }

@@ -123,7 +123,10 @@ fn now() -> Instant {
     Instant(COUNTER.load(Ordering::Relaxed))
 }
 
-type Firmware = Handlers<OnTime, GatePin, OnTimeTimer>;
+/// The whole firmware, keeping its last four faults (8 bytes of RAM each;
+/// the crate's default is sixteen): a small Cortex-M0 reports the latest
+/// few, and nothing but telemetry reads the log.
+type Firmware = Handlers<OnTime, GatePin, OnTimeTimer, 4>;
 
 static FIRMWARE: Mutex<RefCell<Option<&'static mut Firmware>>> = Mutex::new(RefCell::new(None));
 
@@ -178,7 +181,7 @@ fn main() -> ! {
     let Ok(driver) =
         GateDriver::new(GatePin, OnTimeTimer, Polarity::ActiveHigh, PulseEnd::Hardware);
     let Some(firmware) =
-        cortex_m::singleton!(: Firmware = Handlers::new(Stack::new(LAW, PARTS), driver))
+        cortex_m::singleton!(: Firmware = Handlers::new(Stack::with_fault_log(LAW, PARTS), driver))
     else {
         loop {
             cortex_m::asm::wfi();

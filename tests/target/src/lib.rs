@@ -119,6 +119,12 @@ pub const ON_TIME: OnTime = PLAIN_ON_TIME
 /// The demo's estimator model.
 pub const MODEL: InductorModel = InductorModel::demo();
 
+/// The fault log's length in the size probes and the firmware example: a
+/// Cortex-M0 firmware with little RAM keeps its last four faults (8 bytes
+/// each) rather than the crate's default sixteen. The log is telemetry
+/// only; protections and sequencing do not read it.
+pub const FAULT_LOG: usize = 4;
+
 /// Input code of 24 V on the demo's input channel (100 k over 9.1 k into
 /// 12 bits at 3.3 V: 24·0.0826/(3.3/4096) = 2460.6).
 pub const VIN_24V: u16 = 2461;

@@ -1,6 +1,7 @@
 //! Size probe `slow_path`: the on-time stack's housekeeping tick (the
 //! supervisor's housekeeping, the estimator's window, losses, feed-forward
-//! and trim, DC correction, observer) and its telemetry; no fast path.
+//! and trim, DC correction, observer) and its telemetry; no fast path. A
+//! four-entry fault log ([`FAULT_LOG`]).
 #![no_std]
 #![no_main]
 
@@ -8,11 +9,12 @@ use panic_halt as _;
 use ripplectl::law::OnTime;
 use ripplectl::stack::Stack;
 use ripplectl_target::board::{event, halt, output};
-use ripplectl_target::{COT_PARTS, ON_TIME};
+use ripplectl_target::{COT_PARTS, FAULT_LOG, ON_TIME};
 
 #[cortex_m_rt::entry]
 fn main() -> ! {
-    let Some(stack) = cortex_m::singleton!(: Stack<OnTime> = Stack::new(ON_TIME, COT_PARTS)) else {
+    let Some(stack) = cortex_m::singleton!(: Stack<OnTime, FAULT_LOG> = Stack::with_fault_log(ON_TIME, COT_PARTS))
+    else {
         halt()
     };
     loop {

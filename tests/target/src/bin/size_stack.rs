@@ -1,7 +1,8 @@
 //! Size probe `stack`: the whole firmware as the firmware example wires it
 //! (`Handlers`: the on-time stack with feed-forward, trim, DC correction
 //! and the observer, driving a gate driver), every interrupt handler's
-//! body, the comparator's code and telemetry.
+//! body, the comparator's code and telemetry; a four-entry fault log
+//! ([`FAULT_LOG`], the firmware example's choice).
 #![no_std]
 #![no_main]
 
@@ -9,12 +10,12 @@ use panic_halt as _;
 use ripplectl::law::OnTime;
 use ripplectl::stack::{Handlers, Stack};
 use ripplectl_target::board::{driver, event, halt, output, Compare, Pin};
-use ripplectl_target::{COT_PARTS, ON_TIME};
+use ripplectl_target::{COT_PARTS, FAULT_LOG, ON_TIME};
 
 #[cortex_m_rt::entry]
 fn main() -> ! {
-    let Some(fw) = cortex_m::singleton!(: Handlers<OnTime, Pin, Compare> =
-        Handlers::new(Stack::new(ON_TIME, COT_PARTS), driver()))
+    let Some(fw) = cortex_m::singleton!(: Handlers<OnTime, Pin, Compare, FAULT_LOG> =
+        Handlers::new(Stack::with_fault_log(ON_TIME, COT_PARTS), driver()))
     else {
         halt()
     };

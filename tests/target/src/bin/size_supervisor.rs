@@ -1,6 +1,7 @@
 //! Size probe `supervisor`: the supervisor around the guarded on-time law
 //! (with the current estimator it owns), its fast path and its own
-//! housekeeping; not the stack's slow path.
+//! housekeeping; not the stack's slow path. A four-entry fault log
+//! ([`FAULT_LOG`]).
 #![no_std]
 #![no_main]
 
@@ -9,11 +10,11 @@ use ripplectl::law::OnTime;
 use ripplectl::supervisor::Supervisor;
 use ripplectl::{FrequencyGuard, Law};
 use ripplectl_target::board::{event, halt, output};
-use ripplectl_target::{COT_PARTS, ON_TIME};
+use ripplectl_target::{COT_PARTS, FAULT_LOG, ON_TIME};
 
 #[cortex_m_rt::entry]
 fn main() -> ! {
-    let Some(sup) = cortex_m::singleton!(: Supervisor<FrequencyGuard<OnTime>> = Supervisor::new(
+    let Some(sup) = cortex_m::singleton!(: Supervisor<FrequencyGuard<OnTime>, FAULT_LOG> = Supervisor::with_fault_log(
         FrequencyGuard::new(ON_TIME, COT_PARTS.window),
         COT_PARTS.estimator,
         COT_PARTS.limits,
