@@ -28,7 +28,7 @@
 //! even in edge mode on an idle converter.
 
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
-use crate::law::{Command, Conditions, Event, Gate, Law, Regulate};
+use crate::law::{Command, Conditions, Event, Gate, Law, LockState, Regulate};
 use crate::scale::TimerClock;
 use crate::tick::{earliest, Instant};
 
@@ -478,5 +478,9 @@ impl<L: Regulate> Regulate for FrequencyGuard<L> {
 
     fn retune(&mut self, conditions: &Conditions) {
         self.inner.retune(conditions);
+    }
+
+    fn frequency_lock(&self) -> Option<LockState> {
+        self.inner.frequency_lock()
     }
 }

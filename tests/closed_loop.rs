@@ -63,7 +63,13 @@ fn esr_dominated_hysteretic_frequency_matches_closed_form() {
 #[test]
 fn sampled_law_regulates_inside_its_band() {
     let s = steady(
-        LawParams::Hysteretic { setpoint_v: 5.0, band_v: 0.04, input: HystereticInput::Sampled },
+        LawParams::Hysteretic {
+            setpoint_v: 5.0,
+            band_v: 0.04,
+            input: HystereticInput::Sampled,
+            lock_hz: None,
+            dither_depth: None,
+        },
         |_| {},
     );
     assert!((s.vout_mean_v - 5.0).abs() < 0.05, "mean {}", s.vout_mean_v);
@@ -74,7 +80,13 @@ fn sampled_law_regulates_inside_its_band() {
 fn edge_mode_switches_on_comparator_interrupts() {
     // Edge mode has no sampling delay, so with the same band it switches
     // faster than the sampled law.
-    let law = |input| LawParams::Hysteretic { setpoint_v: 5.0, band_v: 0.04, input };
+    let law = |input| LawParams::Hysteretic {
+        setpoint_v: 5.0,
+        band_v: 0.04,
+        input,
+        lock_hz: None,
+        dither_depth: None,
+    };
     let sampled = steady(law(HystereticInput::Sampled), |_| {});
     let edge = steady(law(HystereticInput::Edge), |_| {});
     assert!((edge.vout_mean_v - 5.0).abs() < 0.05, "mean {}", edge.vout_mean_v);

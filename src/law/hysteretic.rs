@@ -10,11 +10,25 @@
 //!   threshold; call [`Law::on_edge`] on each comparator interrupt, then
 //!   program the DAC with [`Hysteretic::armed_code`] (and
 //!   [`Hysteretic::armed`] tells which of the two it is).
+//!
+//! Two slow-path options scale the band once per housekeeping window
+//! ([`Regulate::retune`]), each half of it by the same factor, at least one
+//! code a side:
+//!
+//! - **frequency lock** ([`Hysteretic::with_lock`]): a [`FrequencyTrim`]
+//!   narrows the band when the mean period is too long and widens it when
+//!   too short, so the mean switching frequency tracks a target across
+//!   input and load (quasi-fixed-frequency hysteretic control); it holds
+//!   while the frequency window binds;
+//! - **dithering** ([`Hysteretic::with_dither`]): a [`Dither`] factor moves
+//!   the band pseudo-randomly around its (locked) width, spreading the
+//!   switching frequency's harmonics.
 
-use super::{Command, Gate, Law, Regulate};
+use super::{Command, Conditions, Dither, FrequencyTrim, Gate, Law, LockState, Regulate};
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
 use crate::scale::AdcChannel;
 use crate::tick::Instant;
+use crate::units::{Fraction, ONE};
 
 /// Hysteretic law settings in SI units, referred to the sensed output (before
 /// the divider).
@@ -47,7 +61,9 @@ pub enum Threshold {
 /// `code = round((V·ratio + offset) / (V_ref / 2^N))`, range
 /// `0..=2^N − 1`. The reference code moves on the slow path
 /// ([`set_reference`](Self::set_reference)); the thresholds saturate at 0 and
-/// at full scale there.
+/// at full scale there. The half-bands below and above the reference are
+/// `u16` codes, at least 1; the configured ones are kept so that the lock
+/// and the dither scale them without drifting.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct Hysteretic {
@@ -56,9 +72,13 @@ pub struct Hysteretic {
     reference: u16,
     below_reference: u16,
     above_reference: u16,
+    configured_below: u16,
+    configured_above: u16,
     full_scale: u16,
     demand: Gate,
     armed: Threshold,
+    lock: Option<FrequencyTrim>,
+    dither: Option<Dither>,
 }
 
 impl Hysteretic {
@@ -86,10 +106,52 @@ impl Hysteretic {
             reference,
             below_reference: reference - lower,
             above_reference: upper - reference,
+            configured_below: reference - lower,
+            configured_above: upper - reference,
             full_scale: adc.full_scale_code(),
             demand: Gate::Off,
             armed: Threshold::Lower,
+            lock: None,
+            dither: None,
         })
+    }
+
+    /// Lock the mean switching frequency to `lock`'s target by scaling the
+    /// band within `lock`'s bounds (a `const fn`; build `lock` with
+    /// [`FrequencyTrim::named`] on `lock_hz`).
+    pub const fn with_lock(mut self, lock: FrequencyTrim) -> Self {
+        self.lock = Some(lock);
+        self
+    }
+
+    /// Dither the band once per housekeeping window (a `const fn`).
+    pub const fn with_dither(mut self, dither: Dither) -> Self {
+        self.dither = Some(dither);
+        self
+    }
+
+    /// The frequency lock, if any (its trim is the band's scale now).
+    pub const fn frequency_lock(&self) -> Option<&FrequencyTrim> {
+        self.lock.as_ref()
+    }
+
+    /// Full width of the band now, ADC codes (upper − lower threshold
+    /// before any saturation at the range's ends).
+    pub const fn band_codes(&self) -> u16 {
+        self.below_reference + self.above_reference
+    }
+
+    /// Slow path: set both half-bands to the configured ones times `factor`
+    /// ([`Fraction`], rounded, at least one code a side) and move the
+    /// thresholds with them.
+    fn scale_band(&mut self, factor: Fraction) {
+        let scale = |configured: u16| {
+            let codes = (u64::from(configured) * u64::from(factor) + u64::from(ONE / 2)) >> 16;
+            codes.clamp(1, u64::from(u16::MAX / 2)) as u16
+        };
+        self.below_reference = scale(self.configured_below);
+        self.above_reference = scale(self.configured_above);
+        self.set_reference(self.reference);
     }
 
     /// Lower threshold, ADC code.
@@ -191,5 +253,27 @@ impl Regulate for Hysteretic {
 
     fn set_reference(&mut self, code: u16) {
         Hysteretic::set_reference(self, code);
+    }
+
+    /// The frequency lock's update and the dither's next draw, applied to
+    /// the band; nothing without either.
+    fn retune(&mut self, c: &Conditions) {
+        if self.lock.is_none() && self.dither.is_none() {
+            return;
+        }
+        let mut factor = match self.lock.as_mut() {
+            // A period past 1/f_min: narrow the band by a full step.
+            Some(lock) if c.long_period => lock.step_down(),
+            Some(lock) => lock.update(c.cycles, c.period_ticks, c.window_binding),
+            None => ONE,
+        };
+        if let Some(d) = self.dither.as_mut() {
+            factor = ((u64::from(factor) * u64::from(d.draw())) >> 16) as Fraction;
+        }
+        self.scale_band(factor);
+    }
+
+    fn frequency_lock(&self) -> Option<LockState> {
+        self.lock.as_ref().map(FrequencyTrim::state)
     }
 }

@@ -34,18 +34,22 @@
 //!   for slow adaptation (feed-forward, frequency lock), not for decisions.
 
 pub mod dc_correction;
+pub mod dither;
 pub mod emulated_ripple;
 pub mod feed_forward;
 pub mod hysteretic;
 pub mod on_time;
 pub mod passthrough;
+pub mod trim;
 
 pub use dc_correction::DcCorrection;
+pub use dither::Dither;
 pub use emulated_ripple::EmulatedRipple;
-pub use feed_forward::{FrequencyTrim, OnTimeFeedForward};
+pub use feed_forward::OnTimeFeedForward;
 pub use hysteretic::{Hysteretic, HystereticConfig, Threshold};
 pub use on_time::{OnTime, OnTimeConfig};
 pub use passthrough::ComparatorPassThrough;
+pub use trim::FrequencyTrim;
 
 use crate::tick::Instant;
 use crate::units::Volts;
@@ -205,9 +209,27 @@ pub struct Conditions {
     /// `period_ticks / cycles`).
     pub period_ticks: u32,
     /// The frequency window's limits acted during the window (a
-    /// minimum-period, maximum-period or maximum-on-time clamp): an
-    /// integrator that adapts the frequency should hold.
+    /// minimum-period or maximum-on-time clamp): an integrator that adapts
+    /// the frequency should hold.
     pub window_binding: bool,
+    /// A switching period ran past the window's longest (`1/f_min`)
+    /// during the window: the frequency is too low whatever its mean says
+    /// (a light-load burst averages high).
+    pub long_period: bool,
+}
+
+/// Where a law's mean-frequency lock stands ([`Regulate::frequency_lock`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct LockState {
+    /// The locked mean frequency, Hz.
+    pub target_hz: u32,
+    /// The lock's factor sits at its lower bound: it cannot raise the
+    /// frequency any further.
+    pub at_min: bool,
+    /// The lock's factor sits at its upper bound: it cannot lower the
+    /// frequency any further.
+    pub at_max: bool,
 }
 
 /// A law whose regulation reference can be moved on the slow path
@@ -225,5 +247,13 @@ pub trait Regulate {
     /// lock). Integer arithmetic only. Default: nothing.
     fn retune(&mut self, conditions: &Conditions) {
         let _ = conditions;
+    }
+
+    /// The mean-frequency lock [`retune`](Self::retune) runs, if the law
+    /// has one: its target and whether it has run out of range (the
+    /// light-load pulse sizer then takes over, see
+    /// [`stack`](crate::stack)). Default: `None`.
+    fn frequency_lock(&self) -> Option<LockState> {
+        None
     }
 }

@@ -17,7 +17,8 @@
 //! [`EmulatedRipple`].
 
 use super::{
-    Command, Conditions, EmulatedRipple, FrequencyTrim, Gate, Law, OnTimeFeedForward, Regulate,
+    Command, Conditions, EmulatedRipple, FrequencyTrim, Gate, Law, LockState, OnTimeFeedForward,
+    Regulate,
 };
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
 use crate::scale::{AdcChannel, TimerClock};
@@ -300,9 +301,13 @@ impl Regulate for OnTime {
 
     /// Feed-forward of the on-time from the window's mean input (times the
     /// frequency trim), and the emulated ripple's duty.
+    fn frequency_lock(&self) -> Option<LockState> {
+        self.trim.as_ref().map(FrequencyTrim::state)
+    }
+
     fn retune(&mut self, c: &Conditions) {
         let trim = match self.trim.as_mut() {
-            Some(t) => t.update(c.cycles, c.period_ticks, c.window_binding),
+            Some(t) => t.update(c.cycles, c.period_ticks, c.window_binding || c.long_period),
             None => ONE,
         };
         if let Some(ff) = self.feed_forward {

@@ -11,5 +11,5 @@ pub mod hysteretic;
 pub mod on_time;
 
 pub use guard::GuardModel;
-pub use hysteretic::HystereticModel;
+pub use hysteretic::{HystereticModel, LockModel};
 pub use on_time::OnTimeModel;

@@ -8,8 +8,8 @@ use super::run_control::RunControl;
 use super::scenario::{HystereticInput, LawParams, McuParams, Scenario, ScenarioError};
 use crate::estimate::{LossConfig, Steinmetz};
 use crate::law::{
-    ComparatorPassThrough, EmulatedRipple, FrequencyTrim, Hysteretic, HystereticConfig, Law,
-    OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
+    ComparatorPassThrough, Dither, EmulatedRipple, FrequencyTrim, Hysteretic, HystereticConfig,
+    Law, OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
 };
 use crate::scale::{AdcChannel, TimerClock};
 use crate::stack::{Sensing, SlowPathConfig, Stack, StackConfig, StackParts};
@@ -22,6 +22,16 @@ pub const TRIM_GAIN: f32 = 0.05;
 pub const TRIM_MIN: f32 = 0.5;
 /// Highest trim factor.
 pub const TRIM_MAX: f32 = 1.5;
+/// The hysteretic frequency lock's gain per housekeeping window (demo
+/// value).
+pub const LOCK_GAIN: f32 = 0.25;
+/// Narrowest band the lock may set, a fraction of the configured band (at
+/// least one ADC code a side in any case).
+pub const LOCK_MIN: f32 = 0.125;
+/// Widest band the lock may set, a multiple of the configured band.
+pub const LOCK_MAX: f32 = 2.0;
+/// The dither register's seed (any nonzero value).
+pub const DITHER_SEED: u16 = 0xACE1;
 
 /// The scenario key a configuration parameter comes from.
 pub fn scenario_key(sc: &Scenario, parameter: &str) -> String {
@@ -32,7 +42,7 @@ pub fn scenario_key(sc: &Scenario, parameter: &str) -> String {
         "vin_full_scale_v" => return "mcu.vin_divider_ratio".into(),
         "f_min_hz" | "f_max_hz" | "min_on_s" | "min_off_s" | "max_on_s" => "control.window",
         "setpoint_v" | "band_v" | "on_time_s" | "emulated_ripple_v" | "feed_forward_hz"
-        | "lower_v" | "upper_v" => "control.law",
+        | "lower_v" | "upper_v" | "lock_hz" | "dither_depth" => "control.law",
         "duty" => return "input.points".into(),
         "trim_gain" | "trim_min" | "trim_max" => return "control.law.trim".into(),
         "dc_gain" | "dc_limit_codes" => return "control.dc_correction".into(),
@@ -162,9 +172,9 @@ pub fn law(sc: &Scenario) -> Result<ScenarioLaw, ScenarioError> {
     let adc = output_channel(&sc.mcu).map_err(key)?;
     let clock = clock(sc)?;
     Ok(match sc.control.law {
-        LawParams::Hysteretic { setpoint_v, band_v, .. } => ScenarioLaw::Hysteretic(
-            Hysteretic::new(&HystereticConfig { setpoint_v, band_v }, &adc).map_err(key)?,
-        ),
+        LawParams::Hysteretic { .. } => {
+            ScenarioLaw::Hysteretic(hysteretic(sc, &adc, &clock).map_err(key)?)
+        }
         LawParams::OnTime { .. } => ScenarioLaw::OnTime(on_time(sc, &adc, &clock).map_err(key)?),
         LawParams::AnalogRetrofit { lower_v, upper_v } => {
             let middle = adc.to_code((0.5 * (lower_v + upper_v)) as f32);
@@ -172,6 +182,27 @@ pub fn law(sc: &Scenario) -> Result<ScenarioLaw, ScenarioError> {
             ScenarioLaw::Retrofit(ComparatorPassThrough::new(true).with_setpoint(setpoint))
         }
     })
+}
+
+/// The hysteretic law with its frequency lock and dither, if any.
+fn hysteretic(
+    sc: &Scenario,
+    adc: &AdcChannel,
+    clock: &TimerClock,
+) -> Result<Hysteretic, ConfigError> {
+    let LawParams::Hysteretic { setpoint_v, band_v, lock_hz, dither_depth, .. } = sc.control.law
+    else {
+        unreachable!("called for the hysteretic law")
+    };
+    let mut law = Hysteretic::new(&HystereticConfig { setpoint_v, band_v }, adc)?;
+    if let Some(f) = lock_hz {
+        law = law
+            .with_lock(FrequencyTrim::named("lock_hz", f, LOCK_GAIN, LOCK_MIN, LOCK_MAX, clock)?);
+    }
+    if let Some(depth) = dither_depth {
+        law = law.with_dither(Dither::new(depth, DITHER_SEED)?);
+    }
+    Ok(law)
 }
 
 /// The on-time law with what the scenario adds to it.

@@ -129,6 +129,14 @@ pub enum LawParams {
         band_v: f32,
         /// Sampled or comparator-edge input.
         input: HystereticInput,
+        /// Lock the mean switching frequency to this target by scaling the
+        /// band, Hz; omitted: a fixed band.
+        #[serde(default)]
+        lock_hz: Option<f32>,
+        /// Dither the band by up to ± this fraction of its width once per
+        /// housekeeping window (spread spectrum, 0–0.5); omitted: none.
+        #[serde(default)]
+        dither_depth: Option<f32>,
     },
     /// The crate's constant on-time law.
     OnTime {
@@ -558,7 +566,11 @@ impl Scenario {
             ));
         }
         match self.control.law {
-            LawParams::Hysteretic { .. } => {}
+            LawParams::Hysteretic { lock_hz, .. } => {
+                if let Some(f) = lock_hz {
+                    positive("control.law.lock_hz", f64::from(f))?;
+                }
+            }
             LawParams::OnTime { on_time_s, feed_forward_hz, trim, .. } => {
                 positive("control.law.on_time_s", f64::from(on_time_s))?;
                 if let Some(f) = feed_forward_hz {

@@ -8,13 +8,21 @@
 //! a low frequency in CCM is no sign of it, and a smaller cap there would
 //! only starve the load) and periods run long (a period past `1/f_min`, or
 //! a window's frequency below 1.25·`f_min`), or a window has no cycle at
-//! all, it lowers the current limit's cap by an eighth, so each pulse ends at a lower peak and
-//! carries less charge (the charge goes as the peak squared), and the loop
-//! must switch more often; once the frequency is back above 2.5·`f_min`,
-//! or most cycles are CCM again, it raises the cap again by an eighth, up to the configured limit (so a load
-//! step finds the full limit within a few windows). The thresholds are
-//! demo values; the eighth, the step (common practice for a multiplicative
-//! adaptation: slow against the window, fast against a load change).
+//! all, it lowers the current limit's cap by an eighth, so each pulse ends
+//! at a lower peak and carries less charge (the charge goes as the peak
+//! squared), and the loop must switch more often; once the frequency is
+//! back above 2.5·`f_min`, or most cycles are CCM again, it raises the cap
+//! again by an eighth, up to the configured limit (so a load step finds the
+//! full limit within a few windows). With a law that locks its mean
+//! frequency ([`Regulate::frequency_lock`](crate::law::Regulate::frequency_lock))
+//! the lock moves the frequency and the sizer only takes over where the
+//! lock has run out of range: the cap falls while the lock sits at its
+//! lower bound and the window's frequency is below 31/32 of the target (or
+//! a period ran long), and rises while the lock sits at its upper bound,
+//! or the frequency passes 5/4 of the target, or most cycles are CCM.
+//! The thresholds are demo values; the eighth, the step (common practice
+//! for a multiplicative adaptation: slow against the window, fast against a
+//! load change).
 //!
 //! **Where it ends.** The cap does not go below a floor of 1/32 of the
 //! limit. If periods still run long there (almost no load: even the
@@ -26,6 +34,7 @@
 //! so light-load efficiency falls (the README gives the demo's figures).
 
 use crate::estimate::Amps;
+use crate::law::LockState;
 
 /// The adaptation's state.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -62,14 +71,29 @@ impl PulseSizer {
     }
 
     /// One window while regulating: its frequency (Hz), its cycles, how
-    /// many of them were DCM, and whether a period ran past `1/f_min`.
-    pub fn update(&mut self, f_sw_hz: u32, cycles: u32, dcm_cycles: u32, slow: bool) -> PulseSize {
+    /// many of them were DCM, whether a period ran past `1/f_min`, and the
+    /// law's frequency lock, if it has one (see the module notes).
+    pub fn update(
+        &mut self,
+        f_sw_hz: u32,
+        cycles: u32,
+        dcm_cycles: u32,
+        slow: bool,
+        lock: Option<LockState>,
+    ) -> PulseSize {
         let light = dcm_cycles >= cycles - cycles / 2;
-        let too_slow = cycles == 0 || (light && (slow || f_sw_hz < self.f_low));
+        let (low, high) = match lock {
+            Some(l) => {
+                let f = l.target_hz;
+                (l.at_min && f_sw_hz < f - f / 32, l.at_max || f_sw_hz > f + f / 4)
+            }
+            None => (f_sw_hz < self.f_low, f_sw_hz > self.f_high),
+        };
+        let too_slow = cycles == 0 || (light && (slow || low));
         let step = Amps::from_bits((self.cap.to_bits() / 8).max(1));
         if too_slow {
             self.cap = self.cap.saturating_sub(step).max(self.floor);
-        } else if !light || f_sw_hz > self.f_high {
+        } else if !light || high {
             self.cap = self.cap.saturating_add(step).min(self.limit);
         }
         PulseSize { cap: self.cap, forced: too_slow && self.cap <= self.floor }
@@ -95,19 +119,19 @@ mod tests {
         let mut s = PulseSizer::new(Amps::from_num(4), 20e3);
         let mut last = s.cap();
         for _ in 0..10 {
-            let size = s.update(15_000, 2, 2, true);
+            let size = s.update(15_000, 2, 2, true, None);
             assert!(size.cap < last || size.cap == Amps::from_num(0.125));
             last = size.cap;
         }
         for _ in 0..40 {
-            s.update(10_000, 1, 1, true);
+            s.update(10_000, 1, 1, true, None);
         }
         assert_eq!(s.cap(), Amps::from_num(0.125), "held at the floor, 1/32 of the limit");
-        assert!(s.update(10_000, 1, 1, true).forced, "forced pulses only at the floor");
+        assert!(s.update(10_000, 1, 1, true, None).forced, "forced pulses only at the floor");
         // In the middle band nothing moves; above 50 kHz it rises.
-        assert_eq!(s.update(40_000, 4, 4, false).cap, Amps::from_num(0.125));
+        assert_eq!(s.update(40_000, 4, 4, false, None).cap, Amps::from_num(0.125));
         for _ in 0..60 {
-            s.update(80_000, 8, 8, false);
+            s.update(80_000, 8, 8, false, None);
         }
         assert_eq!(s.cap(), Amps::from_num(4));
     }
@@ -117,16 +141,16 @@ mod tests {
         let mut s = PulseSizer::new(Amps::from_num(4), 20e3);
         // Heavy load at a low frequency: the cap stays at the limit.
         for _ in 0..10 {
-            assert_eq!(s.update(15_000, 15, 0, true).cap, Amps::from_num(4));
+            assert_eq!(s.update(15_000, 15, 0, true, None).cap, Amps::from_num(4));
         }
         // Light load lowers it; the load coming back (CCM) raises it again
         // whatever the frequency.
         for _ in 0..10 {
-            s.update(15_000, 15, 15, true);
+            s.update(15_000, 15, 15, true, None);
         }
         assert!(s.cap() < Amps::from_num(2));
         for _ in 0..40 {
-            s.update(30_000, 30, 10, false);
+            s.update(30_000, 30, 10, false, None);
         }
         assert_eq!(s.cap(), Amps::from_num(4));
     }

@@ -114,7 +114,7 @@ pub struct SlowPath {
     last_vin: u32,
     hold: u8,
     // The window limits' clamp counts that mark the window as binding
-    // (minimum period, slow periods, maximum on-time), summed (wrapping)
+    // (minimum period, maximum on-time), summed (wrapping)
     // at the last window: a change means one of them acted since.
     binding_before: u32,
     // The slow-period count at the last window.
@@ -259,7 +259,8 @@ impl SlowPath {
             return;
         }
         if let Some(sizer) = self.sizer.as_mut() {
-            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow);
+            let target = sup.inner().frequency_lock();
+            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow, target);
             sup.set_pulse_cap(size.cap);
             sup.inner_mut().set_forced_pulses(size.forced);
         }
@@ -269,6 +270,7 @@ impl SlowPath {
             cycles: phases.cycles,
             period_ticks: phases.period_ticks,
             window_binding: binding != before,
+            long_period: slow,
         };
         sup.inner_mut().retune(&conditions);
         if let Some(dc) = self.dc.as_mut() {
@@ -305,9 +307,10 @@ impl SlowPath {
 
 /// The clamp counts that mark a window as binding, summed (wrapping): it
 /// changes whenever one of them counts (only 2³² clamps within one window,
-/// beyond any window's cycles, could hide a change).
+/// beyond any window's cycles, could hide a change). Slow periods are
+/// reported apart ([`Conditions::long_period`]).
 fn binding_clamps(c: &ClampCounts) -> u32 {
-    c.min_period.wrapping_add(c.slow_periods).wrapping_add(c.max_on)
+    c.min_period.wrapping_add(c.max_on)
 }
 
 impl Averaged {
