@@ -4,6 +4,7 @@
 mod common;
 
 use common::program::{assert_one_line_error, default_toml, ripplectl};
+use std::process::Command;
 
 #[test]
 fn simulate_json_has_the_contract_keys() {
@@ -159,8 +160,52 @@ fn tolerance_out_writes_histograms_and_reproducing_scenarios() {
         text.split(" of 30 pass").next().unwrap().rsplit(' ').next().unwrap().parse().unwrap();
     assert_eq!(failing.len(), 30 - passed, "{text}");
     assert!(!failing.is_empty(), "{text}");
-    // Each file is a scenario `simulate` accepts.
-    let first = out_dir.join(failing[0]);
-    let run = ripplectl(&["simulate", "--scenario", first.to_str().unwrap(), "--json"]);
-    assert!(run.status.success(), "{}", String::from_utf8_lossy(&run.stderr));
+    assert!(names.iter().any(|n| n == "report.html"), "{names:?}");
+    // Each file is a scenario `simulate` runs to exactly the figures the
+    // study recorded for that run (runs.csv: shortest round-trip decimals).
+    let csv = std::fs::read_to_string(out_dir.join("runs.csv")).unwrap();
+    let mut lines = csv.lines();
+    let head: Vec<&str> = lines.next().unwrap().split(',').collect();
+    for name in failing.iter().take(3) {
+        let index = name.trim_start_matches("failing-run-").trim_end_matches(".toml");
+        let row: Vec<&str> = lines
+            .clone()
+            .map(|l| l.split(',').collect::<Vec<_>>())
+            .find(|r| r[0] == index)
+            .unwrap();
+        let recorded = |key: &str| -> f64 {
+            row[head.iter().position(|h| *h == key).unwrap()].parse().unwrap()
+        };
+        let file = out_dir.join(name);
+        let run = ripplectl(&["simulate", "--scenario", file.to_str().unwrap(), "--json"]);
+        assert!(run.status.success(), "{}", String::from_utf8_lossy(&run.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&run.stdout).unwrap();
+        for (json_key, csv_key) in [
+            ("vout_mean_v", "vout_mean_v"),
+            ("vout_ripple_pp_v", "ripple_pp_v"),
+            ("fsw_min_hz", "fsw_min_hz"),
+            ("fsw_max_hz", "fsw_max_hz"),
+            ("il_peak_a", "il_peak_a"),
+        ] {
+            assert_eq!(v[json_key].as_f64().unwrap(), recorded(csv_key), "run {index}: {json_key}");
+        }
+    }
+}
+
+#[test]
+fn tolerance_gives_the_same_study_on_one_or_two_threads() {
+    // Each run's draws come from (seed, index), so the thread count must
+    // not show anywhere in the report but its wall time.
+    let study = |threads: &str| {
+        let out = Command::new(env!("CARGO_BIN_EXE_ripplectl"))
+            .args(["tolerance", "--runs", "16", "--seed", "3", "--json"])
+            .env("RAYON_NUM_THREADS", threads)
+            .output()
+            .unwrap();
+        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        let mut v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        v.as_object_mut().unwrap().remove("wall_s");
+        v
+    };
+    assert_eq!(study("1"), study("2"));
 }

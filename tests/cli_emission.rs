@@ -96,4 +96,26 @@ fn compare_runs_both_and_prints_the_differences() {
     {
         assert!(text.contains(label), "{label} missing:\n{text}");
     }
+    // The transients: each run's worst figure over its disturbances, as
+    // its own summary lists them, and the difference.
+    let worst = |v: &serde_json::Value, key: &str| {
+        let list = v["transients"].as_array().unwrap();
+        assert!(!list.is_empty(), "{v}");
+        list.iter().map(|t| t[key].as_f64().unwrap()).fold(f64::NEG_INFINITY, f64::max)
+    };
+    for (label, key) in [("worst undershoot", "undershoot_v"), ("worst overshoot", "overshoot_v")] {
+        let (a, b) = (worst(&both["first"], key), worst(&both["second"], key));
+        let row = text.lines().find(|l| l.trim_start().starts_with(label)).unwrap();
+        let cells: Vec<&str> = row.split("  ").filter(|c| !c.trim().is_empty()).collect();
+        let mv = |c: &str| -> f64 {
+            let c = c.trim();
+            let (x, unit) = c.split_once(' ').unwrap();
+            x.parse::<f64>().unwrap() * if unit == "mV" { 1e-3 } else { 1.0 }
+        };
+        // Three significant digits at least.
+        assert!((mv(cells[1]) - a).abs() <= 5e-4 * a.abs().max(1e-3), "{row:?}: {a}");
+        assert!((mv(cells[2]) - b).abs() <= 5e-4 * b.abs().max(1e-3), "{row:?}: {b}");
+        assert!((mv(cells[3]) - (b - a)).abs() <= 1e-3 * (b - a).abs().max(1e-3), "{row:?}");
+    }
+    assert!(text.contains("longest recovery"), "{text}");
 }

@@ -1,4 +1,5 @@
-//! The HTML reports of `simulate` and `compare` rendered by a real browser:
+//! The HTML reports of `simulate`, `compare` and `tolerance` rendered by a
+//! real browser:
 //! Debian's Chromium, headless, driven over its DevTools protocol by
 //! `tests/browser_check.py` (Python's standard library only). Checks that
 //! every plot is there with a drawn SVG of its size, that the page raised
@@ -114,4 +115,19 @@ fn compare_report_renders_in_a_browser() {
     ]);
     // Both profiles disturb at the same times.
     check(&chromium, &out, &DEMO_PLOTS);
+}
+
+#[test]
+fn tolerance_report_renders_in_a_browser() {
+    let Some(chromium) = chromium() else { return };
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("tolerance");
+    ripplectl(&["tolerance", "--runs", "40", "--out", out.to_str().unwrap()]);
+    // A histogram of every figure (each has a value in some run here).
+    let ids: Vec<String> = ripplectl::sim::tolerance::criteria::FIGURES
+        .iter()
+        .map(|(name, _, _)| format!("plot-histogram-{name}"))
+        .collect();
+    let ids: Vec<&str> = ids.iter().map(String::as_str).collect();
+    check(&chromium, &out, &ids);
 }

@@ -109,6 +109,24 @@ fn sweep_says_why_a_point_did_not_switch() {
     assert!(v[0]["not_switching"].as_str().unwrap().contains("UVLO"), "{v}");
 }
 
+#[test]
+fn sweep_says_why_a_switching_point_has_no_efficiency() {
+    // 4 A is beyond what the demo's current limit lets through: the loop
+    // switches, the output sags out of the ±2 % band, and the efficiency
+    // is not available. The table says why instead of a bare "n/a".
+    let out = ripplectl(&["sweep", "--vin", "24", "--load", "1,4", "--duration", "0.002"]);
+    assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+    let text = String::from_utf8(out.stdout).unwrap();
+    let line = |load: &str| {
+        text.lines().find(|l| l.split_whitespace().nth(1) == Some(load)).unwrap().to_string()
+    };
+    let heavy = line("4.00");
+    assert!(!heavy.contains("not switching"), "{text}");
+    assert!(heavy.contains("n/a") && heavy.contains("not in regulation: mean output"), "{text}");
+    assert!(heavy.contains("outside 5.000 V ± 100.0 mV"), "{text}");
+    assert!(!line("1.00").contains("not in regulation"), "{text}");
+}
+
 /// Run `ripplectl args` under `sh` with the given umask.
 #[cfg(unix)]
 fn with_umask(umask: &str, args: &str) -> Output {

@@ -2,8 +2,12 @@
 //! interval covers a yield known by other means, thread counts do not
 //! change a result, and a failing run's file reproduces it.
 
+mod common;
+
+use common::program::default_toml;
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::tolerance::criteria::{Criteria, Figures};
+use ripplectl::sim::tolerance::draw;
 use ripplectl::sim::tolerance::params::Spreads;
 use ripplectl::sim::tolerance::spread::Spread;
 use ripplectl::sim::tolerance::summary::ToleranceReport;
@@ -148,4 +152,42 @@ fn corners_run_every_extreme() {
         assert!((got.0 - want.0).abs() < 1e-12 && (got.1 - want.1).abs() < 1e-12, "{seen:?}");
     }
     assert!(ToleranceReport::of(&outcome, "", 0.0).yield_interval.is_none());
+}
+
+#[test]
+fn a_ceramic_banks_dc_bias_loss_lowers_its_capacitance_before_the_spread() {
+    // The README's example tables. A ceramic capacitor at its working DC
+    // bias keeps (1 − loss) of its rated capacitance (read off the maker's
+    // DC-bias curve), and the ±10 % applies to what is left: corners at
+    // 0.55·C·(1 ± 0.10). The input spread of ±2 V moves the whole profile
+    // (nominal: its first point, 24 V).
+    let text = default_toml()
+        + "\n[tolerance.spread]\n\
+           c_f = { dist = \"uniform\", rel = 0.10, dc_bias_loss = 0.45 }\n\
+           vin = { dist = \"uniform\", abs = 2.0 }\n\n\
+           [tolerance.criteria]\nregulation_pct = 1.0\nundershoot_max_v = 0.15\n";
+    let base = Scenario::from_toml(&text).unwrap();
+    let params = base.tolerance.unwrap();
+    assert_eq!(params.criteria.undershoot_max_v, Some(0.15));
+    let c = base.plant.c_f;
+    let n = draw::corner_dimensions(&params.spread, &base);
+    let value = |settings: &[draw::Setting], name: &str| {
+        settings.iter().find(|s| s.name == name).unwrap().value
+    };
+    let low = draw::corner(&params.spread, &base, 0);
+    let high = draw::corner(&params.spread, &base, (1 << n) - 1);
+    for (settings, k, vin) in [(&low, 0.9, 22.0), (&high, 1.1, 26.0)] {
+        let want = 0.55 * c * k;
+        assert!((value(settings, "c_f") - want).abs() < 1e-12 * want, "{settings:?}");
+        let drawn = draw::apply(&base, settings);
+        assert_eq!(drawn.plant.c_f, value(settings, "c_f"));
+        let first = drawn.input.points[0][1];
+        assert!((first - vin).abs() < 1e-12, "{first}");
+        // The firmware keeps the nominal stage it was configured with.
+        assert_eq!(drawn.firmware_model(), base.firmware_model());
+    }
+    for index in 0..50 {
+        let c_f = value(&draw::random(&params.spread, &base, 9, index), "c_f");
+        assert!((0.495 * c..=0.605 * c).contains(&c_f), "{c_f}");
+    }
 }

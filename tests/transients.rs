@@ -131,6 +131,26 @@ fn load_step_undershoot_is_esr_times_step_plus_the_band_position() {
         assert!((got - recovery).abs() < 0.25e-6 + 0.03 * recovery, "{got} vs {recovery}");
         // No overshoot beyond the upper threshold without loop delay.
         assert!(t.overshoot_v <= BAND / 2.0 + 1.5e-3, "{t:?}");
+        // The inductor peaks where the output reaches the upper threshold:
+        // v_o − v_C = ESR·(i_L − I_o) = band/2, so i_L = I0 + ΔI + band/(2·ESR).
+        let peak = I0 + DI + BAND / (2.0 * ESR);
+        eprintln!("          inductor peak {:.4} A, closed form {peak:.4} A", t.il_peak_a);
+        // 1 %: the capacitor sits under 1 mV from the setpoint (its drift:
+        // 20 mA of current per mV at 50 mΩ).
+        assert!((t.il_peak_a - peak).abs() < 0.01 * peak, "peak {} vs {peak}", t.il_peak_a);
+        // The slowest cycle of the recovery is the one the step falls in:
+        // on until the output climbs from its minimum to the upper
+        // threshold (band + ESR·ΔI from a turn-on at the lower threshold,
+        // or from the step when the switch was off), then off down the band.
+        let on_s = if t_step - cycle.t_s < lp.t_on {
+            (BAND + ESR * DI) / lp.s_up
+        } else {
+            (predicted + BAND / 2.0) / lp.s_up
+        };
+        let f_min = 1.0 / (on_s + BAND / lp.s_down);
+        let got_f = t.fsw_min_hz.expect("cycles during the recovery");
+        eprintln!("          slowest {:.3} kHz, closed form {:.3} kHz", got_f / 1e3, f_min / 1e3);
+        assert!((got_f - f_min).abs() < 0.01 * f_min, "f_min {got_f} vs {f_min}");
         undershoots.push(t.undershoot_v);
     }
     // The step's position in the ripple shows: the spread across phases

@@ -123,9 +123,14 @@ pub fn lines(record: &CellGrid) -> Option<Lines> {
 
 /// Share of steady switching time in periods longer than [`SLOW_PERIOD_S`].
 fn slow_period_share(out: &RunOutput) -> f64 {
-    let (slow, total) = super::metrics::steady_cycles(out).fold((0.0, 0.0), |(s, t), c| {
-        (if c.period_s > SLOW_PERIOD_S { s + c.period_s } else { s }, t + c.period_s)
-    });
+    slow_share(super::metrics::steady_cycles(out).map(|c| c.period_s))
+}
+
+/// Share of the summed time of `periods` (s) spent in those longer than
+/// [`SLOW_PERIOD_S`], 0 to 1 (0 without any).
+pub fn slow_share(periods: impl Iterator<Item = f64>) -> f64 {
+    let (slow, total) =
+        periods.fold((0.0, 0.0), |(s, t), p| (if p > SLOW_PERIOD_S { s + p } else { s }, t + p));
     if total > 0.0 {
         slow / total
     } else {

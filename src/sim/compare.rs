@@ -4,6 +4,7 @@
 use super::emission::EmissionSummary;
 use super::metrics::Summary;
 use super::report::eng;
+use super::transient::Transient;
 
 /// How a figure is written.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -16,6 +17,9 @@ enum Unit {
     Db(&'static str),
     /// A count.
     Count,
+    /// A recovery time, s; infinite: not back in band before the next
+    /// disturbance.
+    Recovery,
 }
 
 /// One row: label, unit and how to read it from a summary.
@@ -34,6 +38,11 @@ fn emission_figure(s: &Summary, pick: fn(f64, f64) -> f64) -> Option<f64> {
     }
 }
 
+/// The largest of a figure over the run's disturbances (none without one).
+fn worst_transient(s: &Summary, read: fn(&Transient) -> f64) -> Option<f64> {
+    s.transients.iter().map(read).reduce(f64::max)
+}
+
 const FIGURES: &[Figure] = &[
     Figure { label: "output mean", unit: Unit::Si("V"), read: |s| Some(s.vout_mean_v) },
     Figure {
@@ -48,6 +57,21 @@ const FIGURES: &[Figure] = &[
     Figure { label: "shortest on-time", unit: Unit::Si("s"), read: |s| Some(s.on_time_min_s) },
     Figure { label: "inductor peak", unit: Unit::Si("A"), read: |s| Some(s.il_peak_a) },
     Figure { label: "efficiency", unit: Unit::Percent, read: |s| Some(s.efficiency_true) },
+    Figure {
+        label: "worst undershoot",
+        unit: Unit::Si("V"),
+        read: |s| worst_transient(s, |t| t.undershoot_v),
+    },
+    Figure {
+        label: "worst overshoot",
+        unit: Unit::Si("V"),
+        read: |s| worst_transient(s, |t| t.overshoot_v),
+    },
+    Figure {
+        label: "longest recovery",
+        unit: Unit::Recovery,
+        read: |s| worst_transient(s, |t| t.recovery_s.unwrap_or(f64::INFINITY)),
+    },
     Figure {
         label: "emission margin",
         unit: Unit::Db("dB"),
@@ -77,9 +101,13 @@ const FIGURES: &[Figure] = &[
 ];
 
 fn value(x: Option<f64>, unit: Unit) -> String {
+    if unit == Unit::Recovery && x == Some(f64::INFINITY) {
+        return "not back in band".to_string();
+    }
     let Some(x) = x.filter(|x| x.is_finite()) else { return "n/a".to_string() };
     match unit {
         Unit::Si(u) => eng(x, u),
+        Unit::Recovery => eng(x, "s"),
         Unit::Percent => format!("{:.2} %", 100.0 * x),
         Unit::Db(u) => format!("{x:.1} {u}"),
         Unit::Count => format!("{x:.0}"),
@@ -95,6 +123,7 @@ fn difference(a: Option<f64>, b: Option<f64>, unit: Unit) -> String {
     let sign = if d > 0.0 { "+" } else { "" };
     match unit {
         Unit::Si(u) => format!("{sign}{}", eng(d, u)),
+        Unit::Recovery => format!("{sign}{}", eng(d, "s")),
         Unit::Percent => format!("{:+.2} points", 100.0 * d),
         Unit::Db(_) => format!("{d:+.1} dB"),
         Unit::Count => format!("{d:+.0}"),

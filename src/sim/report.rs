@@ -9,27 +9,39 @@ use super::record::{Cycle, Slice};
 use crate::guard::WindowConfig;
 use std::fmt::Write as _;
 
-/// Engineering format: `value` scaled to a prefix, 3 significant digits.
+/// Engineering format: `value` scaled to a prefix, 3 significant digits
+/// (4 from 100 up), the prefix and digits chosen after rounding, so
+/// 99.996 kHz reads `100.0 kHz` and 999.96 kHz `1.000 MHz`.
 pub fn eng(value: f64, unit: &str) -> String {
     if !value.is_finite() {
         return "n/a".to_string();
     }
-    let prefixes = [(1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n")];
-    let magnitude = value.abs();
-    if magnitude == 0.0 {
+    if value == 0.0 {
         return format!("0 {unit}");
     }
+    let prefixes = [(1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n")];
     let (scale, prefix) =
-        prefixes.iter().copied().find(|(s, _)| magnitude >= *s).unwrap_or((1e-9, "n"));
+        prefixes.iter().copied().find(|(s, _)| value.abs() >= *s).unwrap_or((1e-9, "n"));
+    let (scale, prefix) = match prefixes.iter().position(|&(s, _)| s == scale) {
+        // Rounded to 4 significant digits it reaches the next prefix.
+        Some(k) if k > 0 && round_to(value.abs() / scale, 1) >= 1000.0 => prefixes[k - 1],
+        _ => (scale, prefix),
+    };
     let scaled = value / scale;
-    let digits = if scaled.abs() >= 100.0 {
+    let digits = if round_to(scaled.abs(), 2) >= 100.0 {
         1
-    } else if scaled.abs() >= 10.0 {
+    } else if round_to(scaled.abs(), 3) >= 10.0 {
         2
     } else {
         3
     };
     format!("{scaled:.digits$} {prefix}{unit}")
+}
+
+/// `x` rounded to `digits` decimals.
+fn round_to(x: f64, digits: i32) -> f64 {
+    let k = 10f64.powi(digits);
+    (x * k).round() / k
 }
 
 fn percent(x: Option<f64>) -> String {
@@ -299,5 +311,11 @@ mod tests {
         assert_eq!(eng(0.0234, "V"), "23.40 mV");
         assert_eq!(eng(1.5e-7, "s"), "150.0 ns");
         assert_eq!(eng(f64::NAN, "A"), "n/a");
+        // Rounding that carries into the next digit or prefix.
+        assert_eq!(eng(99_999.99, "Hz"), "100.0 kHz");
+        assert_eq!(eng(9.9996, "V"), "10.00 V");
+        assert_eq!(eng(999_960.0, "Hz"), "1.000 MHz");
+        assert_eq!(eng(-0.099_999, "V"), "-100.0 mV");
+        assert_eq!(eng(999.4, "Hz"), "999.4 Hz");
     }
 }

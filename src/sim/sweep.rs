@@ -4,6 +4,7 @@ use super::engine::{run_with, RunError, RunOutput};
 use super::metrics::Summary;
 use super::plant::Stage;
 use super::profile::{InputProfile, Load, LoadChange};
+use super::report::eng;
 use super::run_control::RunControl;
 use super::scenario::{HystereticInput, LawParams, Scenario};
 use crate::design;
@@ -31,6 +32,9 @@ pub struct SweepPoint {
     /// Why the point has no steady switching cycles (and so no frequency,
     /// ripple or efficiency), if it has none.
     pub not_switching: Option<String>,
+    /// Why a point that switched has no efficiency (its output is not in
+    /// steady regulation), if it has none.
+    pub not_regulating: Option<String>,
 }
 
 /// Loop delay of the scenario's firmware, s: on average half a sampling
@@ -111,6 +115,33 @@ pub fn not_switching(
     Some(reason)
 }
 
+/// Why a point that switched has no efficiency: its output is not in
+/// steady regulation in any steady window ([`super::accounting`]); none
+/// when it has one or did not switch.
+pub fn not_regulating(out: &RunOutput, summary: &Summary) -> Option<String> {
+    if summary.efficiency_true.is_finite() || !summary.fsw_mean_hz.is_finite() {
+        return None;
+    }
+    let t = &out.recorder.transients;
+    let mut why = Vec::new();
+    if !t.in_band(summary.vout_mean_v) {
+        why.push(format!(
+            "mean output {} outside {} ± {}",
+            eng(summary.vout_mean_v, "V"),
+            eng(t.setpoint_v(), "V"),
+            eng(t.band_v(), "V")
+        ));
+    }
+    if !out.faults.is_empty() {
+        let kinds: Vec<&str> = out.faults.iter().map(|f| f.0.name()).collect();
+        why.push(format!("fault: {}", kinds.join(", ")));
+    }
+    if why.is_empty() {
+        why.push("no steady window in regulation".to_string());
+    }
+    Some(why.join("; "))
+}
+
 /// Run the grid in parallel; `tick` is called after each point.
 pub fn sweep(
     base: &Scenario,
@@ -149,6 +180,7 @@ pub fn sweep_with(
                 efficiency_true: s.efficiency_true,
                 il_peak_a: s.il_peak_a,
                 not_switching: not_switching(base, vin, &out, &s),
+                not_regulating: not_regulating(&out, &s),
             })
         })
         .collect()

@@ -91,8 +91,8 @@ enum Command {
         /// draws.
         #[arg(long)]
         corners: bool,
-        /// Write the report, histograms (SVG), every run (CSV) and a
-        /// scenario file per failing run into this directory.
+        /// Write the report (text and HTML), histograms (SVG), every run
+        /// (CSV) and a scenario file per failing run into this directory.
         #[arg(long)]
         out: Option<PathBuf>,
         /// Print the report as JSON on stdout instead of the table.

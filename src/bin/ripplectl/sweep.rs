@@ -21,8 +21,12 @@ fn sweep_table(points: &[sim::sweep::SweepPoint]) -> String {
             continue;
         }
         let err = 100.0 * (p.fsw_simulated_hz - p.fsw_predicted_hz) / p.fsw_predicted_hz;
+        let why = p
+            .not_regulating
+            .as_ref()
+            .map_or(String::new(), |w| format!("   not in regulation: {w}"));
         s += &format!(
-            "  {:6.1}   {:6.2}   {:>11}   {:>11}   {:+5.1} %   {:>8}   {:>8}\n",
+            "  {:6.1}   {:6.2}   {:>11}   {:>11}   {:+5.1} %   {:>8}   {:>8}{why}\n",
             p.vin_v,
             p.load_a,
             report::eng(p.fsw_predicted_hz, "Hz"),
@@ -44,11 +48,14 @@ fn efficiency(x: f64) -> String {
     }
 }
 
+/// Every point, with why it did not switch or regulate in the last column
+/// (quoted; empty when it did).
 fn sweep_csv(points: &[sim::sweep::SweepPoint]) -> String {
-    let mut s = String::from("vin_v,load_a,fsw_predicted_hz,fsw_simulated_hz,vout_mean_v,vout_ripple_pp_v,efficiency_true,il_peak_a\n");
+    let mut s = String::from("vin_v,load_a,fsw_predicted_hz,fsw_simulated_hz,vout_mean_v,vout_ripple_pp_v,efficiency_true,il_peak_a,note\n");
     for p in points {
+        let note = p.not_switching.as_ref().or(p.not_regulating.as_ref());
         s += &format!(
-            "{},{},{},{},{},{},{},{}\n",
+            "{},{},{},{},{},{},{},{},\"{}\"\n",
             p.vin_v,
             p.load_a,
             p.fsw_predicted_hz,
@@ -56,7 +63,8 @@ fn sweep_csv(points: &[sim::sweep::SweepPoint]) -> String {
             p.vout_mean_v,
             p.vout_ripple_pp_v,
             p.efficiency_true,
-            p.il_peak_a
+            p.il_peak_a,
+            note.map_or(String::new(), |n| n.replace('"', "\"\""))
         );
     }
     s

@@ -1,15 +1,15 @@
 //! `ripplectl tolerance`: the scenario run many times with its parts and
 //! conditions drawn within their spreads; the yield, each figure's spread,
-//! the worst runs, and (with `--out`) histograms and a scenario file per
-//! failing run.
+//! the worst runs, and (with `--out`) histograms, an HTML report and a
+//! scenario file per failing run.
 
 use crate::failure::{bad_input, failed, interrupted, load_scenario, Failure};
 use crate::progress::{self, Progress, INTERRUPTED};
 use ripplectl::sim::report;
-use ripplectl::sim::tolerance::criteria::{Limits, FIGURES};
+use ripplectl::sim::tolerance::criteria::FIGURES;
 use ripplectl::sim::tolerance::summary::ToleranceReport;
 use ripplectl::sim::tolerance::{
-    draw, histogram, run_scenario, run_study, Mode, Outcome, StudyControl, StudyError,
+    draw, histogram, page, run_scenario, run_study, Mode, Outcome, StudyControl, StudyError,
 };
 use ripplectl::sim::Scenario;
 use std::fmt::Write as _;
@@ -69,20 +69,6 @@ pub fn tolerance(o: &Options) -> Result<(), Failure> {
     Ok(())
 }
 
-/// The criterion's limit drawn on a figure's histogram.
-fn limit_of(figure: &str, l: &Limits) -> Option<f64> {
-    match figure {
-        "ripple_pp_v" => Some(l.ripple_max_v),
-        "il_peak_a" => Some(l.il_peak_max_a),
-        "fsw_min_hz" if l.criteria.window => Some(l.f_min_hz),
-        "fsw_max_hz" if l.criteria.window => Some(l.f_max_hz),
-        "undershoot_v" => l.criteria.undershoot_max_v,
-        "overshoot_v" => l.criteria.overshoot_max_v,
-        "recovery_s" => l.criteria.recovery_max_s,
-        _ => None,
-    }
-}
-
 fn output_files(
     base: &Scenario,
     outcome: &Outcome,
@@ -94,14 +80,11 @@ fn output_files(
         ("tolerance.json".to_string(), json.as_bytes().to_vec()),
         ("runs.csv".to_string(), runs_csv(outcome).into_bytes()),
     ];
-    for (name, unit, get) in FIGURES {
-        let values: Vec<f64> =
-            outcome.runs.iter().map(|r| r.figures.as_ref().map_or(f64::NAN, get)).collect();
-        let svg =
-            histogram::svg(name, unit, &values, limit_of(name, &outcome.limits)).map_err(failed)?;
-        if !svg.is_empty() {
-            files.push((format!("histogram-{name}.svg"), svg.into_bytes()));
-        }
+    let histograms = histogram::of_study(outcome).map_err(failed)?;
+    files
+        .push(("report.html".to_string(), page::report(report, &histograms).render().into_bytes()));
+    for (name, svg) in histograms {
+        files.push((format!("histogram-{name}.svg"), svg.into_bytes()));
     }
     for run in outcome.runs.iter().filter(|r| !r.verdict.passed()) {
         let scenario = run_scenario(base, run);

@@ -169,6 +169,22 @@ impl Limits {
         }
     }
 
+    /// The limit a criterion sets on a figure of [`FIGURES`], if any (the
+    /// regulation band has two sides and is left out).
+    pub fn on_figure(&self, figure: &str) -> Option<f64> {
+        let c = &self.criteria;
+        match figure {
+            "ripple_pp_v" => Some(self.ripple_max_v),
+            "il_peak_a" => Some(self.il_peak_max_a),
+            "fsw_min_hz" if c.window => Some(self.f_min_hz),
+            "fsw_max_hz" if c.window => Some(self.f_max_hz),
+            "undershoot_v" => c.undershoot_max_v,
+            "overshoot_v" => c.overshoot_max_v,
+            "recovery_s" => c.recovery_max_s,
+            _ => None,
+        }
+    }
+
     /// Judge a run: its smallest margin and the reasons it failed.
     pub fn judge(&self, f: &Figures) -> Verdict {
         let mut v = Verdict { margin: f64::INFINITY, failures: Vec::new() };

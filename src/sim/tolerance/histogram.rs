@@ -4,6 +4,8 @@
 //! practice), equal width over the values' range; the criterion's limit,
 //! when the figure has one, as a dashed line.
 
+use super::criteria::FIGURES;
+use super::Outcome;
 use plotters::prelude::*;
 
 const BAR: RGBColor = RGBColor(0x2f, 0x5d, 0x8a);
@@ -66,6 +68,21 @@ pub fn svg(title: &str, unit: &str, values: &[f64], limit: Option<f64>) -> Resul
             chart.draw_series(line).map_err(|e| e.to_string())?;
         }
         root.present().map_err(|e| e.to_string())?;
+    }
+    Ok(out)
+}
+
+/// The histogram of every figure of a study that has a value, its
+/// criterion's limit marked: `(figure key, SVG)` in [`FIGURES`] order.
+pub fn of_study(outcome: &Outcome) -> Result<Vec<(&'static str, String)>, String> {
+    let mut out = Vec::new();
+    for (name, unit, get) in FIGURES {
+        let values: Vec<f64> =
+            outcome.runs.iter().map(|r| r.figures.as_ref().map_or(f64::NAN, get)).collect();
+        let svg = svg(name, unit, &values, outcome.limits.on_figure(name))?;
+        if !svg.is_empty() {
+            out.push((name, svg));
+        }
     }
     Ok(out)
 }

@@ -11,6 +11,7 @@
 //! | [`stats`] | Wilson's interval for the yield, quantiles |
 //! | [`histogram`] | SVG histograms |
 //! | [`summary`] | the study's report: text and JSON |
+//! | [`page`] | the study's report as one HTML page |
 //!
 //! Runs go in parallel (rayon); each run's values come from its own index,
 //! so the result is the same on any number of threads.
@@ -18,6 +19,7 @@
 pub mod criteria;
 pub mod draw;
 pub mod histogram;
+pub mod page;
 pub mod params;
 pub mod spread;
 pub mod stats;

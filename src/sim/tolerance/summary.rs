@@ -124,66 +124,98 @@ impl ToleranceReport {
         }
     }
 
+    /// How the values were chosen, the wall time: `1000 random draws,
+    /// seed 1, 1.706 s wall`.
+    pub fn runs_text(&self) -> String {
+        let how = match self.mode {
+            Mode::Random { runs, seed } => format!("{runs} random draws, seed {seed}"),
+            Mode::Corners => format!("all {} corners", self.runs),
+        };
+        format!("{how}, {} wall", eng(self.wall_s, "s"))
+    }
+
+    /// The yield with its interval: `524 of 1000 pass: 52.4 %   (…)`.
+    pub fn yield_text(&self) -> String {
+        let interval = self.yield_interval.map_or(String::new(), |[a, b]| {
+            format!("   ({:.1} % to {:.1} %, {INTERVAL_METHOD})", 100.0 * a, 100.0 * b)
+        });
+        format!(
+            "{} of {} pass: {:.1} %{interval}",
+            self.passed,
+            self.runs,
+            100.0 * self.yield_fraction
+        )
+    }
+
     /// The human-readable report.
     pub fn table(&self) -> String {
         let mut out = String::new();
         let rule = "─".repeat(72);
         let _ = writeln!(out, "{rule}\n  scenario      {}", self.scenario);
-        let how = match self.mode {
-            Mode::Random { runs, seed } => format!("{runs} random draws, seed {seed}"),
-            Mode::Corners => format!("all {} corners", self.runs),
-        };
-        let _ = writeln!(out, "  runs          {how}, {} wall", eng(self.wall_s, "s"));
-        let interval = self.yield_interval.map_or(String::new(), |[a, b]| {
-            format!("   ({:.1} % to {:.1} %, {INTERVAL_METHOD})", 100.0 * a, 100.0 * b)
-        });
-        let _ = writeln!(
-            out,
-            "  yield         {} of {} pass: {:.1} %{interval}",
-            self.passed,
-            self.runs,
-            100.0 * self.yield_fraction
-        );
+        let _ = writeln!(out, "  runs          {}", self.runs_text());
+        let _ = writeln!(out, "  yield         {}", self.yield_text());
         let _ = writeln!(
             out,
             "\n  {:<20}{:>11}{:>11}{:>11}{:>11}{:>11}",
             "figure", "min", "5 %", "median", "95 %", "max"
         );
         for f in &self.figures {
-            let show = |x: f64| match f.unit {
-                "%" => format!("{x:+.2} %"),
-                "" => {
-                    if x.is_finite() {
-                        format!("{:.1} %", 100.0 * x)
-                    } else {
-                        "n/a".into()
-                    }
-                }
-                unit => eng(x, unit),
-            };
-            let missing = match (f.missing, f.name) {
-                (0, _) => String::new(),
-                (n, "recovery_s") => format!("  ({n} never back in band)"),
-                (n, _) => format!("  ({n} without a value)"),
-            };
+            let [min, p5, p50, p95, max] = f.cells();
             let _ = writeln!(
                 out,
-                "  {:<20}{:>11}{:>11}{:>11}{:>11}{:>11}{missing}",
+                "  {:<20}{min:>11}{p5:>11}{p50:>11}{p95:>11}{max:>11}{}",
                 f.name,
-                show(f.min),
-                show(f.p5),
-                show(f.p50),
-                show(f.p95),
-                show(f.max)
+                f.missing_text().map_or(String::new(), |m| format!("  ({m})"))
             );
         }
         let _ = writeln!(out, "\n  worst runs (margin: how far inside the tightest limit)");
         for w in &self.worst {
-            let why =
-                if w.reasons.is_empty() { "passes".to_string() } else { w.reasons.join("; ") };
-            let _ = writeln!(out, "  run {:<6} margin {:+7.1} %   {why}", w.run, 100.0 * w.margin);
+            let _ = writeln!(
+                out,
+                "  run {:<6} margin {:+7.1} %   {}",
+                w.run,
+                100.0 * w.margin,
+                w.verdict_text()
+            );
         }
         let _ = writeln!(out, "{rule}");
         out
+    }
+}
+
+impl WorstEntry {
+    /// `passes`, or why the run failed.
+    pub fn verdict_text(&self) -> String {
+        if self.reasons.is_empty() {
+            "passes".to_string()
+        } else {
+            self.reasons.join("; ")
+        }
+    }
+}
+
+impl FigureStats {
+    /// A value of this figure as the report writes it.
+    pub fn show(&self, x: f64) -> String {
+        match self.unit {
+            "%" => format!("{x:+.2} %"),
+            "" if x.is_finite() => format!("{:.1} %", 100.0 * x),
+            "" => "n/a".into(),
+            unit => eng(x, unit),
+        }
+    }
+
+    /// Minimum, 5th percentile, median, 95th percentile, maximum, written.
+    pub fn cells(&self) -> [String; 5] {
+        [self.min, self.p5, self.p50, self.p95, self.max].map(|x| self.show(x))
+    }
+
+    /// How many runs had no value, and why, if any.
+    pub fn missing_text(&self) -> Option<String> {
+        match (self.missing, self.name) {
+            (0, _) => None,
+            (n, "recovery_s") => Some(format!("{n} never back in band")),
+            (n, _) => Some(format!("{n} without a value")),
+        }
     }
 }
