@@ -6,7 +6,9 @@
 //! (2) act on the gate when its handler ends, which adds the handler's time
 //! to the loop delay: the ESR-dominated hysteretic frequency then follows
 //! the closed form with that delay, and (3) be refused when the handlers
-//! need more than the whole core.
+//! need more than the whole core. A scenario naming a core without
+//! declaring its firmware's costs is charged the counts `tests/target/
+//! run.sh` measured on that core (checked here for RV32).
 
 mod common;
 
@@ -14,7 +16,7 @@ use common::open_window;
 use common::plants::near_ideal;
 use ripplectl::law::{Law, Regulate};
 use ripplectl::sim::build::{self, ScenarioLaw};
-use ripplectl::sim::cpu::{Core, Handler};
+use ripplectl::sim::cpu::{self, Core, Handler, COUNTS_CSV};
 use ripplectl::sim::profile::{InputProfile, Load, LoadChange};
 use ripplectl::sim::scenario::LawParams;
 use ripplectl::sim::{self, Firmware, Peripherals, RunError, Scenario, StackFirmware, Summary};
@@ -163,4 +165,83 @@ fn handlers_needing_more_than_the_core_are_refused() {
         }
         other => panic!("refused as overloaded, not {:?}", other.map(|_| ())),
     }
+}
+
+/// A shipped scenario file with `edits` (from, to) applied to its text.
+fn scenario_file(name: &str, edits: &[(&str, &str)]) -> Scenario {
+    let path = format!("{}/examples/scenarios/{name}", env!("CARGO_MANIFEST_DIR"));
+    let mut text = std::fs::read_to_string(&path).unwrap();
+    for (from, to) in edits {
+        assert!(text.contains(from), "{name} has no {from:?}");
+        text = text.replacen(from, to, 1);
+    }
+    Scenario::from_toml(&text).unwrap()
+}
+
+#[test]
+fn a_scenario_on_rv32_is_charged_the_rv32_counts() {
+    // `core = "rv32"` in a scenario file: each handler of each of the
+    // crate's four stacks costs the count measured on RV32IMC under
+    // qemu-system-riscv32 (the rv32 rows of tests/target/counts.csv, which
+    // CI regenerates), times the core's CPI, plus its entry and exit (the
+    // factors of src/sim/cpu.rs, from memory). Every handler counted on
+    // the Cortex-M4 is counted on RV32 too (before RV32 had counts, each
+    // cost its entry and exit only).
+    let rv32 = ("[mcu]\n", "[mcu]\ncore = \"rv32\"\n");
+    let stacks = [
+        ("hysteretic.toml", "hyst", vec![rv32]),
+        ("on-time.toml", "cot", vec![rv32]),
+        ("hysteretic.toml", "edge", vec![rv32, ("input = \"sampled\"", "input = \"edge\"")]),
+        ("analog-retrofit.toml", "retrofit", vec![rv32]),
+    ];
+    for (file, kind, edits) in stacks {
+        let sc = scenario_file(file, &edits);
+        assert_eq!(sc.mcu.core, Some(Core::Rv32));
+        assert_eq!(cpu::stack_kind(&sc), kind);
+        let (costs, missing) = cpu::scenario_costs(&sc, |_, _| None).unwrap();
+        for h in Handler::ALL {
+            let op = cpu::handler_op(kind, h);
+            match (cpu::count(COUNTS_CSV, "rv32", &op), cpu::count(COUNTS_CSV, "m4", &op)) {
+                (Some(n), Some(_)) => {
+                    assert_eq!(costs.cycles(h), f64::from(n) * 1.3 + 40.0, "{op}");
+                    assert!(!missing.contains(&op), "{op}");
+                }
+                // A handler the stack never runs (a sampled stack's
+                // comparator) is counted on no core: entry and exit only.
+                (None, None) => {
+                    assert_eq!(costs.cycles(h), 40.0, "{op}");
+                    assert!(missing.contains(&op), "{op}");
+                }
+                (rv32, m4) => panic!("{op}: counted on rv32 {rv32:?}, on m4 {m4:?}"),
+            }
+        }
+    }
+}
+
+#[test]
+fn a_run_on_rv32_reports_the_load_of_those_counts() {
+    // The default scenario's stack on a 200 MHz RV32 sampling at 100 kHz
+    // (its 1 MHz would need more than the core): the run's load is each
+    // handler's calls (merged events included) times its cycles over the
+    // core's cycles in the run, as the first test here checks for
+    // declared counts.
+    let sc = scenario_file(
+        "hysteretic.toml",
+        &[
+            ("[mcu]\n", "[mcu]\ncore = \"rv32\"\ncpu_clock_hz = 200e6\n"),
+            ("sample_rate_hz = 1.0e6", "sample_rate_hz = 100e3"),
+        ],
+    );
+    let (costs, _) = cpu::scenario_costs(&sc, |_, _| None).unwrap();
+    let out = sim::run(&sc).unwrap();
+    let usage = out.cpu.expect("a core was named");
+    assert_eq!(usage.core, "RV32");
+    let mut load = 0.0;
+    for (h, u) in Handler::ALL.iter().zip(&usage.handlers) {
+        assert_eq!(u.handler, h.name());
+        assert_eq!(u.seconds_per_call, costs.seconds(*h));
+        load += (u.calls + u.merged) as f64 * costs.cycles(*h) / (200e6 * sc.duration_s);
+    }
+    assert!(usage.handlers[0].calls > 900, "10 ms of conversions at 100 kHz");
+    assert!((usage.load - load).abs() < 1e-12, "{} vs {load}", usage.load);
 }

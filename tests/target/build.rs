@@ -1,5 +1,6 @@
 //! Pick the memory map for the target core: the micro:bit's nRF51 for the
-//! Cortex-M0, the MPS2 AN386 image for the Cortex-M4.
+//! Cortex-M0, the MPS2 AN386 image for the Cortex-M4, QEMU's `virt` board
+//! for RV32.
 use std::{env, fs, path::PathBuf};
 
 fn main() {
@@ -8,6 +9,18 @@ fn main() {
     let memory = if target.starts_with("thumbv6m") {
         // nRF51822: 256 KiB flash at 0, 16 KiB RAM at 0x2000_0000.
         "MEMORY { FLASH : ORIGIN = 0x00000000, LENGTH = 256K\n RAM : ORIGIN = 0x20000000, LENGTH = 16K }\n"
+    } else if target.starts_with("riscv32") {
+        // QEMU virt: DRAM from 0x8000_0000, where `-bios none` starts the
+        // hart. Its first 4 MiB stand for flash (code, constants, the
+        // initial image of .data), the next 4 MiB for RAM (.data, .bss,
+        // the stack at its top), as on a microcontroller.
+        "MEMORY { FLASH : ORIGIN = 0x80000000, LENGTH = 4M\n RAM : ORIGIN = 0x80400000, LENGTH = 4M }\n\
+         REGION_ALIAS(\"REGION_TEXT\", FLASH);\n\
+         REGION_ALIAS(\"REGION_RODATA\", FLASH);\n\
+         REGION_ALIAS(\"REGION_DATA\", RAM);\n\
+         REGION_ALIAS(\"REGION_BSS\", RAM);\n\
+         REGION_ALIAS(\"REGION_HEAP\", RAM);\n\
+         REGION_ALIAS(\"REGION_STACK\", RAM);\n"
     } else {
         // MPS2 AN386: SSRAM1 at 0 (code), SSRAM2/3 at 0x2000_0000 (data).
         "MEMORY { FLASH : ORIGIN = 0x00000000, LENGTH = 4M\n RAM : ORIGIN = 0x20000000, LENGTH = 4M }\n"

@@ -1,15 +1,15 @@
 #!/usr/bin/env bash
-# Build ripplectl's firmware stack for Cortex-M0 (thumbv6m, QEMU microbit)
-# and Cortex-M4 (thumbv7em, QEMU mps2-an386), replay the host's bit-exact
-# vectors (fast and slow path), count instructions per call, check every
-# run-time entry point links with panic-never, and measure the size probes.
-# One line per measurement:
-#   vectors core=<m0|m4> match=<true|false> count=<n>
-#   insns core=<m0|m4> op=<name> n=<count>
-#   flash core=<m0|m4> part=<name> bytes=<n>
-#   ram core=<m0|m4> part=<name> bytes=<n>
-#   float_symbols core=<m0|m4> part=<name> n=<count>
-# Writes counts.csv (every insns line of both cores). Exits non-zero on a
+# Build ripplectl's firmware stack for Cortex-M0 (thumbv6m, QEMU microbit),
+# Cortex-M4 (thumbv7em, QEMU mps2-an386) and RV32IMC (riscv32imc, QEMU
+# virt), replay the host's bit-exact vectors (fast and slow path), count
+# instructions per call, check every run-time entry point links with
+# panic-never, and measure the size probes. One line per measurement:
+#   vectors core=<m0|m4|rv32> match=<true|false> count=<n>
+#   insns core=<m0|m4|rv32> op=<name> n=<count>
+#   flash core=<m0|m4|rv32> part=<name> bytes=<n>
+#   ram core=<m0|m4|rv32> part=<name> bytes=<n>
+#   float_symbols core=<m0|m4|rv32> part=<name> n=<count>
+# Writes counts.csv (every insns line of every core). Exits non-zero on a
 # mismatch, a budget overrun or a reachable panic; the README's tables go to
 # stderr either way.
 set -euo pipefail
@@ -21,9 +21,17 @@ tools=$(dirname "$(ls "$(rustc --print sysroot)"/lib/rustlib/*/bin/llvm-size | h
 llvm_size=$tools/llvm-size
 llvm_nm=$tools/llvm-nm
 
-run_qemu() { # machine cpu elf
-    timeout 300 qemu-system-arm -machine "$1" -cpu "$2" -icount shift=0 -nographic \
-        -semihosting-config enable=on,target=native -kernel "$3"
+# Each core's QEMU board (Debian's qemu-system-arm and qemu-system-misc).
+# `-bios none`: the RV32 image starts at the reset address itself.
+declare -A qemu=(
+    [m0]="qemu-system-arm -machine microbit -cpu cortex-m0"
+    [m4]="qemu-system-arm -machine mps2-an386 -cpu cortex-m4"
+    [rv32]="qemu-system-riscv32 -machine virt -bios none"
+)
+run_qemu() { # core elf
+    # shellcheck disable=SC2086 # the board's words
+    timeout 300 ${qemu[$1]} -icount shift=0 -nographic \
+        -semihosting-config enable=on,target=native -kernel "$2"
 }
 
 # Soft-float and double-precision helpers, by symbol name (demangled):
@@ -34,13 +42,15 @@ run_qemu() { # machine cpu elf
 float_re='^(__aeabi_(d|f|c[df]r?cmp|u?i2[df]|u?l2[df])|__(add|sub|mul|div|neg|extend|trunc|fix|float|eq|ne|lt|le|gt|ge|unord|cmp|pow)[a-z0-9]*[sdh]f[a-z0-9]*$|libm::|compiler_builtins::float::|(round|floor|ceil|trunc|sqrt|exp2?|log(2|10)?|pow|sin|cos|tan|fabs|fmod|fmin|fmax|fma)f?$)'
 
 # Flash: the sections the image stores (vector table, code, constants, the
-# initial values of .data). RAM: the static state (.data, .bss, .uninit);
-# the call stack, which cortex-m-rt places at the top of RAM outside any
-# section, is not included.
+# initial values of .data; on RV32 also riscv-rt's `.init.rust` and the
+# unwind tables of its start-up assembly, `.eh_frame`). RAM: the static
+# state (.data, .bss, .uninit); the call stack, which both runtimes place
+# at the top of RAM (riscv-rt as a NOLOAD `.stack` spanning the free RAM),
+# is not included.
 footprint() { # core part elf
     local flash ram floats
     read -r flash ram < <("$llvm_size" -A "$3" | awk '
-        /^\.(vector_table|text|rodata|data) / { f += $2 }
+        /^\.(vector_table|text|init\.rust|rodata|eh_frame|data) / { f += $2 }
         /^\.(data|bss|uninit) / { r += $2 }
         END { print f + 0, r + 0 }')
     floats=$("$llvm_nm" -C -j --defined-only "$3" | sort -u | grep -E "$float_re" || true)
@@ -58,29 +68,35 @@ out=$(mktemp)
 trap 'rm -f "$out"' EXIT
 status=0
 parts="base law_guard estimator supervisor slow_path driver stack"
-for spec in "m0 thumbv6m-none-eabi microbit cortex-m0" "m4 thumbv7em-none-eabihf mps2-an386 cortex-m4"; do
-    read -r core target machine cpu <<<"$spec"
-    cargo build -q --release --features target --target "$target" --bins --example firmware >&2
+cores="m0 m4 rv32"
+# The firmware example wires its interrupts the Cortex-M way (NVIC numbers,
+# SysTick); on RV32 the `stack` probe measures the same `Handlers`.
+for spec in "m0 thumbv6m-none-eabi --example firmware" "m4 thumbv7em-none-eabihf --example firmware" \
+    "rv32 riscv32imc-unknown-none-elf"; do
+    read -r core target example <<<"$spec"
+    # shellcheck disable=SC2086 # `--example firmware` or nothing
+    cargo build -q --release --features target --target "$target" --bins $example >&2
     dir="target/$target/release"
-    run_qemu "$machine" "$cpu" "$dir/vectors" | tee -a "$out" || status=1
-    run_qemu "$machine" "$cpu" "$dir/insns" | tee -a "$out" || status=1
+    run_qemu "$core" "$dir/vectors" | tee -a "$out" || status=1
+    run_qemu "$core" "$dir/insns" | tee -a "$out" || status=1
     for part in $parts; do
         footprint "$core" "$part" "$dir/size_$part" | tee -a "$out"
     done
-    footprint "$core" firmware "$dir/examples/firmware" | tee -a "$out"
+    [ -z "$example" ] || footprint "$core" firmware "$dir/examples/firmware" | tee -a "$out"
 done
 
-grep -q "vectors core=m0 match=true" "$out" || { echo "m0 vectors did not match" >&2; status=1; }
-grep -q "vectors core=m4 match=true" "$out" || { echo "m4 vectors did not match" >&2; status=1; }
+for core in $cores; do
+    grep -q "vectors core=$core match=true" "$out" || { echo "$core vectors did not match" >&2; status=1; }
+done
 
-# Budgets (instructions per call) on the Cortex-M4; the Cortex-M0 gets twice
-# as many. Keys are the `op=` names.
+# Budgets (instructions per call) on the Cortex-M4; the Cortex-M0 and RV32
+# get twice as many. Keys are the `op=` names.
 declare -A budget=([hysteretic_guard]=40 [on_time_guard]=60 [estimator_turn_off]=80 [estimator_turn_on]=80 [estimator_sample]=80 [supervisor]=40)
 while read -r _ core op n; do
     op=${op#op=}; n=${n#n=}; core=${core#core=}
     limit=${budget[$op]:-}
     [ -n "$limit" ] || continue
-    [ "$core" = m0 ] && limit=$((2 * limit))
+    [ "$core" = m4 ] || limit=$((2 * limit))
     if [ "$n" -gt "$limit" ]; then
         echo "budget overrun: core=$core op=$op n=$n > $limit" >&2
         status=1
@@ -99,6 +115,10 @@ declare -A ceiling=(
     [flash/m4/estimator]=5404 [ram/m4/estimator]=190 [flash/m4/supervisor]=9306 [ram/m4/supervisor]=568
     [flash/m4/slow_path]=9606 [ram/m4/slow_path]=911 [flash/m4/driver]=1501 [ram/m4/driver]=53
     [flash/m4/stack]=14587 [ram/m4/stack]=942 [flash/m4/firmware]=14345 [ram/m4/firmware]=920
+    [flash/rv32/base]=601 [ram/rv32/base]=22 [flash/rv32/law_guard]=4939 [ram/rv32/law_guard]=229
+    [flash/rv32/estimator]=5916 [ram/rv32/estimator]=194 [flash/rv32/supervisor]=9207 [ram/rv32/supervisor]=572
+    [flash/rv32/slow_path]=11430 [ram/rv32/slow_path]=916 [flash/rv32/driver]=896 [ram/rv32/driver]=53
+    [flash/rv32/stack]=17889 [ram/rv32/stack]=951
 )
 while read -r kind core part n; do
     core=${core#core=}; part=${part#part=}; n=${n#*=}
@@ -124,7 +144,7 @@ for kind in flash ram; do
     [ "$n" -le "$target" ] || echo "target not met: $kind core=m0 part=stack bytes=$n > $target" >&2
 done
 
-# counts.csv: every count of both cores, for the simulator (see
+# counts.csv: every count of every core, for the simulator (see
 # DEVELOPERS.md for the format).
 {
     echo "core,op,n"
@@ -135,12 +155,12 @@ done
 n_of() { sed -n "s/^insns core=$1 op=$2 n=\([0-9]*\)$/\1/p" "$out"; }
 fig() { sed -n "s/^$1 core=$2 part=$3 [a-z]*=\([0-9]*\)$/\1/p" "$out"; }
 {
-    echo "| call | Cortex-M0 | Cortex-M4 | budget M4 (M0) |"
-    echo "|---|---|---|---|"
+    echo "| call | Cortex-M0 | Cortex-M4 | RV32IMC | budget M4 (M0, RV32) |"
+    echo "|---|---|---|---|---|"
     while IFS='|' read -r op label; do
         limit=${budget[$op]:-}
         b="-"; [ -n "$limit" ] && b="$limit ($((2 * limit)))"
-        echo "| $label | $(n_of m0 "$op") | $(n_of m4 "$op") | $b |"
+        echo "| $label | $(n_of m0 "$op") | $(n_of m4 "$op") | $(n_of rv32 "$op") | $b |"
     done <<'ROWS'
 hysteretic_guard|hysteretic law + guard, per sample
 on_time_guard|on-time law + guard, per sample
@@ -171,10 +191,17 @@ handler_retrofit_comparator|handler: comparator edge, analog retrofit (mean)
 handler_retrofit_comparator_max|handler: comparator edge, analog retrofit (worst seen)
 ROWS
     echo
-    echo "| part | flash M0 | RAM M0 | float routines M0 | flash M4 | RAM M4 | float routines M4 |"
-    echo "|---|---|---|---|---|---|---|"
+    printf '| part |'
+    for core in $cores; do printf ' flash %s | RAM %s | float routines %s |' "${core^^}" "${core^^}" "${core^^}"; done
+    printf '\n|---|'
+    for core in $cores; do printf -- '---|---|---|'; done
+    echo
     for part in $parts firmware; do
-        echo "| $part | $(fig flash m0 "$part") | $(fig ram m0 "$part") | $(fig float_symbols m0 "$part") | $(fig flash m4 "$part") | $(fig ram m4 "$part") | $(fig float_symbols m4 "$part") |"
+        printf '| %s |' "$part"
+        for core in $cores; do
+            for kind in flash ram float_symbols; do printf ' %s |' "$(fig "$kind" "$core" "$part" | grep . || echo -)"; done
+        done
+        echo
     done
 } >&2
 exit $status

@@ -164,6 +164,6 @@ impl Registers {
 /// Stop here, asleep (a probe's state could not be placed).
 pub fn halt() -> ! {
     loop {
-        cortex_m::asm::wfi();
+        crate::arch::wait_for_interrupt();
     }
 }

@@ -11,6 +11,8 @@
 #![no_std]
 
 #[cfg(feature = "target")]
+pub mod arch;
+#[cfg(feature = "target")]
 pub mod board;
 
 use core::hint::black_box;

@@ -7,10 +7,10 @@
 #![no_std]
 #![no_main]
 
-use cortex_m_rt::entry;
 use panic_never as _;
 use ripplectl::stack::{Handlers, Stack};
 use ripplectl::{Gate, Instant, Law};
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{driver, input, output};
 use ripplectl_target::{Rig, COT_PARTS, ON_TIME};
 

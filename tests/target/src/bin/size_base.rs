@@ -5,9 +5,10 @@
 #![no_main]
 
 use panic_halt as _;
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{input, output};
 
-#[cortex_m_rt::entry]
+#[entry]
 fn main() -> ! {
     loop {
         output(input(0));

@@ -6,11 +6,13 @@
 use panic_halt as _;
 use ripplectl::drive::GateDriver;
 use ripplectl::{Command, Gate};
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{driver, event, halt, output, Compare, Pin};
+use ripplectl_target::singleton;
 
-#[cortex_m_rt::entry]
+#[entry]
 fn main() -> ! {
-    let Some(driver) = cortex_m::singleton!(: GateDriver<Pin, Compare> = driver()) else { halt() };
+    let Some(driver) = singleton!(: GateDriver<Pin, Compare> = driver()) else { halt() };
     loop {
         let e = event();
         let gate = Gate::from_bool(e.level);

@@ -7,12 +7,14 @@
 use panic_halt as _;
 use ripplectl::estimate::{Amps, CurrentEstimator};
 use ripplectl::Gate;
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{event, halt, input, output};
+use ripplectl_target::singleton;
 use ripplectl_target::COT_PARTS;
 
-#[cortex_m_rt::entry]
+#[entry]
 fn main() -> ! {
-    let Some(est) = cortex_m::singleton!(: CurrentEstimator = COT_PARTS.estimator) else { halt() };
+    let Some(est) = singleton!(: CurrentEstimator = COT_PARTS.estimator) else { halt() };
     loop {
         let e = event();
         let amps = Amps::from_bits(input(2) as i32);

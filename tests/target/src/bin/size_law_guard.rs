@@ -7,12 +7,14 @@
 use panic_halt as _;
 use ripplectl::law::OnTime;
 use ripplectl::{FrequencyGuard, Law};
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{event, halt, output};
+use ripplectl_target::singleton;
 use ripplectl_target::{COT_PARTS, ON_TIME};
 
-#[cortex_m_rt::entry]
+#[entry]
 fn main() -> ! {
-    let Some(guard) = cortex_m::singleton!(: FrequencyGuard<OnTime> =
+    let Some(guard) = singleton!(: FrequencyGuard<OnTime> =
         FrequencyGuard::new(ON_TIME, COT_PARTS.window))
     else {
         halt()

@@ -8,12 +8,15 @@
 use panic_halt as _;
 use ripplectl::law::OnTime;
 use ripplectl::stack::Stack;
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{event, halt, output};
+use ripplectl_target::singleton;
 use ripplectl_target::{COT_PARTS, FAULT_LOG, ON_TIME};
 
-#[cortex_m_rt::entry]
+#[entry]
 fn main() -> ! {
-    let Some(stack) = cortex_m::singleton!(: Stack<OnTime, FAULT_LOG> = Stack::with_fault_log(ON_TIME, COT_PARTS))
+    let Some(stack) =
+        singleton!(: Stack<OnTime, FAULT_LOG> = Stack::with_fault_log(ON_TIME, COT_PARTS))
     else {
         halt()
     };

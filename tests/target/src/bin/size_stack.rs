@@ -9,12 +9,14 @@
 use panic_halt as _;
 use ripplectl::law::OnTime;
 use ripplectl::stack::{Handlers, Stack};
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{driver, event, halt, output, Compare, Pin};
+use ripplectl_target::singleton;
 use ripplectl_target::{COT_PARTS, FAULT_LOG, ON_TIME};
 
-#[cortex_m_rt::entry]
+#[entry]
 fn main() -> ! {
-    let Some(fw) = cortex_m::singleton!(: Handlers<OnTime, Pin, Compare, FAULT_LOG> =
+    let Some(fw) = singleton!(: Handlers<OnTime, Pin, Compare, FAULT_LOG> =
         Handlers::new(Stack::with_fault_log(ON_TIME, COT_PARTS), driver()))
     else {
         halt()

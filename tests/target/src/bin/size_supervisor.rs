@@ -9,12 +9,14 @@ use panic_halt as _;
 use ripplectl::law::OnTime;
 use ripplectl::supervisor::Supervisor;
 use ripplectl::{FrequencyGuard, Law};
+use ripplectl_target::arch::entry;
 use ripplectl_target::board::{event, halt, output};
+use ripplectl_target::singleton;
 use ripplectl_target::{COT_PARTS, FAULT_LOG, ON_TIME};
 
-#[cortex_m_rt::entry]
+#[entry]
 fn main() -> ! {
-    let Some(sup) = cortex_m::singleton!(: Supervisor<FrequencyGuard<OnTime>, FAULT_LOG> = Supervisor::with_fault_log(
+    let Some(sup) = singleton!(: Supervisor<FrequencyGuard<OnTime>, FAULT_LOG> = Supervisor::with_fault_log(
         FrequencyGuard::new(ON_TIME, COT_PARTS.window),
         COT_PARTS.estimator,
         COT_PARTS.limits,

@@ -21,12 +21,12 @@
 //! its deadline.
 
 use super::{Buck, Handler, Meter};
-use cortex_m_semihosting::hprintln;
 use ripplectl::law::Regulate;
 use ripplectl::stack::Handlers;
 use ripplectl::supervisor::State;
 use ripplectl::{Command, Gate, Instant, Law};
 use ripplectl_target::board::{armed_compare, set_counter, Compare, Pin, Registers};
+use semihosting::println;
 
 type Firmware<L> = Handlers<L, Pin, Compare>;
 
@@ -36,8 +36,9 @@ const WARM_UP: u32 = 6_000;
 const STEPS: u32 = 2_048;
 /// Housekeeping every this many steps (10 kHz).
 const HOUSEKEEPING_STEPS: u32 = 100;
-/// Repetitions per event's count (the SysTick's step over this bounds its
-/// error: 4 instructions on the Cortex-M0, 3 on the M4).
+/// Repetitions per event's count (the counter's step over this bounds its
+/// error: 4 instructions on the Cortex-M0, 3 on the M4; RV32's counter
+/// steps by one instruction).
 const REPS: u32 = 16;
 /// Repetitions for a candidate for the worst case (error below 1/4).
 const REPS_WORST: u32 = 256;
@@ -121,8 +122,8 @@ impl Tallies {
             let Some(&real) = self.tally.get(k) else { continue };
             let t = if k == COMPARE && real.calls == 0 { self.armed } else { real };
             if counted {
-                hprintln!("insns core={} op={}_{} n={}", core, prefix, kind, t.mean());
-                hprintln!("insns core={} op={}_{}_max n={}", core, prefix, kind, t.worst());
+                println!("insns core={} op={}_{} n={}", core, prefix, kind, t.mean());
+                println!("insns core={} op={}_{}_max n={}", core, prefix, kind, t.worst());
             }
         }
     }

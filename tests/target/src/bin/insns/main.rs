@@ -1,9 +1,10 @@
 //! Target side: instructions per fast-path call.
 //!
-//! Under `qemu-system-arm -icount shift=0` every guest instruction advances
-//! virtual time by the same step, and SysTick counts virtual time, so SysTick
-//! ticks are proportional to instructions. The ratio is calibrated against a
-//! loop of known length (two instructions per turn).
+//! Under QEMU's `-icount shift=0` every guest instruction advances virtual
+//! time by the same step; the counter read here ([`counter`]: SysTick on
+//! the Cortex-M cores, `minstret` on RV32) counts it, so its ticks are
+//! proportional to instructions. The ratio is calibrated against a loop of
+//! known length (two instructions per turn).
 //!
 //! Each operation is a handler: a function the compiler may not inline into
 //! the measuring loop, as an interrupt handler's body is (the crate's code is
@@ -20,51 +21,25 @@
 #![no_std]
 #![no_main]
 
+mod counter;
 mod handlers;
 
 use core::hint::black_box;
-use cortex_m::peripheral::{syst::SystClkSource, Peripherals, SYST};
-use cortex_m_rt::entry;
-use cortex_m_semihosting::{debug, hprintln};
+use counter::{known_loop, since, ticks};
 use handlers::{closed_loop, Comparator, Tallies};
-use panic_semihosting as _;
 use ripplectl::estimate::{Amps, CurrentEstimator};
 use ripplectl::law::Regulate;
 use ripplectl::reference::{GuardModel, HystereticModel};
 use ripplectl::stack::{Handlers, Stack, StackParts};
 use ripplectl::{Command, Gate, Instant, Law};
+use ripplectl_target::arch::{entry, CORE};
 use ripplectl_target::board::driver;
 use ripplectl_target::{Rig, COT_PARTS, EDGE_PARTS, HYSTERETIC, ON_TIME, PARTS, RETROFIT};
+use semihosting::{println, process};
 
 const CALLS: u32 = 2_048;
 
-fn core_name() -> &'static str {
-    if cfg!(target_abi = "eabihf") {
-        "m4"
-    } else {
-        "m0"
-    }
-}
-
-fn ticks() -> u32 {
-    SYST::get_current()
-}
-
-/// SysTick counts down from 2²⁴ − 1.
-fn since(start: u32) -> u32 {
-    start.wrapping_sub(ticks()) & 0x00ff_ffff
-}
-
-/// Exactly `2·n` instructions: `subs` and `bne` per turn (`n` ≥ 1).
-#[inline(never)]
-fn known_loop(n: u32) {
-    // SAFETY: a register-only countdown loop.
-    unsafe {
-        core::arch::asm!("2:", "subs {0}, {0}, #1", "bne 2b", inout(reg) n => _, options(nomem, nostack));
-    }
-}
-
-/// Instructions per SysTick tick, as a 16.16 fixed-point ratio.
+/// Instructions per counter tick, as a 16.16 fixed-point ratio.
 fn calibrate() -> u64 {
     let (short, long) = (1_000u32, 201_000u32);
     let s = ticks();
@@ -186,9 +161,9 @@ fn guard_f64(model: &mut GuardModel, demand: u32, now: Instant) -> Command {
     Command::hold(gate_of(model.step(demand != 0, f64::from(now.0) * TICK_S)))
 }
 
-/// One measurement line: `insns core=<m0|m4> op=<op> n=<n>`.
+/// One measurement line: `insns core=<m0|m4|rv32> op=<op> n=<n>`.
 fn print(op: &str, n: u32) {
-    hprintln!("insns core={} op={} n={}", core_name(), op, n);
+    println!("insns core={} op={} n={}", CORE, op, n);
 }
 
 struct Meter {
@@ -196,7 +171,7 @@ struct Meter {
 }
 
 impl Meter {
-    /// Mean instructions per call from the SysTick ticks of `CALLS` calls,
+    /// Mean instructions per call from the counter's ticks of `CALLS` calls,
     /// rounded.
     fn per_call(&self, ticks: u32) -> u32 {
         ((self.per_call_q16(ticks, CALLS) + (1 << 15)) >> 16) as u32
@@ -238,8 +213,8 @@ impl Meter {
     }
 
     /// [`count_from`](Self::count_from) over `n` repetitions, 16.16
-    /// instructions (the SysTick's step, 40–63 instructions under QEMU,
-    /// over `n` bounds the error).
+    /// instructions (the counter's step over `n` bounds the error: SysTick
+    /// steps by 40–63 instructions under QEMU, RV32's `minstret` by one).
     fn count_from_q16<T: Clone>(
         &self,
         n: u32,
@@ -358,9 +333,9 @@ fn handler_counts<L: Law + Regulate + Clone>(
     let mut firmware = Handlers::new(Stack::new(law, parts), driver());
     let mut tallies = Tallies::of(kinds);
     let regulating = closed_loop(meter, &mut firmware, comparator, &mut tallies);
-    tallies.print(core_name(), prefix);
+    tallies.print(CORE, prefix);
     if !regulating {
-        hprintln!("{}: not regulating while counted", prefix);
+        println!("{}: not regulating while counted", prefix);
     }
     regulating
 }
@@ -385,12 +360,7 @@ fn whole_handlers(meter: &Meter) -> bool {
 
 #[entry]
 fn main() -> ! {
-    let mut p = Peripherals::take().unwrap();
-    p.SYST.set_clock_source(SystClkSource::Core);
-    p.SYST.set_reload(0x00ff_ffff);
-    p.SYST.clear_current();
-    p.SYST.enable_counter();
-
+    counter::start();
     let meter = Meter { per_tick: calibrate() };
     let mut rig = Rig::demo();
     let at = |i: u32, step: u32, base: u32| Instant(base.wrapping_add(i.wrapping_mul(step)));
@@ -516,8 +486,5 @@ fn main() -> ! {
     meter.report("guard_f64", &mut guard, demands, guard_f64);
 
     let regulating = whole_handlers(&meter);
-    debug::exit(if regulating { debug::EXIT_SUCCESS } else { debug::EXIT_FAILURE });
-    loop {
-        cortex_m::asm::wfi();
-    }
+    process::exit(if regulating { 0 } else { 1 })
 }
