@@ -75,7 +75,7 @@
 
 /**
  * `law.kind`: the board's analog comparator passed through
- * (`active_high`; needs `RIPPLECTL_SENSING_EDGE`).
+ * (`active_high`; requires `RIPPLECTL_SENSING_EDGE`).
  */
 #define RIPPLECTL_LAW_COMPARATOR 2
 

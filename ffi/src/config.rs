@@ -26,7 +26,7 @@ pub const RIPPLECTL_LAW_HYSTERETIC: u8 = 0;
 /// feed-forward, trim and emulated ripple).
 pub const RIPPLECTL_LAW_ON_TIME: u8 = 1;
 /// `law.kind`: the board's analog comparator passed through
-/// (`active_high`; needs `RIPPLECTL_SENSING_EDGE`).
+/// (`active_high`; requires `RIPPLECTL_SENSING_EDGE`).
 pub const RIPPLECTL_LAW_COMPARATOR: u8 = 2;
 
 /// `sensing`: every ADC conversion's output reading goes to the law.
@@ -420,6 +420,12 @@ impl LawSettings {
             }
             RIPPLECTL_LAW_ON_TIME => Ok(AnyLaw::OnTime(self.on_time(stack, slow)?)),
             RIPPLECTL_LAW_COMPARATOR => {
+                // The comparator's edges are the law's only input.
+                if stack.sensing != Sensing::Edge {
+                    let edge = f32::from(RIPPLECTL_SENSING_EDGE);
+                    let range = ErrorKind::OutOfRange { min: edge, max: edge };
+                    return Err(ConfigError::new("sensing", range));
+                }
                 let code = adc.to_code(setpoint_v).map_err(|e| e.renamed("setpoint_v"))?.raw;
                 let law = ComparatorPassThrough::new(self.active_high).with_setpoint(code);
                 Ok(AnyLaw::Comparator(law))
@@ -584,6 +590,11 @@ pub(crate) mod tests {
         let mut c = demo();
         c.law.kind = 3;
         assert_eq!(name(c), "law.kind");
+        let mut c = demo();
+        c.law.kind = RIPPLECTL_LAW_COMPARATOR;
+        assert_eq!(name(c), "sensing");
+        c.sensing = RIPPLECTL_SENSING_EDGE;
+        assert!(c.check().is_ok());
         let mut c = demo();
         c.window.f_max_hz = 10_000.0;
         assert_eq!(name(c), "f_min_hz");
