@@ -8,7 +8,9 @@
 //! | `facts` | (std) the board and MCU facts a design starts from, checked, each refusal on its option |
 //! | `divider` | (std) resistor dividers from the E24 series |
 //! | `budget` | (std) what the firmware's handlers cost on the named core |
-//! | `laws` | (std) the loops `design` can propose, each fitted to the board and core or passed over with a reason |
+//! | `laws` | (std) what a loop's plan holds, and what the loops share |
+//! | `hysteretic_plan` | (std) the hysteretic law on comparator edges: its band, or why it does not fit |
+//! | `on_time_plan` | (std) the on-time law on edges or samples: frequency, samples, emulated ripple, or why not |
 //! | `protect` | (std) dividers, housekeeping, window, protections and soft-start |
 //! | `proposal` | (std) the whole proposal, each choice with its reason |
 //! | `range` | (std) the predictions over the input × load range |
@@ -34,7 +36,11 @@ pub mod divider;
 #[cfg(feature = "std")]
 pub mod facts;
 #[cfg(feature = "std")]
+pub mod hysteretic_plan;
+#[cfg(feature = "std")]
 pub mod laws;
+#[cfg(feature = "std")]
+pub mod on_time_plan;
 #[cfg(feature = "std")]
 pub mod proposal;
 #[cfg(feature = "std")]
