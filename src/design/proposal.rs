@@ -182,7 +182,7 @@ fn assemble(ctx: &Context, plan: LawPlan, passed_over: Vec<(Scheme, String)>) ->
 fn law_reason(plan: &LawPlan, passed_over: &[(Scheme, String)]) -> String {
     let first = match plan.scheme {
         Scheme::HystereticEdge => {
-            "the cheapest loop per cycle, and no ripple condition beyond ESR·C above the delay"
+            "the cheapest loop per cycle, and no ripple condition beyond ESR·C above twice its loop delay"
         }
         Scheme::OnTimeEdge => {
             "a pulse the timer ends in hardware, so the handler's time does not stretch it"

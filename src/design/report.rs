@@ -46,7 +46,7 @@ pub fn text(p: &Proposal, simulated: &[Simulated]) -> String {
         simulation(&mut s, simulated);
     }
     let _ = writeln!(s, "{rule}");
-    s
+    s.lines().map(|l| format!("{}\n", l.trim_end())).collect()
 }
 
 fn facts(s: &mut String, p: &Proposal) {
