@@ -22,7 +22,7 @@
 //! | [`error`] | configuration errors: the parameter and what is wrong |
 //! | [`units`] | the slow path's fixed-point quantities |
 //! | [`math`] | `const fn` functions for configuration; fixed-point `log₂`/`2^x` |
-//! | [`design`] | closed-form predictions: frequency, ripple, CCM/DCM, peak current |
+//! | [`design`] | closed-form predictions: frequency, ripple, CCM/DCM, peak current; with `std`, a first configuration from a board's facts |
 //! | `sim` | (feature `std`) switched plant, MCU model, scenarios, reports, plots |
 //!
 //! ## Fast path and slow path

@@ -82,10 +82,19 @@ impl EmulatedRipple {
 
     /// Ticks until the falling ramp closes a margin of `margin_q16`
     /// (2⁻¹⁶ codes), if within the horizon (fast path: one multiply).
+    ///
+    /// The margin is taken in 2⁻⁴ codes, up to 256 codes (`u32`, below
+    /// 2¹²); a larger margin predicts nothing (the next sample decides),
+    /// never a crossing earlier than the ramp would reach: a margin held at
+    /// a cap would predict the turn-on too soon whenever the ramp falls by
+    /// more than the cap within one sampling period (a slow sampling rate).
     #[inline(always)]
     pub(super) fn crossing_in(&self, margin_q16: u32) -> Option<u32> {
-        let margin_q8 = (margin_q16 >> 8).min(4_095);
-        let ticks = (margin_q8 * self.ticks_per_code) >> 16;
+        let margin_q4 = margin_q16 >> 12;
+        if margin_q4 > MAX_MARGIN_Q4 {
+            return None;
+        }
+        let ticks = (margin_q4 * self.ticks_per_code) >> 12;
         (self.ticks_per_code != 0 && ticks < self.horizon).then_some(ticks)
     }
 
@@ -102,8 +111,11 @@ impl EmulatedRipple {
     }
 }
 
+/// Largest margin the crossing predictor takes, 2⁻⁴ codes (256 codes).
+const MAX_MARGIN_Q4: u32 = 4_095;
+
 /// `2²⁴ / down`: ticks per code in 2⁻⁸ ticks, capped at 2¹⁹ so a margin
-/// below 16 codes (in 2⁻⁸ codes) times it fits 31 bits; 0 for a flat ramp.
+/// below 256 codes (in 2⁻⁴ codes) times it fits 31 bits; 0 for a flat ramp.
 const fn ticks_per_code(down: u32) -> u32 {
     if down == 0 {
         return 0;
@@ -119,4 +131,38 @@ const fn ticks_per_code(down: u32) -> u32 {
 #[inline(always)]
 fn ramp(rate: u32, ticks: u32) -> u32 {
     rate.saturating_mul(ticks.min(u32::from(u16::MAX)))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A 12-bit, 3.3 V channel at the pin (divider ratio 1).
+    fn adc() -> AdcChannel {
+        AdcChannel::new(12, 3.3, 1.0, 0.0).unwrap()
+    }
+
+    #[test]
+    fn a_margin_is_crossed_when_the_ramp_has_fallen_by_it() {
+        // 100 codes over a 1 000-tick on-time at duty 1/2: the ramp falls
+        // 0.1 code a tick, so a margin of 40 codes closes in 400 ticks,
+        // within a 1 000-tick sampling period.
+        let amplitude_v = 100.0 * 3.3 / 4096.0;
+        let r = EmulatedRipple::new(amplitude_v as f32, 1_000, 0.5, &adc(), 1_000).unwrap();
+        let ticks = r.crossing_in(40 << 16).unwrap();
+        assert!(ticks.abs_diff(400) <= 2, "{ticks}");
+        // The ramp's own fall over those ticks covers the margin.
+        let fallen = f64::from(r.fall(ticks)) / 65_536.0;
+        assert!((fallen - 40.0).abs() < 0.3, "{fallen}");
+    }
+
+    #[test]
+    fn beyond_the_predictor_s_range_nothing_is_predicted() {
+        // 300 codes would take 3 000 ticks: past the horizon, and past the
+        // 256 codes the predictor takes, so no early turn-on.
+        let amplitude_v = 100.0 * 3.3 / 4096.0;
+        let r = EmulatedRipple::new(amplitude_v as f32, 1_000, 0.5, &adc(), 100_000).unwrap();
+        assert_eq!(r.crossing_in(300 << 16), None);
+        assert!(r.crossing_in(200 << 16).is_some_and(|t| t.abs_diff(2_000) <= 4));
+    }
 }

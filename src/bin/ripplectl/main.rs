@@ -2,6 +2,7 @@
 //! converter before flashing it.
 
 mod compare;
+mod design;
 mod failure;
 mod progress;
 mod simulate;
@@ -99,12 +100,84 @@ enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Propose a first configuration from a few board facts: law and its
+    /// parameters, input and rates that fit the core, window, protections,
+    /// soft-start, with the reason for each and the predicted frequency,
+    /// ripple and currents over the input × load range.
+    Design {
+        /// Input range, V, as MIN:MAX (e.g. 18:32).
+        #[arg(long, value_name = "MIN:MAX", value_parser = design::input_range)]
+        vin: (f64, f64),
+        /// Output voltage, V.
+        #[arg(long)]
+        vout: f64,
+        /// Full-load output current, A.
+        #[arg(long)]
+        iout: f64,
+        /// Inductance, H (e.g. 47e-6).
+        #[arg(long = "l", value_name = "H")]
+        l: f64,
+        /// Output capacitance left at the output voltage, F (e.g. 220e-6).
+        #[arg(long = "c", value_name = "F")]
+        c: f64,
+        /// Output capacitor ESR, Ω.
+        #[arg(long, value_name = "OHM")]
+        esr: f64,
+        /// Core: cortex-m0, cortex-m0+, cortex-m4 or rv32 (default: the
+        /// demo MCU's cortex-m4).
+        #[arg(long, value_parser = design::core)]
+        core: Option<ripplectl::sim::cpu::Core>,
+        /// Core clock, Hz, which the timer counts (default 170e6).
+        #[arg(long, value_name = "HZ", value_parser = design::clock)]
+        clock: Option<u32>,
+        /// ADC resolution, bits (default 12).
+        #[arg(long)]
+        adc_bits: Option<u8>,
+        /// ADC reference, V (default 3.3).
+        #[arg(long, value_name = "V")]
+        adc_ref: Option<f64>,
+        /// Highest ADC sample rate, Hz (default 1e6).
+        #[arg(long, value_name = "HZ")]
+        sample_rate: Option<f64>,
+        /// auto (the first loop that fits), hysteretic or on-time.
+        #[arg(long, default_value = "auto", value_parser = design::law)]
+        law: ripplectl::design::facts::LawRequest,
+        /// Write the scenario (scenario.toml) and the firmware's const
+        /// configuration (config.rs) into this directory.
+        #[arg(long)]
+        out: Option<PathBuf>,
+    },
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
     progress::catch_interrupt();
     let result = match &cli.command {
+        Command::Design {
+            vin,
+            vout,
+            iout,
+            l,
+            c,
+            esr,
+            core,
+            clock,
+            adc_bits,
+            adc_ref,
+            sample_rate,
+            law,
+            out,
+        } => {
+            let mcu = design::McuOptions {
+                core: *core,
+                clock_hz: *clock,
+                adc_bits: *adc_bits,
+                adc_reference_v: *adc_ref,
+                sample_rate_hz: *sample_rate,
+            };
+            let facts = design::facts(*vin, *vout, *iout, *l, *c, *esr, mcu, *law);
+            design::design(&facts, out.as_deref())
+        }
         Command::Simulate { scenario, out, json } => {
             simulate::simulate(scenario.as_deref(), out.as_deref(), *json)
         }

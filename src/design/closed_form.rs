@@ -115,14 +115,52 @@ pub fn hysteretic_frequency_dcm(
     band_v: f64,
     delay_s: f64,
 ) -> f64 {
+    op.iout_a / hysteretic_dcm_pulse(op, filter, band_v, delay_s).charge_c
+}
+
+/// One DCM pulse: its peak current and the charge it delivers.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct DcmPulse {
+    /// Peak inductor current, A.
+    pub peak_a: f64,
+    /// Charge delivered to the output, C.
+    pub charge_c: f64,
+}
+
+/// The hysteretic law's DCM pulse (derived at
+/// [`hysteretic_frequency_dcm`]).
+pub fn hysteretic_dcm_pulse(
+    op: &OperatingPoint,
+    filter: &OutputFilter,
+    band_v: f64,
+    delay_s: f64,
+) -> DcmPulse {
     let s1 = (op.vin_v - op.vout_v) / filter.l_h;
-    let s2 = (op.vout_v + op.vf_v) / filter.l_h;
     let a = s1 / (2.0 * filter.c_f);
     let b = filter.esr_ohm * s1 - op.iout_a / filter.c_f;
     let t1 = (-b + libm::sqrt(b * b + 4.0 * a * band_v)) / (2.0 * a);
-    let i_pk = s1 * (t1 + delay_s);
-    let charge = i_pk * i_pk / 2.0 * (1.0 / s1 + 1.0 / s2);
-    op.iout_a / charge
+    pulse_of_peak(op, filter.l_h, s1 * (t1 + delay_s))
+}
+
+/// A DCM pulse that rises from zero to `peak_a` and falls back to zero:
+/// `Q = i_pk²/2·(1/s₁ + 1/s₂)` with `s₁ = (V_in − V_out)/L`,
+/// `s₂ = (V_out + V_f)/L` (the triangle's area).
+pub fn pulse_of_peak(op: &OperatingPoint, l_h: f64, peak_a: f64) -> DcmPulse {
+    let s1 = (op.vin_v - op.vout_v) / l_h;
+    let s2 = (op.vout_v + op.vf_v) / l_h;
+    DcmPulse { peak_a, charge_c: peak_a * peak_a / 2.0 * (1.0 / s1 + 1.0 / s2) }
+}
+
+/// Constant on-time law's DCM frequency, Hz.
+///
+/// Derived here, as for the hysteretic DCM pulse: each pulse starts from
+/// zero current and lasts `T_on`, so it peaks at `s₁·T_on` and carries
+/// [`pulse_of_peak`]'s charge; pulses come as often as the load draws it,
+/// `f = I_out / Q`. In CCM the law switches at [`on_time_frequency`]; it
+/// is in DCM when `I_out` is below half of `s₁·T_on`.
+pub fn on_time_frequency_dcm(op: &OperatingPoint, l_h: f64, on_time_s: f64) -> f64 {
+    let s1 = (op.vin_v - op.vout_v) / l_h;
+    op.iout_a / pulse_of_peak(op, l_h, s1 * on_time_s).charge_c
 }
 
 /// Where the converter runs.

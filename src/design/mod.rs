@@ -1,0 +1,51 @@
+//! Design: closed-form predictions, and (with `std`) a first configuration
+//! proposed from a few board facts.
+//!
+//! | module | what |
+//! |---|---|
+//! | [`closed_form`] | CCM/DCM relations, ripple, the laws' frequencies (re-exported here) |
+//! | [`delayed`] | the hysteretic loop's steady cycle with a loop delay and capacitor ripple |
+//! | `facts` | (std) the board and MCU facts a design starts from, checked, each refusal on its option |
+//! | `divider` | (std) resistor dividers from the E24 series |
+//! | `budget` | (std) what the firmware's handlers cost on the named core |
+//! | `laws` | (std) what a loop's plan holds, and what the loops share |
+//! | `hysteretic_plan` | (std) the hysteretic law on comparator edges: its band, or why it does not fit |
+//! | `on_time_plan` | (std) the on-time law on edges or samples: frequency, samples, emulated ripple, or why not |
+//! | `protect` | (std) dividers, housekeeping, window, protections and soft-start |
+//! | `proposal` | (std) the whole proposal, each choice with its reason |
+//! | `range` | (std) the predictions over the input × load range |
+//! | `report` | (std) the proposal as printed |
+//! | `const_block` | (std) the proposal as a firmware's `const` configuration (Rust source) |
+//!
+//! The flow (with `std`): board facts → `proposal::propose` → checked in
+//! the simulator over the input × load range (`sim::design_check`) → a
+//! scenario (`sim::design_scenario`) and a `const` block → `simulate`.
+
+pub mod closed_form;
+pub mod delayed;
+
+pub use closed_form::*;
+pub use delayed::{ccm_output_ripple, hysteretic_cycle_ccm, HystereticCycle, NoCycle};
+
+#[cfg(feature = "std")]
+pub mod budget;
+#[cfg(feature = "std")]
+pub mod const_block;
+#[cfg(feature = "std")]
+pub mod divider;
+#[cfg(feature = "std")]
+pub mod facts;
+#[cfg(feature = "std")]
+pub mod hysteretic_plan;
+#[cfg(feature = "std")]
+pub mod laws;
+#[cfg(feature = "std")]
+pub mod on_time_plan;
+#[cfg(feature = "std")]
+pub mod proposal;
+#[cfg(feature = "std")]
+pub mod protect;
+#[cfg(feature = "std")]
+pub mod range;
+#[cfg(feature = "std")]
+pub mod report;
