@@ -158,6 +158,17 @@ fn lower_or_set(m: &mut f64, x: f64) {
     }
 }
 
+/// A start or end of a steady window.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct WindowBoundary {
+    /// Its time, s.
+    pub t_s: f64,
+    /// The window's index in [`Recorder::windows`].
+    pub window: usize,
+    /// The window's start (else its end).
+    pub is_start: bool,
+}
+
 /// Collects a run.
 #[derive(Clone, Debug)]
 pub struct Recorder {
@@ -239,15 +250,21 @@ impl Recorder {
         self
     }
 
-    /// Window boundaries, in time order, as `(time, window index, is_start)`.
-    pub fn window_edges(&self) -> Vec<(f64, usize, bool)> {
+    /// Window boundaries, in time order (an end before a start at the same
+    /// time).
+    pub fn window_edges(&self) -> Vec<WindowBoundary> {
         let mut e: Vec<_> = self
             .windows
             .iter()
             .enumerate()
-            .flat_map(|(k, w)| [(w.from_s, k, true), (w.to_s, k, false)])
+            .flat_map(|(k, w)| {
+                [
+                    WindowBoundary { t_s: w.from_s, window: k, is_start: true },
+                    WindowBoundary { t_s: w.to_s, window: k, is_start: false },
+                ]
+            })
             .collect();
-        e.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.2.cmp(&b.2)));
+        e.sort_by(|a, b| a.t_s.total_cmp(&b.t_s).then(a.is_start.cmp(&b.is_start)));
         e
     }
 
