@@ -3,7 +3,7 @@
 
 use super::conduction::Conduction;
 use super::Plant;
-use crate::sim::linear::{Affine, Trajectory, Vec2};
+use crate::sim::linear::{Affine, Followed, Trajectory, Vec2};
 
 /// A level crossing of the output voltage to stop at (comparator input).
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -100,9 +100,11 @@ impl Plant {
 
 /// First `t ∈ (0, dt]` where `level` changes sign along the segment: the
 /// first sign change on eight equal steps, then safeguarded Newton
-/// iteration on the closed form. The result lies just past the crossing
-/// (within a few 1e-16 s), so the caller lands on its far side.
+/// iteration on the closed form (the level followed along the trajectory:
+/// one flow per step). The result lies just past the crossing (within a
+/// few 1e-16 s), so the caller lands on its far side.
 fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
+    let path = seg.trajectory.follow(level);
     let value = |x: &Vec2, t: f64| level.value(x, seg.tau0 + t);
     let f_start = value(seg.start, 0.0);
     let crossed = |fv: f64| fv == 0.0 || fv.signum() != f_start.signum();
@@ -113,7 +115,7 @@ fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
         let fv = match k {
             4 => value(seg.mid, t),
             8 => value(seg.end, t),
-            _ => value(&seg.trajectory.at(t), t),
+            _ => path.value(t),
         };
         if crossed(fv) {
             bracket = Some((t, fv));
@@ -125,9 +127,7 @@ fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
     // Regula falsi for a start, then Newton kept inside the bracket.
     let mut t = lo + (hi - lo) * f_lo / (f_lo - f_hi);
     for _ in 0..60 {
-        let x = seg.trajectory.at(t);
-        let dx = seg.trajectory.rate(&x, t);
-        let (fv, dfv) = (value(&x, t), level.rate(&dx));
+        let (fv, dfv) = path.value_and_rate(t);
         if crossed(fv) {
             hi = t;
         } else {
@@ -135,11 +135,7 @@ fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
         }
         let step = fv / dfv;
         if hi - lo < 1e-15 || step.abs() < 1e-16 {
-            return Some(if crossed(fv) {
-                t
-            } else {
-                step_across(seg, &value, &crossed, t, step, hi)
-            });
+            return Some(if crossed(fv) { t } else { step_across(&path, &crossed, t, step, hi) });
         }
         let newton = t - step;
         t = if dfv != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
@@ -150,8 +146,7 @@ fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
 /// From `t` just short of a root `step` away, the first point past it:
 /// probes at growing distances, never beyond `hi` (known to be past).
 fn step_across(
-    seg: &Segment<'_>,
-    value: &impl Fn(&Vec2, f64) -> f64,
+    path: &Followed<'_>,
     crossed: &impl Fn(f64) -> bool,
     t: f64,
     step: f64,
@@ -159,7 +154,7 @@ fn step_across(
 ) -> f64 {
     let mut probe = step.abs().max(1e-16) * 2.0;
     while t + probe < hi {
-        if crossed(value(&seg.trajectory.at(t + probe), t + probe)) {
+        if crossed(path.value(t + probe)) {
             return t + probe;
         }
         probe *= 4.0;
