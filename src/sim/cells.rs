@@ -42,30 +42,101 @@ impl CellGrid {
 
     /// Add the straight segment from `(ta, va)` to `(tb, vb)` (`ta ≤ tb`);
     /// the parts outside the grid are dropped.
+    ///
+    /// Each cell it covers gains the segment's average over the part
+    /// inside it times that part's share of the cell: the first and last
+    /// cell may be covered in part (the trapezoid over the part, divided by
+    /// the width), the cells between in whole (the value at the centre, a
+    /// loop without a division).
     pub fn add_segment(&mut self, (ta, va): (f64, f64), (tb, vb): (f64, f64)) {
         let end = self.from_s + self.span_s();
         let (lo, hi) = (ta.max(self.from_s), tb.min(end));
         if hi <= lo || (va == 0.0 && vb == 0.0) {
             return;
         }
-        let slope = (vb - va) / (tb - ta);
-        let value = |t: f64| va + slope * (t - ta);
-        let first = ((lo - self.from_s) / self.dt_s).floor() as usize;
-        let mut k = first.min(self.cells.len() - 1);
-        let mut t = lo;
-        while t < hi && k < self.cells.len() {
-            let cell_end = (self.from_s + (k + 1) as f64 * self.dt_s).min(hi);
-            if cell_end > t {
-                self.cells[k] += 0.5 * (value(t) + value(cell_end)) * (cell_end - t) / self.dt_s;
+        let line = Line { ta, va, slope: (vb - va) / (tb - ta) };
+        let n = self.cells.len();
+        let k = self.cell_of(lo);
+        let first_end = self.edge(k + 1).min(hi);
+        self.add_piece(&line, k, lo, first_end);
+        let (mut t, mut k) = (first_end, k + 1);
+        let whole_end = self.whole_cells_end(k, hi);
+        if whole_end > k {
+            // A line's average over a whole cell is its value at the
+            // cell's centre.
+            let (from, dt) = (self.from_s, self.dt_s);
+            for (j, cell) in (k..).zip(&mut self.cells[k..whole_end]) {
+                *cell += line.value(from + (j as i64 as f64 + 0.5) * dt);
             }
-            t = cell_end;
-            k += 1;
+            (t, k) = (self.edge(whole_end), whole_end);
+        }
+        if t < hi && k < n {
+            self.add_piece(&line, k, t, self.edge(k + 1).min(hi));
         }
     }
 
+    /// The cell holding `t` (the first or last for a time outside the
+    /// grid): `⌊(t − from)/Δt⌋` through i64, one instruction where `floor`
+    /// is a library call.
+    fn cell_of(&self, t: f64) -> usize {
+        let last = self.cells.len() as i64 - 1;
+        (((t - self.from_s) / self.dt_s) as i64).clamp(0, last) as usize
+    }
+
+    /// Start of cell `k` (end of cell `k − 1`), s.
+    fn edge(&self, k: usize) -> f64 {
+        edge(self.from_s, self.dt_s, k)
+    }
+
+    /// Add the segment's part over `[t0, t1]` (inside cell `k`).
+    fn add_piece(&mut self, line: &Line, k: usize, t0: f64, t1: f64) {
+        if t1 > t0 {
+            self.cells[k] += line.trapezoid(t0, t1) / self.dt_s;
+        }
+    }
+
+    /// The first cell from `k` on that a segment ending at `hi` does not
+    /// cover whole (or the number of cells): cells `k..` it returns end
+    /// before `hi`.
+    fn whole_cells_end(&self, k: usize, hi: f64) -> usize {
+        let n = self.cells.len();
+        let partial = |j: usize| j >= n || self.edge(j + 1) >= hi;
+        let mut j = self.cell_of(hi).saturating_sub(1).clamp(k, n);
+        while j > k && partial(j - 1) {
+            j -= 1;
+        }
+        while !partial(j) {
+            j += 1;
+        }
+        j
+    }
     /// Mean of the cells.
     pub fn mean(&self) -> f64 {
         self.cells.iter().sum::<f64>() / self.cells.len().max(1) as f64
+    }
+}
+
+/// Start of cell `k` of a grid from `from_s` in cells of `dt_s`, s.
+fn edge(from_s: f64, dt_s: f64, k: usize) -> f64 {
+    // Through i64: the same value for any grid, and one instruction.
+    from_s + k as i64 as f64 * dt_s
+}
+
+/// A straight segment through `(ta, va)`.
+struct Line {
+    ta: f64,
+    va: f64,
+    slope: f64,
+}
+
+impl Line {
+    fn value(&self, t: f64) -> f64 {
+        self.va + self.slope * (t - self.ta)
+    }
+
+    /// `∫` of the line over `[t0, t1]` (trapezoid: exact for a line).
+    fn trapezoid(&self, t0: f64, t1: f64) -> f64 {
+        0.5 * (self.value(t0) + self.value(t1)) * (t1 - t0)
     }
 }
 

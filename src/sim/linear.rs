@@ -220,6 +220,18 @@ impl Solution {
         }
     }
 
+    /// The time derivative of the flow `f` over `t`: for the coupled form
+    /// `d/dt e^{A·t} = A·e^{A·t}` with `A = s·I + N`, `N² = Δ·I`, gives
+    /// `P' = s·P + Δ·Q`, `Q' = P + s·Q`; for the held form
+    /// `(e^{−gt})' = −g·e^{−gt}`, `φ₁' = e^{−gt}`, `φ₂' = φ₁`.
+    #[inline]
+    fn flow_rate(&self, f: &Flow) -> Flow {
+        match &self.form {
+            Form::Coupled(c) => Flow { p: c.s * f.p + c.delta * f.q, q: f.p + c.s * f.q, r: 0.0 },
+            Form::Held { g } => Flow { p: -g * f.p, q: f.p, r: f.q },
+        }
+    }
+
     /// The flow over `2h` from the flow over `h`.
     #[inline]
     fn doubled(&self, f: &Flow, h: f64) -> Flow {
@@ -380,5 +392,60 @@ impl Trajectory<'_> {
     /// `x'` at state `x`, `t` after the start.
     pub fn rate(&self, x: &Vec2, t: f64) -> Vec2 {
         self.solution.system.rate(x, self.tau0 + t)
+    }
+
+    /// An affine function of the state and time followed along the
+    /// trajectory, as a function of the time since its start.
+    pub fn follow(&self, f: &Affine) -> Followed<'_> {
+        let (x0, tau0) = (&self.x0, self.tau0);
+        let terms = match &self.solution.form {
+            Form::Coupled(c) => {
+                // x(t) = x_p(τ₀ + t) + (P(t)·I + Q(t)·N)·d, d = x₀ − x_p(τ₀).
+                let xp = [c.p0[0] + c.p1[0] * tau0, c.p0[1] + c.p1[1] * tau0];
+                let d = [x0[0] - xp[0], x0[1] - xp[1]];
+                let nd = [c.n[0][0] * d[0] + c.n[0][1] * d[1], c.n[1][0] * d[0] + c.n[1][1] * d[1]];
+                let weight = |v: &Vec2| f.c[0] * v[0] + f.c[1] * v[1];
+                [f.value(&xp, tau0), f.rate(&c.p1), weight(&d), weight(&nd), 0.0]
+            }
+            Form::Held { .. } => {
+                // v(t) = e^{−gt}·v₀ + φ₁·(a₁₀·i₀ + b₀ + b₁·τ₀) + φ₂·b₁, i held.
+                let s = &self.solution.system;
+                let forcing = s.a[1][0] * x0[0] + s.b0[1] + s.b1[1] * tau0;
+                let held = f.c[0] * x0[0] + f.k0 + f.k1 * tau0;
+                [held, f.k1, f.c[1] * x0[1], f.c[1] * forcing, f.c[1] * s.b1[1]]
+            }
+        };
+        Followed { solution: self.solution, terms }
+    }
+}
+
+/// An affine function of the state followed along a trajectory: with the
+/// flow `(p, q, r)` over `t`, `f(t) = α + β·t + γ·p + δ·q + ε·r`. Its value
+/// and rate cost one flow and a few products, where the state would cost a
+/// propagator too.
+#[derive(Clone, Copy, Debug)]
+pub struct Followed<'a> {
+    solution: &'a Solution,
+    /// `[α, β, γ, δ, ε]`.
+    terms: [f64; 5],
+}
+
+impl Followed<'_> {
+    /// The value `t` after the start.
+    pub fn value(&self, t: f64) -> f64 {
+        self.combine(&self.solution.flow(t), t)
+    }
+
+    /// The value and its time derivative `t` after the start.
+    pub fn value_and_rate(&self, t: f64) -> (f64, f64) {
+        let f = self.solution.flow(t);
+        let d = self.solution.flow_rate(&f);
+        let [_, beta, gamma, delta, epsilon] = self.terms;
+        (self.combine(&f, t), beta + gamma * d.p + delta * d.q + epsilon * d.r)
+    }
+
+    fn combine(&self, f: &Flow, t: f64) -> f64 {
+        let [alpha, beta, gamma, delta, epsilon] = self.terms;
+        alpha + beta * t + gamma * f.p + delta * f.q + epsilon * f.r
     }
 }

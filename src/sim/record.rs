@@ -125,6 +125,50 @@ pub struct Window {
     pub est_input_w: f64,
 }
 
+/// `m ← max(m, x)` for an `m` that is never NaN (as `f64::max`, in one
+/// comparison).
+#[inline]
+fn raise(m: &mut f64, x: f64) {
+    if x > *m {
+        *m = x;
+    }
+}
+
+/// `m ← min(m, x)` for an `m` that is never NaN.
+#[inline]
+fn lower(m: &mut f64, x: f64) {
+    if x < *m {
+        *m = x;
+    }
+}
+
+/// `m ← max(m, x)` for a number `x`, where an `m` of NaN means "none yet".
+#[inline]
+fn raise_or_set(m: &mut f64, x: f64) {
+    if m.is_nan() || x > *m {
+        *m = x;
+    }
+}
+
+/// `m ← min(m, x)` for a number `x`, where an `m` of NaN means "none yet".
+#[inline]
+fn lower_or_set(m: &mut f64, x: f64) {
+    if m.is_nan() || x < *m {
+        *m = x;
+    }
+}
+
+/// A start or end of a steady window.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct WindowBoundary {
+    /// Its time, s.
+    pub t_s: f64,
+    /// The window's index in [`Recorder::windows`].
+    pub window: usize,
+    /// The window's start (else its end).
+    pub is_start: bool,
+}
+
 /// Collects a run.
 #[derive(Clone, Debug)]
 pub struct Recorder {
@@ -206,15 +250,21 @@ impl Recorder {
         self
     }
 
-    /// Window boundaries, in time order, as `(time, window index, is_start)`.
-    pub fn window_edges(&self) -> Vec<(f64, usize, bool)> {
+    /// Window boundaries, in time order (an end before a start at the same
+    /// time).
+    pub fn window_edges(&self) -> Vec<WindowBoundary> {
         let mut e: Vec<_> = self
             .windows
             .iter()
             .enumerate()
-            .flat_map(|(k, w)| [(w.from_s, k, true), (w.to_s, k, false)])
+            .flat_map(|(k, w)| {
+                [
+                    WindowBoundary { t_s: w.from_s, window: k, is_start: true },
+                    WindowBoundary { t_s: w.to_s, window: k, is_start: false },
+                ]
+            })
             .collect();
-        e.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.2.cmp(&b.2)));
+        e.sort_by(|a, b| a.t_s.total_cmp(&b.t_s).then(a.is_start.cmp(&b.is_start)));
         e
     }
 
@@ -231,19 +281,15 @@ impl Recorder {
 
     /// The circuit at one instant (called at every simulation event).
     pub fn observe(&mut self, o: Observation) {
-        self.il_peak_a = self.il_peak_a.max(o.il_a.abs());
+        raise(&mut self.il_peak_a, o.il_a.abs());
         self.transients.observe(&o);
         if let Some(c) = self.current.as_mut() {
-            c.il_max_a = c.il_max_a.max(o.il_a);
-            c.il_min_a = c.il_min_a.min(o.il_a);
-            c.vo_max_v = c.vo_max_v.max(o.vo_v);
-            c.vo_min_v = c.vo_min_v.min(o.vo_v);
+            raise(&mut c.il_max_a, o.il_a);
+            lower(&mut c.il_min_a, o.il_a);
+            raise(&mut c.vo_max_v, o.vo_v);
+            lower(&mut c.vo_min_v, o.vo_v);
             if o.il_est_a.is_finite() {
-                c.il_est_max_a = if c.il_est_max_a.is_nan() {
-                    o.il_est_a
-                } else {
-                    c.il_est_max_a.max(o.il_est_a)
-                };
+                raise_or_set(&mut c.il_est_max_a, o.il_est_a);
             }
         }
         if let Some(prev) = self.last {
@@ -271,8 +317,8 @@ impl Recorder {
             cells.add_segment((prev.t_s, prev.il_a), (o.t_s, o.il_a));
         }
         w.vo_integral += 0.5 * (prev.vo_v + o.vo_v) * dt;
-        w.vo_min_v = w.vo_min_v.min(o.vo_v);
-        w.vo_max_v = w.vo_max_v.max(o.vo_v);
+        lower(&mut w.vo_min_v, o.vo_v);
+        raise(&mut w.vo_max_v, o.vo_v);
         w.il_integral += 0.5 * (prev.il_a + o.il_a) * dt;
         w.il_est_integral += 0.5 * (prev.il_est_a + o.il_est_a) * dt;
         if prev.il_est_a.is_finite() && o.il_est_a.is_finite() {
@@ -282,17 +328,17 @@ impl Recorder {
     }
 
     fn envelope(&mut self, o: &Observation) {
-        let k = ((o.t_s * self.slices_per_s) as usize).min(self.slices.len() - 1);
+        // Through i64 (one instruction; the same index for any time).
+        let last = self.slices.len() - 1;
+        let k = ((o.t_s * self.slices_per_s) as i64).clamp(0, last as i64) as usize;
         let s = &mut self.slices[k];
-        s.vo_min_v = s.vo_min_v.min(o.vo_v);
-        s.vo_max_v = s.vo_max_v.max(o.vo_v);
-        s.il_min_a = s.il_min_a.min(o.il_a);
-        s.il_max_a = s.il_max_a.max(o.il_a);
+        lower(&mut s.vo_min_v, o.vo_v);
+        raise(&mut s.vo_max_v, o.vo_v);
+        lower(&mut s.il_min_a, o.il_a);
+        raise(&mut s.il_max_a, o.il_a);
         if o.il_est_a.is_finite() {
-            s.il_est_min_a =
-                if s.il_est_min_a.is_nan() { o.il_est_a } else { s.il_est_min_a.min(o.il_est_a) };
-            s.il_est_max_a =
-                if s.il_est_max_a.is_nan() { o.il_est_a } else { s.il_est_max_a.max(o.il_est_a) };
+            lower_or_set(&mut s.il_est_min_a, o.il_est_a);
+            raise_or_set(&mut s.il_est_max_a, o.il_est_a);
         }
         if let Some(prev) = self.last {
             if prev.gate_on {

@@ -168,6 +168,41 @@ fn a_step_split_in_two_lands_where_the_whole_step_does() {
 }
 
 #[test]
+fn a_followed_level_matches_the_state_and_its_rate_a_central_difference() {
+    // The level c·x + k₀ + k₁·τ along a trajectory, from the scalar form,
+    // against the same function of the state there; its rate against the
+    // central difference (f(t + h) − f(t − h))/2h, whose error is
+    // h²·f‴/6 (any numerical-analysis text).
+    let coupled = Solution::new(System {
+        a: [[-3.4e3, -2.1e4], [4.5e3, -1.8e3]],
+        b0: [5.1e5, -4.0e3],
+        b1: [1.0e8, -3.0e5],
+    })
+    .unwrap();
+    let held = Solution::new(System {
+        a: [[0.0, 0.0], [4.5e3, -1.8e3]],
+        b0: [0.0, -9.0e3],
+        b1: [0.0, 2e6],
+    })
+    .unwrap();
+    let level = Affine { c: [0.04, 0.98], k0: -5.0, k1: -2.0e2 };
+    for s in [coupled, held] {
+        let (x0, tau0) = ([1.2, 5.01], 2e-4);
+        let tr = s.start_at(x0, tau0);
+        let path = tr.follow(&level);
+        for t in [1e-9, 1e-6, 6e-5, 2e-3] {
+            let want = level.value(&tr.at(t), tau0 + t);
+            let (value, rate) = path.value_and_rate(t);
+            assert!((value - want).abs() < 1e-13 * want.abs().max(1.0), "{value} vs {want}");
+            assert_eq!(path.value(t), value);
+            let h = 1e-4 * t;
+            let central = (path.value(t + h) - path.value(t - h)) / (2.0 * h);
+            assert!(rel(rate, central) < 1e-5, "rate {rate} vs {central} at {t}");
+        }
+    }
+}
+
+#[test]
 fn singular_coupled_systems_are_refused() {
     assert!(Solution::new(System { a: [[1.0, 2.0], [2.0, 4.0]], b0: [1.0, 0.0], b1: [0.0; 2] })
         .is_none());

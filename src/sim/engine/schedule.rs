@@ -1,0 +1,132 @@
+//! The microcontroller's pending events, in absolute ticks since t = 0,
+//! each a small struct of its own.
+
+/// A conversion's results, waiting for their interrupt.
+#[derive(Clone, Copy, Debug)]
+pub(super) struct Conversion {
+    /// The conversion-complete interrupt's tick.
+    pub irq_at: u64,
+    /// Output channel's code.
+    pub output: u16,
+    /// Input channel's code.
+    pub input: u16,
+}
+
+/// A comparator interrupt, pending.
+#[derive(Clone, Copy, Debug)]
+pub(super) struct EdgeIrq {
+    /// Its tick.
+    pub at: u64,
+    /// The comparator's level it reports.
+    pub level: bool,
+}
+
+/// A breakpoint of the input or load profile.
+#[derive(Clone, Copy, Debug)]
+pub(super) struct Breakpoint {
+    /// The tick it falls on.
+    pub tick: u64,
+    /// Its exact time, s (the tick may round to just before it).
+    pub at_s: f64,
+}
+
+/// A boundary of a steady window (the recorder snapshots the energies).
+#[derive(Clone, Copy, Debug)]
+pub(super) struct WindowEdge {
+    /// The tick it falls on.
+    pub tick: u64,
+    /// The window's index.
+    pub window: usize,
+    /// Its start (else its end).
+    pub is_start: bool,
+}
+
+/// Pending microcontroller events.
+#[derive(Clone, Debug)]
+pub(super) struct Schedule {
+    pub next_sample: u64,
+    pub next_housekeeping: u64,
+    pub conversion: Option<Conversion>,
+    /// The armed compare's tick.
+    pub compare: Option<u64>,
+    /// The compare interrupt's entry.
+    pub compare_irq: Option<u64>,
+    pub edge: Option<EdgeIrq>,
+    pub dead_time_end: Option<u64>,
+    /// Profile breakpoints in time order, from `next_break` on still to
+    /// come.
+    pub breaks: Vec<Breakpoint>,
+    pub next_break: usize,
+    /// Window boundaries in time order, from `next_window_edge` on still to
+    /// come.
+    pub window_edges: Vec<WindowEdge>,
+    pub next_window_edge: usize,
+    pub end: u64,
+}
+
+impl Schedule {
+    /// Nothing pending yet; the run ends at tick `end`.
+    pub fn new(breaks: Vec<Breakpoint>, window_edges: Vec<WindowEdge>, end: u64) -> Self {
+        Self {
+            next_sample: 0,
+            next_housekeeping: 0,
+            conversion: None,
+            compare: None,
+            compare_irq: None,
+            edge: None,
+            dead_time_end: None,
+            breaks,
+            next_break: 0,
+            window_edges,
+            next_window_edge: 0,
+            end,
+        }
+    }
+
+    /// The next tick something happens; interrupts wait for the core while
+    /// it is busy until `busy_until`.
+    #[inline]
+    pub fn next_event(&self, busy_until: u64) -> u64 {
+        let entry = |t: u64| t.max(busy_until);
+        // The housekeeping tick, too, waits for a handler in progress.
+        let mut next = self.end.min(self.next_sample).min(entry(self.next_housekeeping));
+        if let Some(c) = &self.conversion {
+            next = next.min(entry(c.irq_at));
+        }
+        if let Some(t) = self.compare_irq {
+            next = next.min(entry(t));
+        }
+        if let Some(e) = &self.edge {
+            next = next.min(entry(e.at));
+        }
+        if let Some(t) = self.compare {
+            next = next.min(t);
+        }
+        if let Some(t) = self.dead_time_end {
+            next = next.min(t);
+        }
+        next.min(self.next_profile_tick())
+    }
+
+    /// The next breakpoint's or window boundary's tick (`u64::MAX`: none).
+    #[inline]
+    pub fn next_profile_tick(&self) -> u64 {
+        let b = self.breaks.get(self.next_break).map_or(u64::MAX, |b| b.tick);
+        let w = self.window_edges.get(self.next_window_edge).map_or(u64::MAX, |w| w.tick);
+        b.min(w)
+    }
+
+    /// The breakpoint due by `tick`, taken from the schedule.
+    pub fn take_break(&mut self, tick: u64) -> Option<Breakpoint> {
+        let b = *self.breaks.get(self.next_break).filter(|b| b.tick <= tick)?;
+        self.next_break += 1;
+        Some(b)
+    }
+
+    /// The window boundary due by `tick`, taken from the schedule.
+    pub fn take_window_edge(&mut self, tick: u64) -> Option<WindowEdge> {
+        let w = *self.window_edges.get(self.next_window_edge).filter(|w| w.tick <= tick)?;
+        self.next_window_edge += 1;
+        Some(w)
+    }
+}
