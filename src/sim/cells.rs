@@ -43,9 +43,11 @@ impl CellGrid {
     /// Add the straight segment from `(ta, va)` to `(tb, vb)` (`ta ≤ tb`);
     /// the parts outside the grid are dropped.
     ///
-    /// Each cell it covers gains the trapezoid of the segment over the
-    /// part inside it, divided by the width: the first and last cell may be
-    /// covered in part, the cells between in whole (a tight loop).
+    /// Each cell it covers gains the segment's average over the part
+    /// inside it times that part's share of the cell: the first and last
+    /// cell may be covered in part (the trapezoid over the part, divided by
+    /// the width), the cells between in whole (the value at the centre, a
+    /// loop without a division).
     pub fn add_segment(&mut self, (ta, va): (f64, f64), (tb, vb): (f64, f64)) {
         let end = self.from_s + self.span_s();
         let (lo, hi) = (ta.max(self.from_s), tb.min(end));
@@ -54,29 +56,31 @@ impl CellGrid {
         }
         let line = Line { ta, va, slope: (vb - va) / (tb - ta) };
         let n = self.cells.len();
-        let first = ((lo - self.from_s) / self.dt_s).floor() as usize;
-        let k = first.min(n - 1);
+        let k = self.cell_of(lo);
         let first_end = self.edge(k + 1).min(hi);
         self.add_piece(&line, k, lo, first_end);
         let (mut t, mut k) = (first_end, k + 1);
         let whole_end = self.whole_cells_end(k, hi);
         if whole_end > k {
+            // A line's average over a whole cell is its value at the
+            // cell's centre.
             let (from, dt) = (self.from_s, self.dt_s);
-            // Each cell's end is the next one's start: computed once.
-            let (mut a, mut value_a) = (t, line.value(t));
-            for (j, cell) in (k + 1..).zip(&mut self.cells[k..whole_end]) {
-                let b = edge(from, dt, j);
-                let value_b = line.value(b);
-                if b > a {
-                    *cell += 0.5 * (value_a + value_b) * (b - a) / dt;
-                }
-                (a, value_a) = (b, value_b);
+            for (j, cell) in (k..).zip(&mut self.cells[k..whole_end]) {
+                *cell += line.value(from + (j as i64 as f64 + 0.5) * dt);
             }
             (t, k) = (self.edge(whole_end), whole_end);
         }
         if t < hi && k < n {
             self.add_piece(&line, k, t, self.edge(k + 1).min(hi));
         }
+    }
+
+    /// The cell holding `t` (the first or last for a time outside the
+    /// grid): `⌊(t − from)/Δt⌋` through i64, one instruction where `floor`
+    /// is a library call.
+    fn cell_of(&self, t: f64) -> usize {
+        let last = self.cells.len() as i64 - 1;
+        (((t - self.from_s) / self.dt_s) as i64).clamp(0, last) as usize
     }
 
     /// Start of cell `k` (end of cell `k − 1`), s.
@@ -97,8 +101,7 @@ impl CellGrid {
     fn whole_cells_end(&self, k: usize, hi: f64) -> usize {
         let n = self.cells.len();
         let partial = |j: usize| j >= n || self.edge(j + 1) >= hi;
-        let guess = ((hi - self.from_s) / self.dt_s).max(0.0) as usize;
-        let mut j = guess.saturating_sub(1).clamp(k, n);
+        let mut j = self.cell_of(hi).saturating_sub(1).clamp(k, n);
         while j > k && partial(j - 1) {
             j -= 1;
         }
