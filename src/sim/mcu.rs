@@ -60,8 +60,28 @@ impl Adc {
 
     fn quantize(&mut self, adc: &AdcChannel, v: f64) -> u16 {
         let noise = self.noise.map_or(0.0, |n| n.sample(&mut self.rng));
-        let code = (adc.exact_code(v) + noise).round();
+        let code = round_half_away(adc.exact_code(v) + noise);
         code.clamp(0.0, f64::from(adc.full_scale_code())) as u16
+    }
+}
+
+/// `x.round()` (halves away from zero) without the library call the
+/// baseline x86-64 target makes for it: the integer part through i64, and
+/// the fraction left, both exact below 2⁵² in magnitude; beyond, and for NaN,
+/// the library's.
+fn round_half_away(x: f64) -> f64 {
+    const EXACT: f64 = 4_503_599_627_370_496.0; // 2⁵²
+    if !(x.abs() < EXACT) {
+        return x.round();
+    }
+    let whole = x as i64 as f64;
+    let fraction = x - whole;
+    if fraction >= 0.5 {
+        whole + 1.0
+    } else if fraction <= -0.5 {
+        whole - 1.0
+    } else {
+        whole
     }
 }
 
@@ -154,5 +174,27 @@ impl Comparator {
     /// The output crossed the watched level.
     pub(super) fn flip(&mut self) {
         self.level = !self.level;
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::round_half_away;
+
+    #[test]
+    fn rounds_as_the_standard_library_does() {
+        // `f64::round` is the reference; the neighbours of every half, the
+        // largest value below a half, and values past 2⁵² included.
+        let below_half = 0.5 - f64::EPSILON / 4.0;
+        let mut cases = vec![0.0, -0.0, below_half, -below_half, 1e300, -1e300, 4.6e15, -4.6e15];
+        for k in -5000..5000 {
+            let half = f64::from(k) + 0.5;
+            cases.extend([half, half.next_up(), half.next_down(), f64::from(k) + 0.25]);
+        }
+        for x in cases {
+            let (got, want) = (round_half_away(x), x.round());
+            assert!(got == want, "{x:e}: {got} vs {want}");
+        }
+        assert!(round_half_away(f64::NAN).is_nan());
     }
 }
