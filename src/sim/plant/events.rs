@@ -98,32 +98,31 @@ impl Plant {
     }
 }
 
-/// First `t ∈ (0, dt]` where `level` changes sign along the segment: the
-/// first sign change on eight equal steps, then safeguarded Newton
-/// iteration on the closed form (the level followed along the trajectory:
-/// one flow per step). The result lies just past the crossing (within a
-/// few 1e-16 s), so the caller lands on its far side.
+/// First `t ∈ (0, dt]` where `level` changes sign along the segment, on
+/// its closed form (the level followed along the trajectory: one flow per
+/// evaluation). The result lies just past the crossing (within a few
+/// 1e-16 s), so the caller lands on its far side.
+///
+/// The sign is known at the start, middle and end. A change in the first
+/// half is refined there. A change in the second half only is refined
+/// there when the level's rate has one sign over the first half (so it
+/// cannot have crossed and come back); otherwise, or when neither half
+/// shows a change, the first change on eight equal steps is sought.
 fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
     let path = seg.trajectory.follow(level);
     let value = |x: &Vec2, t: f64| level.value(x, seg.tau0 + t);
-    let f_start = value(seg.start, 0.0);
+    let h = 0.5 * seg.dt;
+    let (f_start, f_mid, f_end) =
+        (value(seg.start, 0.0), value(seg.mid, h), value(seg.end, seg.dt));
     let crossed = |fv: f64| fv == 0.0 || fv.signum() != f_start.signum();
-    let (mut lo, mut f_lo) = (0.0, f_start);
-    let mut bracket = None;
-    for k in 1..=8 {
-        let t = seg.dt * f64::from(k) / 8.0;
-        let fv = match k {
-            4 => value(seg.mid, t),
-            8 => value(seg.end, t),
-            _ => path.value(t),
-        };
-        if crossed(fv) {
-            bracket = Some((t, fv));
-            break;
-        }
-        (lo, f_lo) = (t, fv);
-    }
-    let (mut hi, f_hi) = bracket?;
+    let bracket = if crossed(f_mid) {
+        Some(Bracket { lo: 0.0, f_lo: f_start, hi: h, f_hi: f_mid })
+    } else if crossed(f_end) && monotone_first_half(seg, level) {
+        Some(Bracket { lo: h, f_lo: f_mid, hi: seg.dt, f_hi: f_end })
+    } else {
+        first_change_on_eight_steps(seg, &path, &value, &crossed, f_start)
+    };
+    let Bracket { mut lo, f_lo, mut hi, f_hi } = bracket?;
     // Regula falsi for a start, then Newton kept inside the bracket.
     let mut t = lo + (hi - lo) * f_lo / (f_lo - f_hi);
     for _ in 0..60 {
@@ -141,6 +140,47 @@ fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
         t = if dfv != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
     }
     Some(hi)
+}
+
+/// An interval `[lo, hi]` of a segment, with the level at its ends, whose
+/// far end is past a crossing.
+struct Bracket {
+    lo: f64,
+    f_lo: f64,
+    hi: f64,
+    f_hi: f64,
+}
+
+/// Whether the level's rate has the same sign at the start and the middle
+/// of the segment: on these short stretches of a damped second-order
+/// response it then has one sign between them.
+fn monotone_first_half(seg: &Segment<'_>, level: &Affine) -> bool {
+    let rate_at = |x: &Vec2, t: f64| level.rate(&seg.trajectory.rate(x, t));
+    rate_at(seg.start, 0.0).signum() == rate_at(seg.mid, 0.5 * seg.dt).signum()
+}
+
+/// The first sign change on eight equal steps of the segment.
+fn first_change_on_eight_steps(
+    seg: &Segment<'_>,
+    path: &Followed<'_>,
+    value: &impl Fn(&Vec2, f64) -> f64,
+    crossed: &impl Fn(f64) -> bool,
+    f_start: f64,
+) -> Option<Bracket> {
+    let (mut lo, mut f_lo) = (0.0, f_start);
+    for k in 1..=8 {
+        let t = seg.dt * f64::from(k) / 8.0;
+        let fv = match k {
+            4 => value(seg.mid, t),
+            8 => value(seg.end, t),
+            _ => path.value(t),
+        };
+        if crossed(fv) {
+            return Some(Bracket { lo, f_lo, hi: t, f_hi: fv });
+        }
+        (lo, f_lo) = (t, fv);
+    }
+    None
 }
 
 /// From `t` just short of a root `step` away, the first point past it:
