@@ -12,8 +12,8 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 /// The ADC: both channels, its noise, and a fault at the output divider.
 #[derive(Clone, Debug)]
 pub(super) struct Adc {
-    output: AdcChannel,
-    input: AdcChannel,
+    output: Converter,
+    input: Converter,
     rng: Xoshiro256PlusPlus,
     noise: Option<Normal<f64>>,
     /// From this tick on the output divider reads as open (0 V).
@@ -29,8 +29,8 @@ impl Adc {
     ) -> Self {
         let m = &sc.mcu;
         Self {
-            output,
-            input,
+            output: Converter::new(output),
+            input: Converter::new(input),
             rng: Xoshiro256PlusPlus::seed_from_u64(m.seed),
             noise: (m.noise_lsb_rms > 0.0)
                 .then(|| Normal::new(0.0, m.noise_lsb_rms).ok())
@@ -41,27 +41,61 @@ impl Adc {
 
     /// The output channel.
     pub(super) fn output_channel(&self) -> &AdcChannel {
-        &self.output
+        &self.output.channel
     }
 
     /// The result for the output at `tick`: ideal converter plus noise,
     /// saturating at the rails; an open divider reads 0 V.
     pub(super) fn convert_output(&mut self, v_out: f64, tick: u64) -> u16 {
         let open = self.open_from.is_some_and(|t| tick >= t);
-        let adc = self.output;
-        self.quantize(&adc, if open { 0.0 } else { v_out })
+        let exact = self.output.exact_code(if open { 0.0 } else { v_out });
+        let noisy = exact + self.noise();
+        self.output.saturate(round_half_away(noisy))
     }
 
     /// The result for the input.
     pub(super) fn convert_input(&mut self, v_in: f64) -> u16 {
-        let adc = self.input;
-        self.quantize(&adc, v_in)
+        let noisy = self.input.exact_code(v_in) + self.noise();
+        self.input.saturate(round_half_away(noisy))
     }
 
-    fn quantize(&mut self, adc: &AdcChannel, v: f64) -> u16 {
-        let noise = self.noise.map_or(0.0, |n| n.sample(&mut self.rng));
-        let code = round_half_away(adc.exact_code(v) + noise);
-        code.clamp(0.0, f64::from(adc.full_scale_code())) as u16
+    /// One draw of the noise, LSB.
+    fn noise(&mut self) -> f64 {
+        self.noise.map_or(0.0, |n| n.sample(&mut self.rng))
+    }
+}
+
+/// A channel's conversion with its factors taken out once:
+/// [`AdcChannel::exact_code`] without recomputing the LSB (a division)
+/// each time, the same arithmetic otherwise.
+#[derive(Clone, Copy, Debug)]
+struct Converter {
+    channel: AdcChannel,
+    ratio: f64,
+    offset_v: f64,
+    lsb_v: f64,
+    full_scale: f64,
+}
+
+impl Converter {
+    fn new(channel: AdcChannel) -> Self {
+        Self {
+            channel,
+            ratio: f64::from(channel.ratio()),
+            offset_v: f64::from(channel.offset_v()),
+            lsb_v: channel.lsb_pin_v(),
+            full_scale: f64::from(channel.full_scale_code()),
+        }
+    }
+
+    /// The exact (unrounded) code for a signal voltage.
+    fn exact_code(&self, signal_v: f64) -> f64 {
+        (signal_v * self.ratio + self.offset_v) / self.lsb_v
+    }
+
+    /// A rounded code, held within the rails.
+    fn saturate(&self, code: f64) -> u16 {
+        code.clamp(0.0, self.full_scale) as u16
     }
 }
 
@@ -76,13 +110,10 @@ fn round_half_away(x: f64) -> f64 {
     }
     let whole = x as i64 as f64;
     let fraction = x - whole;
-    if fraction >= 0.5 {
-        whole + 1.0
-    } else if fraction <= -0.5 {
-        whole - 1.0
-    } else {
-        whole
-    }
+    // Without branches: with noise the fraction is random, and a branch on
+    // it would be mispredicted half the time.
+    let away = f64::from(u8::from(fraction >= 0.5)) - f64::from(u8::from(fraction <= -0.5));
+    whole + away
 }
 
 /// Where the comparator that feeds edge interrupts gets its threshold.
@@ -179,7 +210,16 @@ impl Comparator {
 
 #[cfg(test)]
 mod tests {
-    use super::round_half_away;
+    use super::*;
+
+    #[test]
+    fn a_converter_gives_the_channels_exact_code() {
+        let channel = AdcChannel::new(12, 3.3, 4.7 / 14.7, 0.002).unwrap();
+        let converter = Converter::new(channel);
+        for v in [-1.0, 0.0, 1.234_567, 4.98, 5.02, 11.0] {
+            assert_eq!(converter.exact_code(v), channel.exact_code(v), "{v}");
+        }
+    }
 
     #[test]
     fn rounds_as_the_standard_library_does() {
