@@ -34,9 +34,10 @@ impl<F: Firmware> Engine<F> {
     /// which runs ahead of or behind the event loop's while it solves an
     /// interval.
     fn plant_instant(&self) -> Instant {
-        // Through i64: one instruction, the same count for the fraction
-        // of a step it is.
-        let within = ((self.frac / self.tick_s) as i64).max(0) as u64;
+        // Most observations fall on a tick (no fraction, no division);
+        // through i64: one instruction, the same count.
+        let within =
+            if self.frac == 0.0 { 0 } else { ((self.frac / self.tick_s) as i64).max(0) as u64 };
         Instant(self.start.wrapping_add((self.plant_tick + within) as u32))
     }
 
