@@ -105,7 +105,7 @@ impl Converter {
 /// the library's.
 fn round_half_away(x: f64) -> f64 {
     const EXACT: f64 = 4_503_599_627_370_496.0; // 2⁵²
-    if !(x.abs() < EXACT) {
+    if x.is_nan() || x.abs() >= EXACT {
         return x.round();
     }
     let whole = x as i64 as f64;
