@@ -147,6 +147,13 @@ pub fn steady_energy(out: &RunOutput) -> EnergyLedger {
 impl Summary {
     /// Summarise a run that took `wall_s` seconds.
     pub fn of(out: &RunOutput, scenario: &str, wall_s: f64) -> Self {
+        Self { audible: audible::analyse(out), ..Self::without_audible(out, scenario, wall_s) }
+    }
+
+    /// [`Summary::of`] without the audible-band figures (`audible` none):
+    /// their spectra cost about as much as a short run itself, and the
+    /// figures a tolerance study judges do not use them.
+    pub fn without_audible(out: &RunOutput, scenario: &str, wall_s: f64) -> Self {
         let windows = &out.recorder.windows;
         let steady_s: f64 = windows.iter().map(|w| w.to_s - w.from_s).sum();
         let vo_integral: f64 = windows.iter().map(|w| w.vo_integral).sum();
@@ -186,7 +193,7 @@ impl Summary {
             steady_s,
             efficiency_note: efficiency.note(),
             transients: out.recorder.transients.figures(&out.recorder.cycles),
-            audible: audible::analyse(out),
+            audible: None,
             emission: EmissionSummary::NotAvailable {
                 reason: "not estimated for this summary".to_string(),
             },

@@ -182,7 +182,7 @@ fn judge_run(
     let outcome =
         scenario.validate().map_err(|e| format!("drawn scenario invalid: {e}")).and_then(|()| {
             match run_with(&scenario, &RunControl { progress: None, cancel }) {
-                Ok(out) => Ok(Figures::of(&Summary::of(&out, &scenario.name, 0.0))),
+                Ok(out) => Ok(Figures::of(&Summary::without_audible(&out, &scenario.name, 0.0))),
                 Err(RunError::Cancelled) => Err(String::new()),
                 Err(e) => Err(e.to_string()),
             }
