@@ -17,8 +17,8 @@ use std::hint::black_box;
 /// the default in code, so it follows the shipped file).
 fn edge_variant() -> Scenario {
     let mut sc = Scenario::default_demo();
-    if let LawParams::Hysteretic { setpoint_v, band_v, .. } = sc.control.law {
-        sc.control.law = LawParams::Hysteretic { setpoint_v, band_v, input: HystereticInput::Edge };
+    if let LawParams::Hysteretic { input, .. } = &mut sc.control.law {
+        *input = HystereticInput::Edge;
     }
     sc.mcu.sample_rate_hz = 50e3;
     sc.firmware.housekeeping_hz = 5e3;
