@@ -60,8 +60,9 @@ impl Dither {
         if lsb != 0 {
             self.register ^= TAPS;
         }
-        // u = register / 2¹⁶ in [0, 1); 2·depth·u ≤ 2¹⁶·2¹⁶: fits in u32
-        // after the shift (depth ≤ 2¹⁵).
+        // u = register / 2¹⁶ in [0, 1). With depth ≤ 2¹⁵ and register
+        // < 2¹⁶ the product 2·depth·register < 2³²: it fits in u32 before
+        // the shift.
         let spread = (2 * self.depth * u32::from(self.register)) >> 16;
         ONE - self.depth + spread
     }

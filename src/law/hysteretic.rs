@@ -130,8 +130,9 @@ impl Hysteretic {
         self
     }
 
-    /// The frequency lock, if any (its trim is the band's scale now).
-    pub const fn frequency_lock(&self) -> Option<&FrequencyTrim> {
+    /// The frequency lock's integrator, if any (its trim is the band's
+    /// scale now; [`Regulate::frequency_lock`] gives its state).
+    pub const fn frequency_trim(&self) -> Option<&FrequencyTrim> {
         self.lock.as_ref()
     }
 

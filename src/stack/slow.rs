@@ -259,8 +259,8 @@ impl SlowPath {
             return;
         }
         if let Some(sizer) = self.sizer.as_mut() {
-            let target = sup.inner().frequency_lock();
-            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow, target);
+            let lock = sup.inner().frequency_lock();
+            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow, lock);
             sup.set_pulse_cap(size.cap);
             sup.inner_mut().set_forced_pulses(size.forced);
         }
