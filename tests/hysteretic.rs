@@ -88,6 +88,83 @@ proptest! {
     }
 }
 
+/// Samples, each with a flag: a current limit ends the pulse just before
+/// it (when the gate is on).
+fn law_samples_and_cuts() -> impl Strategy<Value = (AdcChannel, HystereticConfig, Vec<(f64, bool)>)>
+{
+    law_and_samples().prop_flat_map(|(adc, cfg, samples)| {
+        let n = samples.len();
+        (Just(adc), Just(cfg), Just(samples), prop::collection::vec(prop::bool::weighted(0.2), n))
+            .prop_map(|(adc, cfg, s, cuts)| (adc, cfg, s.into_iter().zip(cuts).collect()))
+    })
+}
+
+/// Drive `law` through `samples` as a stage does: the gate follows the
+/// law's demand, except where a sample's flag ends a pulse first; compare
+/// with the f64 model (which waits for the lower threshold after a cut),
+/// except within one code of a threshold.
+fn follow_with_cuts(
+    law: &mut Hysteretic,
+    adc: &AdcChannel,
+    cfg: &HystereticConfig,
+    samples: &[(f64, bool)],
+    decide: impl Fn(&mut Hysteretic, f64, Instant) -> bool,
+) -> Result<(), TestCaseError> {
+    let mut model = HystereticModel::new(f64::from(cfg.setpoint_v), f64::from(cfg.band_v));
+    let lsb = adc.lsb_signal_v();
+    let mut gate = Gate::Off;
+    for (i, &(v, cut)) in samples.iter().enumerate() {
+        let now = Instant(i as u32);
+        if cut && gate.is_on() {
+            gate = Gate::Off;
+            law.on_gate(Gate::Off, now);
+            model.cut_short();
+        }
+        let got = decide(law, v, now);
+        let want = model.sample(v);
+        if got != want {
+            let near = (v - model.lower_v).abs() <= lsb || (v - model.upper_v).abs() <= lsb;
+            prop_assert!(near, "v={v} lower={} upper={}", model.lower_v, model.upper_v);
+            model.on = got;
+        }
+        if Gate::from_bool(got) != gate {
+            gate = Gate::from_bool(got);
+            law.on_gate(gate, now);
+        }
+    }
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(cases(5_000))]
+
+    /// Sampled, with pulses cut short: after a cut the next pulse waits for
+    /// a sample at or below the lower threshold, as the model's.
+    #[test]
+    fn sampled_cut_pulses_wait_for_the_lower_threshold(
+        (adc, cfg, samples) in law_samples_and_cuts()
+    ) {
+        let Ok(mut law) = Hysteretic::new(&cfg, &adc) else { return Ok(()) };
+        follow_with_cuts(&mut law, &adc, &cfg, &samples, |law, v, now| {
+            law.on_sample(ideal_adc(&adc, v), now).gate.is_on()
+        })?;
+    }
+
+    /// On edges, with pulses cut short: the comparator, re-armed at the
+    /// lower threshold after a cut, reports the level against it, and the
+    /// law decides as the model.
+    #[test]
+    fn edge_cut_pulses_wait_for_the_lower_threshold(
+        (adc, cfg, samples) in law_samples_and_cuts()
+    ) {
+        let Ok(mut law) = Hysteretic::new(&cfg, &adc) else { return Ok(()) };
+        follow_with_cuts(&mut law, &adc, &cfg, &samples, |law, v, now| {
+            let dac_v = f64::from(adc.to_volts(law.armed_code()));
+            law.on_edge(v > dac_v, now).gate.is_on()
+        })?;
+    }
+}
+
 #[test]
 fn demo_thresholds() {
     // 5 V ± 20 mV through 10 k / 4.7 k into 12 bits at 3.3 V: one code is

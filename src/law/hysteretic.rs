@@ -19,7 +19,9 @@
 //!   narrows the band when the mean period is too long and widens it when
 //!   too short, so the mean switching frequency tracks a target across
 //!   input and load (quasi-fixed-frequency hysteretic control); it holds
-//!   while the frequency window binds;
+//!   while the frequency window binds, and while pulses are cut short
+//!   (the light-load cap sets the frequency then, see
+//!   [`stack`](crate::stack));
 //! - **dithering** ([`Hysteretic::with_dither`]): a [`Dither`] factor moves
 //!   the band pseudo-randomly around its (locked) width, spreading the
 //!   switching frequency's harmonics.
@@ -79,6 +81,10 @@ pub struct Hysteretic {
     armed: Threshold,
     lock: Option<FrequencyTrim>,
     dither: Option<Dither>,
+    /// A pulse was cut short since the last retune.
+    cut_since_retune: bool,
+    /// One was in the window the last retune closed.
+    cut_in_window: bool,
 }
 
 impl Hysteretic {
@@ -113,6 +119,8 @@ impl Hysteretic {
             armed: Threshold::Lower,
             lock: None,
             dither: None,
+            cut_since_retune: false,
+            cut_in_window: false,
         })
     }
 
@@ -203,7 +211,10 @@ impl Hysteretic {
     fn decide_sample(&mut self, code: u16) {
         if code <= self.lower {
             self.demand = Gate::On;
-        } else if code >= self.upper {
+            self.armed = Threshold::Upper;
+        } else if code >= self.upper || self.armed == Threshold::Lower {
+            // Between the thresholds an on-phase holds; with the gate off,
+            // after a pulse cut short, the next waits for the lower one.
             self.demand = Gate::Off;
         }
     }
@@ -219,7 +230,10 @@ impl Hysteretic {
                 self.demand = Gate::On;
                 self.armed = Threshold::Upper;
             }
-            _ => {}
+            // Above the lower threshold while it is armed: no pulse (after
+            // a pulse cut short, the re-armed comparator's report).
+            (Threshold::Lower, true) => self.demand = Gate::Off,
+            (Threshold::Upper, false) => {}
         }
     }
 }
@@ -242,6 +256,31 @@ impl Law for Hysteretic {
         Command::hold(self.demand)
     }
 
+    /// A turn-on the law asked for arms the upper threshold; any turn-off
+    /// the lower one. A turn-off while the law still asks for the pulse
+    /// (the current limit or the maximum on-time cut it short) makes the
+    /// next pulse wait for the output to fall below the lower threshold
+    /// again, not for the minimum off-time only: at light load a capped
+    /// pulse that ends short of the upper threshold is not followed by a
+    /// second one at once (a burst, then a long pause). Sampled, the next
+    /// sample above the lower threshold withdraws the demand. On edges the
+    /// re-armed comparator reports a level change if the output is above
+    /// the lower threshold, and that report withdraws it; if the output is
+    /// already below, nothing new comes and the pulse follows at the
+    /// minimum off-time's end (give that minimum the comparator's and the
+    /// handler's delay).
+    #[inline]
+    fn on_gate(&mut self, gate: Gate, _at: Instant) {
+        match gate {
+            Gate::Off => {
+                self.cut_since_retune |= self.demand.is_on();
+                self.armed = Threshold::Lower;
+            }
+            Gate::On if self.demand.is_on() => self.armed = Threshold::Upper,
+            Gate::On => {}
+        }
+    }
+
     fn comparator_code(&self) -> Option<u16> {
         Some(self.armed_code())
     }
@@ -259,10 +298,13 @@ impl Regulate for Hysteretic {
     /// The frequency lock's update and the dither's next draw, applied to
     /// the band; nothing without either.
     fn retune(&mut self, c: &Conditions) {
+        self.cut_in_window = core::mem::take(&mut self.cut_since_retune);
         if self.lock.is_none() && self.dither.is_none() {
             return;
         }
         let mut factor = match self.lock.as_mut() {
+            // Pulses cut short: the band did not end them, hold.
+            Some(lock) if self.cut_in_window => lock.trim(),
             // A period past 1/f_min: narrow the band by a full step.
             Some(lock) if c.long_period => lock.step_down(),
             Some(lock) => lock.update(c.cycles, c.period_ticks, c.window_binding),
@@ -275,6 +317,7 @@ impl Regulate for Hysteretic {
     }
 
     fn frequency_lock(&self) -> Option<LockState> {
-        self.lock.as_ref().map(FrequencyTrim::state)
+        let pulses_cut = self.cut_in_window;
+        self.lock.as_ref().map(|lock| LockState { pulses_cut, ..lock.state() })
     }
 }

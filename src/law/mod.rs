@@ -230,6 +230,10 @@ pub struct LockState {
     /// The lock's factor sits at its upper bound: it cannot lower the
     /// frequency any further.
     pub at_max: bool,
+    /// Pulses ended before the law asked during the last window (the
+    /// light-load cap or the current limit ended them): the lock did not
+    /// set the frequency and held; the pulses' size did.
+    pub pulses_cut: bool,
 }
 
 /// A law whose regulation reference can be moved on the slow path

@@ -31,6 +31,15 @@ pub struct FrequencyTrim {
     trim: Fraction,
 }
 
+/// The hysteretic band lock's gain per housekeeping window (demo value;
+/// see [`FrequencyTrim::band_lock`]).
+pub const BAND_LOCK_GAIN: f32 = 0.25;
+/// Narrowest band the lock may set, a fraction of the configured band (at
+/// least one ADC code a side in any case).
+pub const BAND_LOCK_MIN: f32 = 0.125;
+/// Widest band the lock may set, a multiple of the configured band.
+pub const BAND_LOCK_MAX: f32 = 2.0;
+
 /// `x` in (0, 65 536) as a [`Fraction`] (configuration).
 const fn fraction(x: f64) -> Fraction {
     to_fixed_i64(x, 16) as Fraction
@@ -77,6 +86,14 @@ impl FrequencyTrim {
         })
     }
 
+    /// The hysteretic law's band lock to `lock_hz` on `clock`: gain
+    /// [`BAND_LOCK_GAIN`], the band within [`BAND_LOCK_MIN`] …
+    /// [`BAND_LOCK_MAX`] times the configured one; errors name `lock_hz`
+    /// (the scenario key) (a `const fn`).
+    pub const fn band_lock(lock_hz: f32, clock: &TimerClock) -> Result<Self, ConfigError> {
+        Self::named("lock_hz", lock_hz, BAND_LOCK_GAIN, BAND_LOCK_MIN, BAND_LOCK_MAX, clock)
+    }
+
     /// The target frequency, Hz (rounded to a whole hertz).
     pub const fn target_hz(&self) -> u32 {
         self.target_hz
@@ -90,12 +107,14 @@ impl FrequencyTrim {
         self.trim
     }
 
-    /// Its target and whether the trim sits at a bound.
+    /// Its target and whether the trim sits at a bound (`pulses_cut`
+    /// false: the law that runs the trim knows its pulses).
     pub const fn state(&self) -> LockState {
         LockState {
             target_hz: self.target_hz,
             at_min: self.trim <= self.min,
             at_max: self.trim >= self.max,
+            pulses_cut: false,
         }
     }
 

@@ -26,6 +26,13 @@ impl HystereticModel {
         }
         self.on
     }
+
+    /// Something other than the law ended the pulse (a current limit, a
+    /// maximum on-time): the next pulse waits for the output to fall to the
+    /// lower threshold again.
+    pub fn cut_short(&mut self) {
+        self.on = false;
+    }
 }
 
 /// Reference frequency lock in SI units: the band scaled by an integral

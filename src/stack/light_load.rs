@@ -83,6 +83,12 @@ impl PulseSizer {
     ) -> PulseSize {
         let light = dcm_cycles >= cycles - cycles / 2;
         let (low, high) = match lock {
+            // The cap ends the pulses: it sets the frequency, toward the
+            // lock's target within ±1/32.
+            Some(l) if l.pulses_cut => {
+                let f = l.target_hz;
+                (f_sw_hz < f - f / 32, f_sw_hz > f + f / 32)
+            }
             Some(l) => {
                 let f = l.target_hz;
                 (l.at_min && f_sw_hz < f - f / 32, l.at_max || f_sw_hz > f + f / 4)
@@ -90,11 +96,19 @@ impl PulseSizer {
             None => (f_sw_hz < self.f_low, f_sw_hz > self.f_high),
         };
         let too_slow = cycles == 0 || (light && (slow || low));
-        let step = Amps::from_bits((self.cap.to_bits() / 8).max(1));
+        let eighth = Amps::from_bits((self.cap.to_bits() / 8).max(1));
         if too_slow {
+            // Fine steps down while the cap sets a locked frequency (the
+            // frequency goes as 1/cap², so 1/32 of the cap moves it about
+            // 6 %); a full eighth after a long period.
+            let fine = lock.is_some_and(|l| l.pulses_cut) && !slow && cycles != 0;
+            let step =
+                if fine { Amps::from_bits((self.cap.to_bits() / 32).max(1)) } else { eighth };
             self.cap = self.cap.saturating_sub(step).max(self.floor);
         } else if !light || high {
-            self.cap = self.cap.saturating_add(step).min(self.limit);
+            // Up by an eighth: clear of the band's own peak, so the lock
+            // (or the plain law) sets the frequency again.
+            self.cap = self.cap.saturating_add(eighth).min(self.limit);
         }
         PulseSize { cap: self.cap, forced: too_slow && self.cap <= self.floor }
     }
@@ -134,6 +148,36 @@ mod tests {
             s.update(80_000, 8, 8, false, None);
         }
         assert_eq!(s.cap(), Amps::from_num(4));
+    }
+
+    #[test]
+    fn with_cut_pulses_the_cap_steers_a_locked_frequency_finely() {
+        let lock =
+            |pulses_cut| LockState { target_hz: 35_000, at_min: false, at_max: false, pulses_cut };
+        let mut s = PulseSizer::new(Amps::from_num(4), 20e3);
+        // Long periods at light load: the cap falls an eighth a window.
+        for _ in 0..4 {
+            s.update(15_000, 3, 3, true, Some(lock(true)));
+        }
+        assert!(s.cap() < Amps::from_num(2.4));
+        // Cut pulses, too low a frequency: the cap falls by 1/32 a window
+        // (a frequency that goes as 1/cap² moves about 6 %).
+        let before = s.cap();
+        s.update(30_000, 6, 6, false, Some(lock(true)));
+        assert_eq!(s.cap(), before - before / 32);
+        // Within ±1/32 of the target it holds; above, it rises by an
+        // eighth, clear of the band's own peak.
+        let held = s.cap();
+        assert_eq!(s.update(36_000, 7, 7, false, Some(lock(true))).cap, held);
+        assert_eq!(s.update(34_000, 7, 7, false, Some(lock(true))).cap, held);
+        assert_eq!(s.update(36_500, 8, 8, false, Some(lock(true))).cap, held + held / 8);
+        // A period past 1/f_min: a full eighth down.
+        let now = s.cap();
+        assert_eq!(s.update(30_000, 6, 6, true, Some(lock(true))).cap, now - now / 8);
+        // The band, not the cap, ends the pulses: a frequency below the
+        // target with the lock not at its bound leaves the cap alone.
+        let now = s.cap();
+        assert_eq!(s.update(30_000, 6, 6, false, Some(lock(false))).cap, now);
     }
 
     #[test]
