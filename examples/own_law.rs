@@ -24,6 +24,7 @@
 //! bench supply, before trusting a law of your own.
 
 use ripplectl::law::{Conditions, Regulate};
+use ripplectl::sim::scenario::LawParams;
 use ripplectl::sim::{self, build, report, RunError, Scenario, StackFirmware, Summary};
 use ripplectl::stack::Stack;
 use ripplectl::{AdcChannel, Command, ConfigError, Gate, Instant, Law, TimerClock};
@@ -58,6 +59,8 @@ pub struct TwoBandHysteretic {
     widen_below_ticks: u32,
     half: u16,
     demand: Gate,
+    /// On comparator edges: the upper threshold is armed (else the lower).
+    upper_armed: bool,
 }
 
 impl TwoBandHysteretic {
@@ -79,23 +82,57 @@ impl TwoBandHysteretic {
             widen_below_ticks: period(cfg.widen_above_hz)?,
             half: half(cfg.wide_band_v),
             demand: Gate::Off,
+            upper_armed: false,
         })
+    }
+
+    fn lower(&self) -> u16 {
+        self.reference.saturating_sub(self.half)
+    }
+
+    fn upper(&self) -> u16 {
+        self.reference.saturating_add(self.half)
     }
 }
 
 impl Law for TwoBandHysteretic {
     fn on_sample(&mut self, code: u16, _now: Instant) -> Command {
-        if code <= self.reference.saturating_sub(self.half) {
+        if code <= self.lower() {
             self.demand = Gate::On;
-        } else if code >= self.reference.saturating_add(self.half) {
+        } else if code >= self.upper() {
             self.demand = Gate::Off;
         }
         Command::hold(self.demand)
     }
 
-    /// Sampled only: a comparator edge changes nothing.
-    fn on_edge(&mut self, _level: bool, _now: Instant) -> Command {
+    /// On a comparator's edges: `above` the armed threshold. Below the
+    /// lower one, a pulse; above the upper one, its end.
+    fn on_edge(&mut self, above: bool, _now: Instant) -> Command {
+        match (self.upper_armed, above) {
+            (true, true) => {
+                self.demand = Gate::Off;
+                self.upper_armed = false;
+            }
+            (false, false) => {
+                self.demand = Gate::On;
+                self.upper_armed = true;
+            }
+            (false, true) => self.demand = Gate::Off,
+            (true, false) => {}
+        }
         Command::hold(self.demand)
+    }
+
+    /// Any turn-off arms the lower threshold (a pulse the current limit
+    /// cut short waits for the output to fall again).
+    fn on_gate(&mut self, gate: Gate, _at: Instant) {
+        if !gate.is_on() {
+            self.upper_armed = false;
+        }
+    }
+
+    fn comparator_code(&self) -> Option<u16> {
+        Some(if self.upper_armed { self.upper() } else { self.lower() })
     }
 
     fn on_timer(&mut self, _now: Instant) -> Command {
@@ -155,19 +192,23 @@ pub fn run(scenario: &Scenario) -> Result<Summary, RunError> {
     Ok(Summary::of(&out, "two-band hysteretic", started.elapsed().as_secs_f64()))
 }
 
-/// The greenhouse rail at 24 V with 100 mA of sensors (a light load), the
-/// window only reporting long periods (the law alone sets the frequency;
-/// the demo's own light-load policy, smaller pulses, would lift the fixed
+/// The rail of `base` at `vin_v` with 100 mA of sensors (a light load),
+/// the crate's law without a frequency lock and the window only reporting
+/// long periods (the law alone sets the frequency; the default scenario's
+/// lock and its light-load policy, smaller pulses, would lift the fixed
 /// band's frequency too).
-pub fn light_load(vin_v: f64) -> Scenario {
-    let mut sc = sim::sweep::operating_point(&Scenario::default_demo(), vin_v, 0.1, 6e-3);
+pub fn light_load(base: &Scenario, vin_v: f64) -> Scenario {
+    let mut sc = sim::sweep::operating_point(base, vin_v, 0.1, 6e-3);
     sc.control.window.light_load = ripplectl::LightLoad::ReportOnly;
+    if let LawParams::Hysteretic { lock_hz, .. } = &mut sc.control.law {
+        *lock_hz = None;
+    }
     sc
 }
 
 #[allow(dead_code)]
 fn main() -> Result<(), RunError> {
-    let scenario = light_load(24.0);
+    let scenario = light_load(&Scenario::default_demo(), 24.0);
     let window = scenario.control.window;
     println!("The crate's hysteretic law, 40 mV band, at 24 V and 100 mA:");
     let plain = sim::run(&scenario)?;

@@ -74,7 +74,7 @@ fn the_slow_share_counts_time_not_cycles() {
 /// ESR-dominated stage (ESR 50 mΩ, L 220 µH, C 0.1 F), 24 V in, 1 A
 /// current-sink load, 4 ms without a disturbance.
 fn esr_loop(band_v: f64) -> Scenario {
-    let mut s = Scenario::default_demo();
+    let mut s = common::sampled_fixture();
     s.control.law =
         LawParams::AnalogRetrofit { lower_v: 5.0 - band_v / 2.0, upper_v: 5.0 + band_v / 2.0 };
     s.control.window = open_window();

@@ -9,9 +9,9 @@ use ripplectl::sim::scenario::{HystereticInput, LawParams};
 use ripplectl::sim::{self, Scenario, Summary};
 use ripplectl::WindowConfig;
 
-/// The default scenario, reshaped: constant 24 V, 2 A resistive load.
+/// The sampled test fixture (`tests/fixtures/sampled-1mhz.toml`), reshaped: constant 24 V, 2 A resistive load.
 fn steady(law: LawParams, mut tweak: impl FnMut(&mut Scenario)) -> Summary {
-    let mut s = Scenario::default_demo();
+    let mut s = common::sampled_fixture();
     s.control.law = law;
     s.control.window = open_window();
     s.input = InputProfile { points: vec![[0.0, 24.0]] };

@@ -18,12 +18,13 @@
 
 use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
 use ripplectl::law::{OnTime, OnTimeConfig};
-use ripplectl::stack::{Handlers, Stack, StackConfig, StackParts};
+use ripplectl::stack::{Handlers, Sensing, Stack, StackConfig, StackParts};
 use ripplectl::{unwrap_config, Instant};
 use std::cell::Cell;
 use std::rc::Rc;
 
-const CONFIG: StackConfig = StackConfig::demo();
+/// The demo's configuration with the law on ADC samples.
+const CONFIG: StackConfig = StackConfig { sensing: Sensing::Sampled, ..StackConfig::demo() };
 const PARTS: StackParts = unwrap_config(StackParts::new(&CONFIG));
 /// The demo's on-time law, 2.08 µs (133 ticks at 64 MHz).
 const LAW: OnTime = unwrap_config(OnTime::new(

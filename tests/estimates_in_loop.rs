@@ -9,6 +9,8 @@
 //! A peak bound relative to the peak itself could not hold in DCM: there
 //! the estimated pulse scales as 1/L, so a 10 % low L is an 11 % high peak.
 
+mod common;
+
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::{self, Scenario, Summary};
 
@@ -21,7 +23,7 @@ struct Errors {
 }
 
 fn errors(vin: f64, load_a: f64, l_factor: f32) -> Errors {
-    let base = Scenario::default_demo();
+    let base = common::sampled_fixture();
     let mut s = operating_point(&base, vin, load_a, 6e-3);
     let mut model = s.firmware_model();
     model.l_h *= l_factor;

@@ -5,18 +5,20 @@
 //! 2. `sim::run_firmware` with a firmware written here against the public
 //!    API alone, as a board's would be: the stack configured from the
 //!    crate's `const` demo configuration (`StackConfig::demo()`, what the
-//!    target proof and the firmware example flash), wired to a
-//!    `GateDriver` on the simulated pin and compare by `stack::Handlers`,
-//!    its handlers the `sim::Firmware` trait.
+//!    target proof flashes) and the hysteretic law locked to 35 kHz,
+//!    wired to a `GateDriver` on the simulated pin and compare by
+//!    `stack::Handlers`, its comparator's DAC armed after each call, its
+//!    handlers the `sim::Firmware` trait.
 //!
 //! Equal summaries (every figure, every fault, to the last bit; only the
 //! wall time differs) show that the scenario file and the `const`
 //! configuration describe the same firmware, and that a firmware outside
 //! the crate runs through the trait exactly as the crate's own does.
 
+use embedded_hal::digital::InputPin;
 use ripplectl::drive::{GateDriver, Polarity, PulseEnd};
-use ripplectl::law::{Hysteretic, HystereticConfig};
-use ripplectl::sim::peripherals::{SimPin, SimTimer};
+use ripplectl::law::{FrequencyTrim, Hysteretic, HystereticConfig};
+use ripplectl::sim::peripherals::{SimComparator, SimDac, SimPin, SimTimer};
 use ripplectl::sim::{self, Firmware, Peripherals, Scenario, Summary};
 use ripplectl::stack::{Handlers, Stack, StackConfig, StackParts};
 use ripplectl::supervisor::FaultRecord;
@@ -27,11 +29,15 @@ const PARTS: StackParts = unwrap_config(StackParts::new(&CONFIG));
 const LAW: Hysteretic = unwrap_config(Hysteretic::new(
     &HystereticConfig { setpoint_v: CONFIG.setpoint_v, band_v: 0.040 },
     &CONFIG.output_adc,
-));
+))
+.with_lock(unwrap_config(FrequencyTrim::band_lock(35_000.0, &CONFIG.clock)));
 
-/// A board's firmware: the handlers, the pin and the compare.
+/// A board's firmware: the handlers, the pin and the compare, the
+/// comparator and its DAC.
 struct Board {
     handlers: Handlers<Hysteretic, SimPin, SimTimer>,
+    dac: SimDac,
+    comparator: SimComparator,
 }
 
 impl Board {
@@ -42,29 +48,50 @@ impl Board {
             Polarity::ActiveHigh,
             PulseEnd::Hardware,
         );
-        Self { handlers: Handlers::new(Stack::new(LAW, PARTS), driver) }
+        let mut board = Self {
+            handlers: Handlers::new(Stack::new(LAW, PARTS), driver),
+            dac: p.dac(),
+            comparator: p.comparator(),
+        };
+        board.arm();
+        board
+    }
+
+    /// Arm the comparator's DAC where the law wants it.
+    fn arm(&mut self) {
+        if let Some(code) = self.handlers.comparator_code() {
+            self.dac.write(code);
+        }
     }
 }
 
 impl Firmware for Board {
     fn adc_done(&mut self, output: u16, input: u16, now: Instant) {
         let Ok(()) = self.handlers.conversion_done(output, input, now);
+        self.arm();
     }
 
     fn comparator_edge(&mut self, level: bool, now: Instant) {
         let Ok(()) = self.handlers.comparator_edge(level, now);
+        self.arm();
     }
 
     fn timer_compare(&mut self, now: Instant) {
         let Ok(()) = self.handlers.compare_fired(now);
+        self.arm();
     }
 
     fn housekeeping(&mut self, now: Instant) {
-        let Ok(()) = self.handlers.housekeeping(now, None);
+        let Ok(level) = self.comparator.is_high();
+        let Ok(()) = self.handlers.housekeeping(now, Some(level));
+        self.arm();
     }
 
     fn estimated_current_a(&self, now: Instant) -> Option<f64> {
-        Some(self.handlers.stack().current_at(now).to_num())
+        // While a handler runs, a turn-on it made is timed at its end: the
+        // estimate holds its value until then.
+        let stack = self.handlers.stack();
+        Some(stack.current_at(stack.not_before_last_event(now)).to_num())
     }
 
     fn power_estimate(&self) -> Option<(f64, f64)> {

@@ -1,11 +1,13 @@
 //! Protections in closed loop: the firmware's supervisor against the plant.
 
+mod common;
+
 use ripplectl::sim::profile::{InputProfile, Load, LoadChange};
 use ripplectl::sim::{self, RunOutput, Scenario};
 
-/// The default scenario at a constant 24 V and 1 A resistive load.
+/// The sampled test fixture (`tests/fixtures/sampled-1mhz.toml`) at a constant 24 V and 1 A resistive load.
 fn base() -> Scenario {
-    let mut s = Scenario::default_demo();
+    let mut s = common::sampled_fixture();
     s.input = InputProfile { points: vec![[0.0, 24.0]] };
     s.load = vec![LoadChange { at_s: 0.0, load: Load::Resistive { ohms: 5.0 } }];
     s

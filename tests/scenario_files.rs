@@ -43,7 +43,8 @@ fn shipped_protection_and_model_are_the_crate_demo() {
     // One set of demo values: the scenario file, and the constants the
     // benches and the target runs use.
     let s = Scenario::default_demo();
-    assert_eq!(s.firmware.protection, ripplectl::supervisor::ProtectionConfig::demo());
+    let demo = ripplectl::stack::StackConfig::demo();
+    assert_eq!(s.firmware.protection, demo.protection);
     assert_eq!(s.firmware_model(), ripplectl::estimate::InductorModel::demo());
-    assert_eq!(s.control.window, ripplectl::WindowConfig::demo());
+    assert_eq!(s.control.window, demo.window);
 }

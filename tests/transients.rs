@@ -27,7 +27,7 @@ const T_STEP: f64 = 2e-3;
 /// `T_STEP + phase_s`; ADC samples every 250 ns, so the output is observed
 /// at least that often.
 fn scenario(phase_s: f64) -> Scenario {
-    let mut s = Scenario::default_demo();
+    let mut s = common::sampled_fixture();
     s.control.law =
         LawParams::AnalogRetrofit { lower_v: VOUT - BAND / 2.0, upper_v: VOUT + BAND / 2.0 };
     s.control.window = open_window();

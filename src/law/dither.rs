@@ -17,6 +17,10 @@
 use crate::error::{attempt, within, ConfigError};
 use crate::units::{to_fixed_i64, Fraction, ONE};
 
+/// The register's seed in the simulator's scenarios (any nonzero value:
+/// each gives the same sequence from another starting point).
+pub const DITHER_SEED: u16 = 0xACE1;
+
 /// Feedback taps of the Galois register (x¹⁶ + x¹⁴ + x¹³ + x¹¹ + 1).
 const TAPS: u16 = 0xB400;
 

@@ -8,8 +8,8 @@ use super::run_control::RunControl;
 use super::scenario::{HystereticInput, LawParams, McuParams, Scenario, ScenarioError};
 use crate::estimate::{LossConfig, Steinmetz};
 use crate::law::{
-    ComparatorPassThrough, Dither, EmulatedRipple, FrequencyTrim, Hysteretic, HystereticConfig,
-    Law, OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
+    dither, ComparatorPassThrough, Dither, EmulatedRipple, FrequencyTrim, Hysteretic,
+    HystereticConfig, Law, OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
 };
 use crate::scale::{AdcChannel, TimerClock};
 use crate::stack::{Sensing, SlowPathConfig, Stack, StackConfig, StackParts};
@@ -22,17 +22,6 @@ pub const TRIM_GAIN: f32 = 0.05;
 pub const TRIM_MIN: f32 = 0.5;
 /// Highest trim factor.
 pub const TRIM_MAX: f32 = 1.5;
-/// The hysteretic frequency lock's gain per housekeeping window (demo
-/// value).
-pub const LOCK_GAIN: f32 = 0.25;
-/// Narrowest band the lock may set, a fraction of the configured band (at
-/// least one ADC code a side in any case).
-pub const LOCK_MIN: f32 = 0.125;
-/// Widest band the lock may set, a multiple of the configured band.
-pub const LOCK_MAX: f32 = 2.0;
-/// The dither register's seed (any nonzero value).
-pub const DITHER_SEED: u16 = 0xACE1;
-
 /// The scenario key a configuration parameter comes from.
 pub fn scenario_key(sc: &Scenario, parameter: &str) -> String {
     let model = if sc.firmware.model.is_some() { "firmware.model" } else { "plant" };
@@ -196,11 +185,10 @@ fn hysteretic(
     };
     let mut law = Hysteretic::new(&HystereticConfig { setpoint_v, band_v }, adc)?;
     if let Some(f) = lock_hz {
-        law = law
-            .with_lock(FrequencyTrim::named("lock_hz", f, LOCK_GAIN, LOCK_MIN, LOCK_MAX, clock)?);
+        law = law.with_lock(FrequencyTrim::band_lock(f, clock)?);
     }
     if let Some(depth) = dither_depth {
-        law = law.with_dither(Dither::new(depth, DITHER_SEED)?);
+        law = law.with_dither(Dither::new(depth, dither::DITHER_SEED)?);
     }
     Ok(law)
 }

@@ -50,7 +50,8 @@ pub fn loop_delay_s(s: &Scenario) -> f64 {
     }
 }
 
-/// The closed-form frequency for a scenario at one operating point, Hz.
+/// The closed-form frequency for a scenario at one operating point, Hz (a
+/// law that locks its mean frequency: the target).
 pub fn predicted_frequency(s: &Scenario, vin: f64, load_a: f64) -> f64 {
     if let LawParams::OnTime { on_time_s, feed_forward_hz, .. } = s.control.law {
         // With feed-forward the target; else f = D/T_on (CCM).
@@ -60,6 +61,10 @@ pub fn predicted_frequency(s: &Scenario, vin: f64, load_a: f64) -> f64 {
                 design::on_time_frequency(vin, s.control.law.setpoint_v(), f64::from(on_time_s))
             }
         };
+    }
+    if let LawParams::Hysteretic { lock_hz: Some(f), .. } = s.control.law {
+        // The lock's target (it holds the mean there within its range).
+        return f64::from(f);
     }
     let p = &s.plant;
     let vout = s.control.law.setpoint_v();

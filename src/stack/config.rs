@@ -79,12 +79,17 @@ impl StackConfig {
             output_adc: unwrap_config(AdcChannel::new(12, 3.3, 0.319_728, 0.0)),
             input_adc: unwrap_config(AdcChannel::new(12, 3.3, 0.0826, 0.0)),
             setpoint_v: 5.0,
-            sensing: Sensing::Sampled,
-            window: WindowConfig::demo(),
+            // An analog comparator's edges drive the law; the ADC reads
+            // the output and the input at 50 kHz for the protections and
+            // the estimates.
+            sensing: Sensing::Edge,
+            // A pulse the current limit ends waits 3 µs for the
+            // comparator's report of the re-armed threshold.
+            window: WindowConfig { min_off_s: 3e-6, ..WindowConfig::demo() },
             model,
-            protection: ProtectionConfig::demo(),
+            protection: ProtectionConfig { soft_start_s: 1.5e-3, ..ProtectionConfig::demo() },
             slow: SlowPathConfig {
-                housekeeping_hz: 10_000.0,
+                housekeeping_hz: 5_000.0,
                 observer_bandwidth_hz: Some(1_000.0),
                 output_capacitance_f: 220e-6,
                 dc_correction: false,

@@ -95,3 +95,19 @@ pub fn open_window() -> WindowConfig {
         light_load: LightLoad::ReportOnly,
     }
 }
+
+/// The sampled test fixture's path (`tests/fixtures/sampled-1mhz.toml`:
+/// the demo rail's hysteretic law on ADC samples at 1 MHz, no named core).
+pub const SAMPLED_FIXTURE: &str =
+    concat!(env!("CARGO_MANIFEST_DIR"), "/tests/fixtures/sampled-1mhz.toml");
+
+/// The sampled test fixture's text.
+pub fn sampled_fixture_toml() -> String {
+    std::fs::read_to_string(SAMPLED_FIXTURE).unwrap()
+}
+
+/// The sampled test fixture: the demo rail close to an ideal comparator
+/// loop, for checks of the law and the plant against closed forms.
+pub fn sampled_fixture() -> ripplectl::sim::Scenario {
+    ripplectl::sim::Scenario::from_toml(&sampled_fixture_toml()).unwrap()
+}

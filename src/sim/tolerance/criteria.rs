@@ -274,7 +274,8 @@ mod tests {
         let base = Scenario::default_demo();
         let out = crate::sim::run(&base).unwrap();
         let f = Figures::of(&Summary::of(&out, "", 0.0));
-        let v = Limits::new(Criteria::default(), &base).judge(&f);
+        let criteria = base.tolerance.map(|t| t.criteria).unwrap_or_default();
+        let v = Limits::new(criteria, &base).judge(&f);
         assert!(v.passed(), "{v:?}");
         assert!(v.margin > 0.0 && v.margin < 1.0, "{v:?}");
     }
