@@ -15,17 +15,20 @@
 //! ([`Regulate::retune`]), each half of it by the same factor, at least one
 //! code a side:
 //!
-//! - **frequency lock** ([`Hysteretic::with_lock`]): a [`FrequencyTrim`]
+//! - **frequency lock** (`Hysteretic::with_lock`, feature
+//!   `frequency-lock`): a [`FrequencyTrim`]
 //!   narrows the band when the mean period is too long and widens it when
 //!   too short, so the mean switching frequency tracks a target across
 //!   input and load (quasi-fixed-frequency hysteretic control); it holds
 //!   while the frequency window binds;
-//! - **dithering** ([`Hysteretic::with_dither`]): a [`Dither`] factor moves
+//! - **dithering** (`Hysteretic::with_dither`, feature `dither`): a
+//!   [`Dither`] factor moves
 //!   the band pseudo-randomly around its (locked) width, spreading the
 //!   switching frequency's harmonics.
 
 use super::{Command, Conditions, Dither, FrequencyTrim, Gate, Law, LockState, Regulate};
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
+use crate::part::{self, Part};
 use crate::scale::AdcChannel;
 use crate::tick::Instant;
 use crate::units::{Fraction, ONE};
@@ -77,8 +80,8 @@ pub struct Hysteretic {
     full_scale: u16,
     demand: Gate,
     armed: Threshold,
-    lock: Option<FrequencyTrim>,
-    dither: Option<Dither>,
+    lock: Part<FrequencyTrim, { part::FREQUENCY_LOCK }>,
+    dither: Part<Dither, { part::DITHER }>,
 }
 
 impl Hysteretic {
@@ -111,29 +114,32 @@ impl Hysteretic {
             full_scale: adc.full_scale_code(),
             demand: Gate::Off,
             armed: Threshold::Lower,
-            lock: None,
-            dither: None,
+            lock: Part::none(),
+            dither: Part::none(),
         })
     }
 
     /// Lock the mean switching frequency to `lock`'s target by scaling the
     /// band within `lock`'s bounds (a `const fn`; build `lock` with
-    /// [`FrequencyTrim::named`] on `lock_hz`).
+    /// [`FrequencyTrim::named`] on `lock_hz`). Feature `frequency-lock`.
+    #[cfg(feature = "frequency-lock")]
     pub const fn with_lock(mut self, lock: FrequencyTrim) -> Self {
-        self.lock = Some(lock);
+        self.lock = Part::some(lock);
         self
     }
 
     /// Dither the band once per housekeeping window (a `const fn`).
+    /// Feature `dither`.
+    #[cfg(feature = "dither")]
     pub const fn with_dither(mut self, dither: Dither) -> Self {
-        self.dither = Some(dither);
+        self.dither = Part::some(dither);
         self
     }
 
     /// The frequency lock's integrator, if any (its trim is the band's
     /// scale now; [`Regulate::frequency_lock`] gives its state).
     pub const fn frequency_trim(&self) -> Option<&FrequencyTrim> {
-        self.lock.as_ref()
+        self.lock.get()
     }
 
     /// Full width of the band now, ADC codes (upper − lower threshold
@@ -259,22 +265,22 @@ impl Regulate for Hysteretic {
     /// The frequency lock's update and the dither's next draw, applied to
     /// the band; nothing without either.
     fn retune(&mut self, c: &Conditions) {
-        if self.lock.is_none() && self.dither.is_none() {
+        if !self.lock.is_some() && !self.dither.is_some() {
             return;
         }
-        let mut factor = match self.lock.as_mut() {
+        let mut factor = match self.lock.get_mut() {
             // A period past 1/f_min: narrow the band by a full step.
             Some(lock) if c.long_period => lock.step_down(),
             Some(lock) => lock.update(c.cycles, c.period_ticks, c.window_binding),
             None => ONE,
         };
-        if let Some(d) = self.dither.as_mut() {
+        if let Some(d) = self.dither.get_mut() {
             factor = ((u64::from(factor) * u64::from(d.draw())) >> 16) as Fraction;
         }
         self.scale_band(factor);
     }
 
     fn frequency_lock(&self) -> Option<LockState> {
-        self.lock.as_ref().map(FrequencyTrim::state)
+        self.lock.get().map(FrequencyTrim::state)
     }
 }

@@ -176,7 +176,9 @@ impl<L: Law + Regulate, const LOG: usize> Stack<L, LOG> {
             vin: r.vin,
             vout: r.vout,
             f_sw_hz: r.phases.f_sw_hz,
+            #[cfg(feature = "loss-model")]
             losses: r.losses,
+            #[cfg(feature = "loss-model")]
             efficiency: r.losses.efficiency(),
             clamps: *self.supervisor.inner().counts(),
         }
