@@ -123,3 +123,35 @@ impl<T: defmt::Format + Copy, const N: usize> defmt::Format for Part<T, N> {
         defmt::write!(f, "{}", self.get())
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_part_left_out_is_refused_on_its_parameter_and_takes_no_room() {
+        let absent = Part::<u32, 0>::new(Some(7), "observer_bandwidth_hz", "observer");
+        assert_eq!(
+            absent,
+            Err(ConfigError::new("observer_bandwidth_hz", ErrorKind::NotBuilt("observer")))
+        );
+        let e = absent.unwrap_err();
+        assert_eq!(
+            e.to_string(),
+            "`observer_bandwidth_hz` asks for a part this build leaves out: turn on the crate feature `observer`"
+        );
+        let none = Part::<u32, 0>::new(None, "observer_bandwidth_hz", "observer").unwrap();
+        assert_eq!(none.get(), None);
+        assert_eq!(core::mem::size_of::<Part<[u32; 20], 0>>(), 0);
+    }
+
+    #[test]
+    fn a_part_built_holds_what_it_was_given() {
+        let mut p = Part::<u32, 1>::new(Some(7), "p", "f").unwrap();
+        assert_eq!(p.get(), Some(&7));
+        *p.get_mut().unwrap() += 1;
+        assert_eq!(p.get(), Some(&8));
+        assert!(!Part::<u32, 1>::none().is_some());
+        assert_eq!(format!("{p:?}"), "Some(8)");
+    }
+}
