@@ -87,6 +87,10 @@ struct Averaged {
     r_on: Ohms,
     r_off: Ohms,
     freewheel: Volts,
+    // INPUT_STEADY_V in input codes × 2¹⁶.
+    input_steady: u32,
+    last_vin: u32,
+    hold: u8,
 }
 
 /// The slow path's latest figures.
@@ -117,10 +121,6 @@ pub struct SlowPath {
     losses: Part<LossModel, { part::LOSS_MODEL }>,
     averaged: Part<Averaged, { part::OBSERVER }>,
     dc: Part<DcCorrection, { part::DC_CORRECTION }>,
-    // INPUT_STEADY_V in input codes × 2¹⁶.
-    input_steady: u32,
-    last_vin: u32,
-    hold: u8,
     // The window limits' clamp counts that mark the window as binding
     // (minimum period, maximum on-time), summed (wrapping)
     // at the last window: a change means one of them acted since.
@@ -152,8 +152,9 @@ impl SlowPath {
         light: LightLoadSettings,
     ) -> Result<Self, ConfigError> {
         let hz = attempt!(positive("housekeeping_hz", cfg.housekeeping_hz as f64));
+        let steady = (vin.span_codes(INPUT_STEADY_V as f64) * 65_536.0) as u32;
         let averaged = match cfg.observer_bandwidth_hz {
-            Some(bw) => Some(attempt!(averaged(bw, hz, cfg.output_capacitance_f, model))),
+            Some(bw) => Some(attempt!(averaged(bw, hz, cfg.output_capacitance_f, model, steady))),
             None => None,
         };
         let dc = if cfg.dc_correction {
@@ -165,17 +166,13 @@ impl SlowPath {
             LightLoad::SmallerPulses => Some(PulseSizer::new(light.current_limit, light.f_min_hz)),
             _ => None,
         };
-        let steady = vin.span_codes(INPUT_STEADY_V as f64) * 65_536.0;
         Ok(Self {
             vout: CodeVolts::new(vout),
             vin: CodeVolts::new(vin),
             losses: Part::some(attempt!(LossModel::new(&cfg.losses, clock))),
             averaged: attempt!(Part::new(averaged, "observer_bandwidth_hz", "observer")),
             dc: attempt!(Part::new(dc, "dc_correction", "dc-correction")),
-            input_steady: steady as u32,
             sizer: attempt!(Part::new(sizer, "light_load", "light-load")),
-            last_vin: 0,
-            hold: OBSERVER_HOLD,
             binding_before: 0,
             slow_before: 0,
             report: SlowReport {
@@ -228,7 +225,6 @@ impl SlowPath {
     ) {
         let vin = self.vin.volts_q16(vin_q16);
         let vout = self.vout.volts_q16(sup.output_average());
-        self.note_input(vin_q16);
         self.report.vin = vin;
         self.report.vout = vout;
         self.report.phases = *phases;
@@ -238,15 +234,7 @@ impl SlowPath {
         }
         let regulating = sup.state() == State::Regulating;
         self.regulate(sup, phases, vin, vout, regulating);
-        self.observe(sup.estimator_mut(), phases, vin, vout, regulating);
-    }
-
-    /// Hold the observer's correction for a few windows after the input
-    /// moved.
-    fn note_input(&mut self, vin_q16: u32) {
-        let moved = vin_q16.abs_diff(self.last_vin) > self.input_steady;
-        self.last_vin = vin_q16;
-        self.hold = if moved { OBSERVER_HOLD } else { self.hold.saturating_sub(1) };
+        self.observe(sup.estimator_mut(), phases, (vin_q16, vin), vout, regulating);
     }
 
     /// Retune the law and trim the reference, while regulating.
@@ -293,17 +281,19 @@ impl SlowPath {
         }
     }
 
-    /// Step the observer and blend the estimate's DC level toward it.
+    /// Step the observer and blend the estimate's DC level toward it;
+    /// `vin` the input's mean code × 2¹⁶ and in volts.
     fn observe(
         &mut self,
         est: &mut CurrentEstimator,
         phases: &Phases,
-        vin: Volts,
+        (vin_q16, vin): (u32, Volts),
         vout: Volts,
         regulating: bool,
     ) {
         self.report.observer_current = None;
         let Some(a) = self.averaged.get_mut() else { return };
+        a.note_input(vin_q16);
         let average = phases.average();
         if phases.cycles == 0 || !regulating {
             a.observer.reset(average, vout, average);
@@ -312,7 +302,7 @@ impl SlowPath {
         let i_obs = a.step(phases, vin, vout);
         self.report.observer_current = Some(i_obs);
         // CCM only: DCM anchors the estimate at zero every cycle.
-        if phases.dcm_cycles == 0 && self.hold == 0 {
+        if phases.dcm_cycles == 0 && a.hold == 0 {
             let gap = i_obs.saturating_sub(average);
             est.shift(scale(gap, OBSERVER_BLEND));
         }
@@ -328,6 +318,14 @@ fn binding_clamps(c: &ClampCounts) -> u32 {
 }
 
 impl Averaged {
+    /// Hold the observer's correction for a few windows after the input
+    /// moved.
+    fn note_input(&mut self, vin_q16: u32) {
+        let moved = vin_q16.abs_diff(self.last_vin) > self.input_steady;
+        self.last_vin = vin_q16;
+        self.hold = if moved { OBSERVER_HOLD } else { self.hold.saturating_sub(1) };
+    }
+
     /// One observer step from the window's duty and voltages.
     fn step(&mut self, p: &Phases, vin: Volts, vout: Volts) -> Amps {
         // Whole cycles only: a window cutting cycles would swing the duty.
@@ -345,12 +343,14 @@ impl Averaged {
     }
 }
 
-/// The observer for `model` at `bandwidth_hz`, updated at `hz`.
+/// The observer for `model` at `bandwidth_hz`, updated at `hz`; `steady`
+/// is [`INPUT_STEADY_V`] in input codes × 2¹⁶.
 const fn averaged(
     bandwidth_hz: f32,
     hz: f64,
     c_f: f32,
     model: &InductorModel,
+    steady: u32,
 ) -> Result<Averaged, ConfigError> {
     let period_s = (1.0 / hz) as f32;
     let r_on = model.on_resistance();
@@ -369,5 +369,8 @@ const fn averaged(
         r_on: q16(r_on as f64),
         r_off: q16(r_off as f64),
         freewheel: q16(model.freewheel_v() as f64),
+        input_steady: steady,
+        last_vin: 0,
+        hold: OBSERVER_HOLD,
     })
 }
