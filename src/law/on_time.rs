@@ -182,6 +182,11 @@ impl OnTime {
         }
     }
 
+    /// The reference (the valley), ADC code.
+    pub const fn reference_code(&self) -> u16 {
+        self.reference
+    }
+
     /// The on-time, ticks.
     pub const fn on_ticks(&self) -> u32 {
         self.on_ticks
@@ -298,7 +303,7 @@ impl Law for OnTime {
 
 impl Regulate for OnTime {
     fn reference_code(&self) -> u16 {
-        self.reference
+        OnTime::reference_code(self)
     }
 
     fn set_reference(&mut self, code: u16) {

@@ -5,7 +5,11 @@
 //! ripple): `Handlers` around the hysteretic stack (law and guard,
 //! supervisor, current estimator) driving a gate driver, every interrupt
 //! handler's body, the comparator's code and telemetry; a four-entry fault
-//! log ([`FAULT_LOG`]). Built with `--features minimal` alone (`run.sh`).
+//! log ([`FAULT_LOG`]). The firmware is a `static` the compiler
+//! initialises (`Stack::with_reference`, `GateDriver::before_start`): no
+//! constructor runs at start-up, the runtime copies its image with the
+//! rest of `.data`, and the firmware drives the gate off once before the
+//! first event. Built with `--features minimal` alone (`run.sh`).
 #![no_std]
 #![no_main]
 
@@ -13,12 +17,13 @@
 compile_error!("size_stack_minimal measures the stack without optional parts: build it with `--features minimal` alone");
 
 use panic_halt as _;
+use ripplectl::drive::{GateDriver, Polarity, PulseEnd};
 use ripplectl::guard::LightLoad;
 use ripplectl::law::Hysteretic;
 use ripplectl::stack::{Handlers, SlowPathConfig, Stack, StackConfig, StackParts};
 use ripplectl::{unwrap_config, WindowConfig};
 use ripplectl_target::arch::entry;
-use ripplectl_target::board::{driver, event, halt, output, Compare, Pin};
+use ripplectl_target::board::{event, halt, output, Compare, Pin};
 use ripplectl_target::singleton;
 use ripplectl_target::{CONFIG, FAULT_LOG, HYSTERETIC};
 
@@ -33,11 +38,14 @@ const PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
 
 #[entry]
 fn main() -> ! {
-    let Some(fw) = singleton!(: Handlers<Hysteretic, Pin, Compare, FAULT_LOG> =
-        Handlers::new(Stack::with_fault_log(HYSTERETIC, PARTS), driver()))
-    else {
+    let Some(fw) = singleton!(: Handlers<Hysteretic, Pin, Compare, FAULT_LOG> = const
+    Handlers::new(
+        Stack::with_reference(HYSTERETIC, PARTS, HYSTERETIC.reference_code()),
+        GateDriver::before_start(Pin, Compare, Polarity::ActiveLow, PulseEnd::Hardware),
+    )) else {
         halt()
     };
+    let Ok(()) = fw.shut_down();
     loop {
         let e = event();
         let Ok(()) = match e.which & 3 {
