@@ -79,8 +79,10 @@ impl<T: Copy, const N: usize> Part<T, N> {
         }
     }
 
-    /// `part`, for a builder method that only exists with the feature on
-    /// (so `N` is 1 there).
+    /// `part` where its feature is on, nothing where it is off: for a
+    /// builder method that only exists with the feature (`N` is 1 there),
+    /// and for a part every configuration describes (the loss model: its
+    /// settings checked either way, kept only with the feature).
     pub(crate) const fn some(part: T) -> Self {
         let mut slot = [None; N];
         if let Some(s) = slot.first_mut() {
