@@ -118,6 +118,16 @@ impl<P: OutputPin, T: OneShot> GateDriver<P, T> {
         Ok(driver)
     }
 
+    /// [`new`](Self::new) in a `const` context, for a driver held in a
+    /// `static` initialised by the compiler: touches no hardware, so the
+    /// firmware calls [`shut_down`](Self::shut_down) once at start-up,
+    /// before the first interrupt, to drive the gate off and disarm the
+    /// timer (until then the board's gate pull-down must hold the switch
+    /// off, as it does through reset).
+    pub const fn before_start(pin: P, timer: T, polarity: Polarity, pulse_end: PulseEnd) -> Self {
+        Self { pin, timer, polarity, pulse_end, gate: Gate::Off, armed_end: None }
+    }
+
     /// The gate as last driven.
     pub const fn gate(&self) -> Gate {
         self.gate

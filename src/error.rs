@@ -58,6 +58,9 @@ pub enum ErrorKind {
     /// The output's own ripple is too small for a plain valley on-time loop
     /// (`ESR·C` not above half the on-time): configure emulated ripple.
     RippleTooSmall,
+    /// Asks for an optional part that this build leaves out: turn on the
+    /// crate feature named here (see the crate docs, *Optional parts*).
+    NotBuilt(&'static str),
 }
 
 impl ErrorKind {
@@ -76,6 +79,7 @@ impl ErrorKind {
                 "leaves the inductor current unobservable from the output voltage"
             }
             Self::RippleTooSmall => "gives too little ripple for a plain valley loop (ESR·C below half the on-time): configure emulated ripple",
+            Self::NotBuilt(_) => "asks for a part this build leaves out: turn on the crate feature",
         }
     }
 }
@@ -109,7 +113,7 @@ impl ConfigError {
         let mut buf = [b' '; 192];
         let mut n = 0;
         let other = match self.kind {
-            ErrorKind::NotBelow(o) | ErrorKind::NotAbove(o) => o,
+            ErrorKind::NotBelow(o) | ErrorKind::NotAbove(o) | ErrorKind::NotBuilt(o) => o,
             _ => "",
         };
         let parts = [self.parameter, ": ", self.kind.phrase(), " ", other];
@@ -136,7 +140,9 @@ impl fmt::Display for ErrorKind {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(self.phrase())?;
         match *self {
-            Self::NotBelow(other) | Self::NotAbove(other) => write!(f, " `{other}`"),
+            Self::NotBelow(other) | Self::NotAbove(other) | Self::NotBuilt(other) => {
+                write!(f, " `{other}`")
+            }
             Self::OutOfRange { min, max } => write!(f, " [{min}, {max}]"),
             _ => Ok(()),
         }

@@ -37,6 +37,27 @@
 //! Configuration is checked once; a refused value gives a [`ConfigError`]
 //! naming the parameter, never a panic or a silent clamp.
 //!
+//! ## Optional parts (cargo features)
+//!
+//! Parts a firmware may do without are cargo features, all on by default
+//! (`std` implies them) and all off under `default-features = false`, so
+//! that a firmware names what it links: `all-parts`, or any of
+//! `loss-model` (the efficiency estimate), `observer`, `dc-correction`,
+//! `light-load` (smaller pulses at light load), `feed-forward` and
+//! `frequency-lock` (the on-time law's feed-forward and trim; the lock is
+//! also the hysteretic law's), `dither` and `emulated-ripple`. A part left
+//! out takes no flash and no RAM; a configuration that asks for it is
+//! refused on its parameter ([`ErrorKind::NotBuilt`], naming the feature),
+//! a build error in a `const` item; the laws' builder methods of a part
+//! left out (`with_lock`, `with_feed_forward`, ...) do not exist. The
+//! fast path, the guard, the supervisor and the current estimator are
+//! always built.
+//!
+//! ```toml
+//! # A hysteretic firmware on a small Cortex-M0+: no optional part.
+//! ripplectl = { version = "0.1", default-features = false }
+//! ```
+//!
 //! ## Safety
 //!
 //! Firmware control of a power stage can burn, shock and destroy loads. Power
@@ -55,6 +76,7 @@ pub mod estimate;
 pub mod guard;
 pub mod law;
 pub mod math;
+mod part;
 pub mod reference;
 pub mod scale;
 pub mod stack;

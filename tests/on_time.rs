@@ -5,9 +5,7 @@ mod common;
 
 use common::{cases, ideal_adc};
 use proptest::prelude::*;
-use ripplectl::law::{
-    DcCorrection, FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward, Regulate,
-};
+use ripplectl::law::{DcCorrection, FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward};
 use ripplectl::reference::OnTimeModel;
 use ripplectl::units::{Volts, ONE};
 use ripplectl::{AdcChannel, ConfigError, ErrorKind, Gate, Instant, Law, TimerClock};

@@ -15,19 +15,22 @@
 //! ([`Regulate::retune`]), each half of it by the same factor, at least one
 //! code a side:
 //!
-//! - **frequency lock** ([`Hysteretic::with_lock`]): a [`FrequencyTrim`]
+//! - **frequency lock** (`Hysteretic::with_lock`, feature
+//!   `frequency-lock`): a [`FrequencyTrim`]
 //!   narrows the band when the mean period is too long and widens it when
 //!   too short, so the mean switching frequency tracks a target across
 //!   input and load (quasi-fixed-frequency hysteretic control); it holds
 //!   while the frequency window binds, and while pulses are cut short
 //!   (the light-load cap sets the frequency then, see
 //!   [`stack`](crate::stack));
-//! - **dithering** ([`Hysteretic::with_dither`]): a [`Dither`] factor moves
+//! - **dithering** (`Hysteretic::with_dither`, feature `dither`): a
+//!   [`Dither`] factor moves
 //!   the band pseudo-randomly around its (locked) width, spreading the
 //!   switching frequency's harmonics.
 
 use super::{Command, Conditions, Dither, FrequencyTrim, Gate, Law, LockState, Regulate};
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
+use crate::part::{self, Part};
 use crate::scale::AdcChannel;
 use crate::tick::Instant;
 use crate::units::{Fraction, ONE};
@@ -79,8 +82,8 @@ pub struct Hysteretic {
     full_scale: u16,
     demand: Gate,
     armed: Threshold,
-    lock: Option<FrequencyTrim>,
-    dither: Option<Dither>,
+    lock: Part<FrequencyTrim, { part::FREQUENCY_LOCK }>,
+    dither: Part<Dither, { part::DITHER }>,
     /// A pulse was cut short since the last retune.
     cut_since_retune: bool,
     /// One was in the window the last retune closed.
@@ -117,8 +120,8 @@ impl Hysteretic {
             full_scale: adc.full_scale_code(),
             demand: Gate::Off,
             armed: Threshold::Lower,
-            lock: None,
-            dither: None,
+            lock: Part::none(),
+            dither: Part::none(),
             cut_since_retune: false,
             cut_in_window: false,
         })
@@ -126,22 +129,25 @@ impl Hysteretic {
 
     /// Lock the mean switching frequency to `lock`'s target by scaling the
     /// band within `lock`'s bounds (a `const fn`; build `lock` with
-    /// [`FrequencyTrim::named`] on `lock_hz`).
+    /// [`FrequencyTrim::named`] on `lock_hz`). Feature `frequency-lock`.
+    #[cfg(feature = "frequency-lock")]
     pub const fn with_lock(mut self, lock: FrequencyTrim) -> Self {
-        self.lock = Some(lock);
+        self.lock = Part::some(lock);
         self
     }
 
     /// Dither the band once per housekeeping window (a `const fn`).
+    /// Feature `dither`.
+    #[cfg(feature = "dither")]
     pub const fn with_dither(mut self, dither: Dither) -> Self {
-        self.dither = Some(dither);
+        self.dither = Part::some(dither);
         self
     }
 
     /// The frequency lock's integrator, if any (its trim is the band's
     /// scale now; [`Regulate::frequency_lock`] gives its state).
     pub const fn frequency_trim(&self) -> Option<&FrequencyTrim> {
-        self.lock.as_ref()
+        self.lock.get()
     }
 
     /// Full width of the band now, ADC codes (upper − lower threshold
@@ -299,10 +305,10 @@ impl Regulate for Hysteretic {
     /// the band; nothing without either.
     fn retune(&mut self, c: &Conditions) {
         self.cut_in_window = core::mem::take(&mut self.cut_since_retune);
-        if self.lock.is_none() && self.dither.is_none() {
+        if !self.lock.is_some() && !self.dither.is_some() {
             return;
         }
-        let mut factor = match self.lock.as_mut() {
+        let mut factor = match self.lock.get_mut() {
             // Pulses cut short: the band did not end them, hold.
             Some(lock) if self.cut_in_window => lock.trim(),
             // A period past 1/f_min: narrow the band by a full step.
@@ -310,7 +316,7 @@ impl Regulate for Hysteretic {
             Some(lock) => lock.update(c.cycles, c.period_ticks, c.window_binding),
             None => ONE,
         };
-        if let Some(d) = self.dither.as_mut() {
+        if let Some(d) = self.dither.get_mut() {
             factor = ((u64::from(factor) * u64::from(d.draw())) >> 16) as Fraction;
         }
         self.scale_band(factor);
@@ -318,6 +324,6 @@ impl Regulate for Hysteretic {
 
     fn frequency_lock(&self) -> Option<LockState> {
         let pulses_cut = self.cut_in_window;
-        self.lock.as_ref().map(|lock| LockState { pulses_cut, ..lock.state() })
+        self.lock.get().map(|lock| LockState { pulses_cut, ..lock.state() })
     }
 }

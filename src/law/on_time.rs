@@ -21,6 +21,7 @@ use super::{
     Regulate,
 };
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
+use crate::part::{self, Part};
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
 use crate::units::ONE;
@@ -56,11 +57,11 @@ pub struct OnTime {
     // Edge input: the comparator's last level said the output is below
     // the reference (an on-time that ends there asks for the next at once).
     below: bool,
-    ripple: Option<EmulatedRipple>,
+    ripple: Part<EmulatedRipple, { part::EMULATED_RIPPLE }>,
     ripple_peak: u32,
     predicted: Option<Instant>,
-    feed_forward: Option<OnTimeFeedForward>,
-    trim: Option<FrequencyTrim>,
+    feed_forward: Part<OnTimeFeedForward, { part::FEED_FORWARD }>,
+    trim: Part<FrequencyTrim, { part::FREQUENCY_LOCK }>,
 }
 
 impl OnTime {
@@ -86,41 +87,45 @@ impl OnTime {
             off_since: Instant(0),
             demand: Gate::Off,
             below: false,
-            ripple: None,
+            ripple: Part::none(),
             ripple_peak: 0,
             predicted: None,
-            feed_forward: None,
-            trim: None,
+            feed_forward: Part::none(),
+            trim: Part::none(),
         })
     }
 
-    /// Add emulated ripple (configuration).
+    /// Add emulated ripple (configuration). Feature `emulated-ripple`.
+    #[cfg(feature = "emulated-ripple")]
     pub const fn with_emulated_ripple(mut self, ripple: EmulatedRipple) -> Self {
-        self.ripple = Some(ripple);
+        self.ripple = Part::some(ripple);
         self
     }
 
     /// Add input feed-forward of the on-time (configuration); the slow path
-    /// applies it in [`Regulate::retune`].
+    /// applies it in [`Regulate::retune`]. Feature `feed-forward`.
+    #[cfg(feature = "feed-forward")]
     pub const fn with_feed_forward(mut self, feed_forward: OnTimeFeedForward) -> Self {
-        self.feed_forward = Some(feed_forward);
+        self.feed_forward = Part::some(feed_forward);
         self
     }
 
     /// Add a frequency trim of the feed-forward on-time (configuration).
+    /// Feature `frequency-lock`.
+    #[cfg(feature = "frequency-lock")]
     pub const fn with_trim(mut self, trim: FrequencyTrim) -> Self {
-        self.trim = Some(trim);
+        self.trim = Part::some(trim);
         self
     }
 
     /// The emulated ripple, mutable.
     pub fn emulated_ripple_mut(&mut self) -> Option<&mut EmulatedRipple> {
-        self.ripple.as_mut()
+        self.ripple.get_mut()
     }
 
     /// The frequency trim, if configured.
     pub const fn frequency_trim(&self) -> Option<&FrequencyTrim> {
-        self.trim.as_ref()
+        self.trim.get()
     }
 
     /// Whether the plain valley loop (no emulated ripple) is stable with an
@@ -155,7 +160,7 @@ impl OnTime {
     /// The emulated ramp now, 2⁻¹⁶ codes (fast path: one multiply).
     #[inline(always)]
     fn emulated_q16(&self, now: Instant) -> u32 {
-        let Some(r) = self.ripple else { return 0 };
+        let Some(&r) = self.ripple.get() else { return 0 };
         if self.gate_on {
             r.rise(now.ticks_since(self.on_since))
         } else {
@@ -175,6 +180,11 @@ impl OnTime {
         } else {
             self.predicted = r.crossing_in(sensed - reference).map(|t| now.after(t));
         }
+    }
+
+    /// The reference (the valley), ADC code.
+    pub const fn reference_code(&self) -> u16 {
+        self.reference
     }
 
     /// The on-time, ticks.
@@ -215,7 +225,7 @@ impl Law for OnTime {
         if self.gate_on {
             return self.command(now);
         }
-        let Some(r) = self.ripple else {
+        let Some(&r) = self.ripple.get() else {
             // The plain valley compare; nothing is ever predicted.
             if code <= self.reference {
                 self.demand = Gate::On;
@@ -263,7 +273,8 @@ impl Law for OnTime {
             self.predicted = None;
         } else {
             if self.gate_on {
-                self.ripple_peak = self.ripple.map_or(0, |r| r.rise(at.ticks_since(self.on_since)));
+                self.ripple_peak =
+                    self.ripple.get().map_or(0, |r| r.rise(at.ticks_since(self.on_since)));
             }
             self.gate_on = false;
             self.off_since = at;
@@ -292,7 +303,7 @@ impl Law for OnTime {
 
 impl Regulate for OnTime {
     fn reference_code(&self) -> u16 {
-        self.reference
+        OnTime::reference_code(self)
     }
 
     fn set_reference(&mut self, code: u16) {
@@ -302,18 +313,18 @@ impl Regulate for OnTime {
     /// Feed-forward of the on-time from the window's mean input (times the
     /// frequency trim), and the emulated ripple's duty.
     fn frequency_lock(&self) -> Option<LockState> {
-        self.trim.as_ref().map(FrequencyTrim::state)
+        self.trim.get().map(FrequencyTrim::state)
     }
 
     fn retune(&mut self, c: &Conditions) {
-        let trim = match self.trim.as_mut() {
+        let trim = match self.trim.get_mut() {
             Some(t) => t.update(c.cycles, c.period_ticks, c.window_binding || c.long_period),
             None => ONE,
         };
-        if let Some(ff) = self.feed_forward {
+        if let Some(&ff) = self.feed_forward.get() {
             self.set_on_ticks(ff.on_ticks(c.vin, trim));
         }
-        if let Some(r) = self.ripple.as_mut() {
+        if let Some(r) = self.ripple.get_mut() {
             r.follow(c.vout, c.vin);
         }
     }

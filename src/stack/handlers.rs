@@ -39,8 +39,9 @@ pub struct Handlers<L, P, T, const LOG: usize = FAULT_LOG_LEN> {
 }
 
 impl<L: Law + Regulate, P: OutputPin, T: OneShot, const LOG: usize> Handlers<L, P, T, LOG> {
-    /// Wire `stack` to `driver` (whose gate starts off).
-    pub fn new(stack: Stack<L, LOG>, driver: GateDriver<P, T>) -> Self {
+    /// Wire `stack` to `driver` (whose gate starts off; a `const fn`, for
+    /// a `static` the compiler initialises, see [`Stack::with_reference`]).
+    pub const fn new(stack: Stack<L, LOG>, driver: GateDriver<P, T>) -> Self {
         Self { stack, driver }
     }
 

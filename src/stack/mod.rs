@@ -66,9 +66,47 @@ impl<L: Law + Regulate, const LOG: usize> Stack<L, LOG> {
     /// the type names (`Stack::<MyLaw, 4>::with_fault_log(law, parts)`, or
     /// as the receiving type says).
     pub fn with_fault_log(law: L, parts: StackParts) -> Self {
+        let reference = law.reference_code();
+        Self::with_reference(law, parts, reference)
+    }
+
+    /// [`with_fault_log`](Stack::with_fault_log) in a `const` context,
+    /// where the law cannot be asked for its reference: `reference` must
+    /// be `law`'s [`reference_code`](Regulate::reference_code) (the
+    /// soft-start's target). A firmware whose stack is a `static`
+    /// initialised by the compiler, with its driver
+    /// ([`GateDriver::before_start`](crate::drive::GateDriver::before_start)),
+    /// runs no constructor at start-up: the runtime copies the image with
+    /// the rest of `.data`.
+    ///
+    /// ```
+    /// use ripplectl::law::{Hysteretic, HystereticConfig};
+    /// use ripplectl::stack::{Stack, StackConfig, StackParts};
+    /// use ripplectl::unwrap_config;
+    ///
+    /// const CONFIG: StackConfig = StackConfig::demo();
+    /// const LAW: Hysteretic = unwrap_config(Hysteretic::new(
+    ///     &HystereticConfig { setpoint_v: CONFIG.setpoint_v, band_v: 0.04 },
+    ///     &CONFIG.output_adc,
+    /// ));
+    /// const PARTS: StackParts = unwrap_config(StackParts::new(&CONFIG));
+    /// static STACK: Stack<Hysteretic, 4> =
+    ///     Stack::with_reference(LAW, PARTS, LAW.reference_code());
+    /// # assert_eq!(STACK.supervisor().state(), ripplectl::supervisor::State::Off);
+    /// # assert_eq!(format!("{:?}", STACK), format!("{:?}", Stack::<_, 4>::with_fault_log(LAW, PARTS)));
+    /// ```
+    pub const fn with_reference(law: L, parts: StackParts, reference: u16) -> Self {
         let guard = FrequencyGuard::new(law, parts.window);
+        // The guard's minimum on-time: what `min_on_ticks` answers.
+        let blanking = parts.window.min_on;
         Self {
-            supervisor: Supervisor::with_fault_log(guard, parts.estimator, parts.limits),
+            supervisor: Supervisor::with_setpoint(
+                guard,
+                parts.estimator,
+                parts.limits,
+                reference,
+                blanking,
+            ),
             slow: parts.slow,
             sensing: parts.sensing,
         }
@@ -176,7 +214,9 @@ impl<L: Law + Regulate, const LOG: usize> Stack<L, LOG> {
             vin: r.vin,
             vout: r.vout,
             f_sw_hz: r.phases.f_sw_hz,
+            #[cfg(feature = "loss-model")]
             losses: r.losses,
+            #[cfg(feature = "loss-model")]
             efficiency: r.losses.efficiency(),
             clamps: *self.supervisor.inner().counts(),
         }

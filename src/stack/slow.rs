@@ -11,17 +11,20 @@
 //!    toward it (CCM only; held while the input moves).
 //!
 //! Integer arithmetic only: a core without an FPU links no float code for
-//! it. Configuration (`SlowPath::new`, called by
+//! it. The loss model, the observer, the DC correction and the light-load
+//! sizer are optional parts (cargo features `loss-model`, `observer`,
+//! `dc-correction`, `light-load`): a build without one links none of its
+//! code and keeps none of its state. Configuration (`SlowPath::new`, called by
 //! [`StackParts::new`](super::StackParts::new)) is a `const fn`.
 
 use super::light_load::PulseSizer;
 use crate::error::{attempt, positive, ConfigError};
 use crate::estimate::{
-    Amps, CurrentEstimator, InductorModel, LossBreakdown, LossConfig, LossModel, Observer,
-    ObserverConfig, Phases,
+    Amps, CurrentEstimator, InductorModel, LossConfig, LossModel, Observer, ObserverConfig, Phases,
 };
 use crate::guard::{ClampCounts, LightLoad};
 use crate::law::{Conditions, DcCorrection, Law, Regulate};
+use crate::part::{self, Part};
 use crate::scale::{AdcChannel, TimerClock};
 use crate::supervisor::{State, Supervisor};
 use crate::units::{q16, scale, CodeVolts, Fraction, Ohms, Volts, ONE};
@@ -51,13 +54,16 @@ pub const DC_LIMIT_CODES: f32 = 40.0;
 pub struct SlowPathConfig {
     /// Housekeeping rate, Hz (1–20 kHz is typical).
     pub housekeeping_hz: f32,
-    /// The averaged-model observer's bandwidth, Hz; `None`: no observer.
+    /// The averaged-model observer's bandwidth, Hz; `None`: no observer
+    /// (`Some` needs the feature `observer`).
     pub observer_bandwidth_hz: Option<f32>,
     /// Output capacitance the observer's model uses, F.
     pub output_capacitance_f: f32,
-    /// Trim the reference so the mean output sits at the setpoint.
+    /// Trim the reference so the mean output sits at the setpoint (`true`
+    /// needs the feature `dc-correction`).
     pub dc_correction: bool,
-    /// The loss model behind the efficiency estimate.
+    /// The loss model behind the efficiency estimate: checked always, kept
+    /// and run with the feature `loss-model` only.
     pub losses: LossConfig,
 }
 
@@ -81,6 +87,10 @@ struct Averaged {
     r_on: Ohms,
     r_off: Ohms,
     freewheel: Volts,
+    // INPUT_STEADY_V in input codes × 2¹⁶.
+    input_steady: u32,
+    last_vin: u32,
+    hold: u8,
 }
 
 /// The slow path's latest figures.
@@ -93,8 +103,10 @@ pub struct SlowReport {
     pub vout: Volts,
     /// The window's phases (cycles, frequency, peak, valley, duty).
     pub phases: Phases,
-    /// Model-based loss breakdown over the last window.
-    pub losses: LossBreakdown,
+    /// Model-based loss breakdown over the last window (feature
+    /// `loss-model`).
+    #[cfg(feature = "loss-model")]
+    pub losses: crate::estimate::LossBreakdown,
     /// The observer's inductor current (`None` without an observer, or
     /// while it is reset: not regulating, no cycles).
     pub observer_current: Option<Amps>,
@@ -106,21 +118,17 @@ pub struct SlowReport {
 pub struct SlowPath {
     vout: CodeVolts,
     vin: CodeVolts,
-    losses: LossModel,
-    averaged: Option<Averaged>,
-    dc: Option<DcCorrection>,
-    // INPUT_STEADY_V in input codes × 2¹⁶.
-    input_steady: u32,
-    last_vin: u32,
-    hold: u8,
+    losses: Part<LossModel, { part::LOSS_MODEL }>,
+    averaged: Part<Averaged, { part::OBSERVER }>,
+    dc: Part<DcCorrection, { part::DC_CORRECTION }>,
     // The window limits' clamp counts that mark the window as binding
     // (minimum period, maximum on-time), summed (wrapping)
     // at the last window: a change means one of them acted since.
     binding_before: u32,
     // The slow-period count at the last window.
     slow_before: u32,
-    // `Some` under `LightLoad::SmallerPulses`.
-    sizer: Option<PulseSizer>,
+    // Present under `LightLoad::SmallerPulses`.
+    sizer: Part<PulseSizer, { part::LIGHT_LOAD }>,
     report: SlowReport,
 }
 
@@ -130,7 +138,10 @@ impl SlowPath {
     ///
     /// Errors: `housekeeping_hz` or `output_capacitance_f` not positive;
     /// those of [`Observer::new`], [`LossModel::new`] and
-    /// [`DcCorrection::new`].
+    /// [`DcCorrection::new`]; an observer (`observer_bandwidth_hz`), DC
+    /// correction (`dc_correction`) or smaller pulses at light load
+    /// (`light_load`) asked for in a build without its feature
+    /// ([`ErrorKind::NotBuilt`](crate::ErrorKind::NotBuilt)).
     pub(super) const fn new(
         cfg: &SlowPathConfig,
         model: &InductorModel,
@@ -141,8 +152,9 @@ impl SlowPath {
         light: LightLoadSettings,
     ) -> Result<Self, ConfigError> {
         let hz = attempt!(positive("housekeeping_hz", cfg.housekeeping_hz as f64));
+        let steady = (vin.span_codes(INPUT_STEADY_V as f64) * 65_536.0) as u32;
         let averaged = match cfg.observer_bandwidth_hz {
-            Some(bw) => Some(attempt!(averaged(bw, hz, cfg.output_capacitance_f, model))),
+            Some(bw) => Some(attempt!(averaged(bw, hz, cfg.output_capacitance_f, model, steady))),
             None => None,
         };
         let dc = if cfg.dc_correction {
@@ -150,22 +162,17 @@ impl SlowPath {
         } else {
             None
         };
-        let steady = vin.span_codes(INPUT_STEADY_V as f64) * 65_536.0;
+        let sizer = match light.policy {
+            LightLoad::SmallerPulses => Some(PulseSizer::new(light.current_limit, light.f_min_hz)),
+            _ => None,
+        };
         Ok(Self {
             vout: CodeVolts::new(vout),
             vin: CodeVolts::new(vin),
-            losses: attempt!(LossModel::new(&cfg.losses, clock)),
-            averaged,
-            dc,
-            input_steady: steady as u32,
-            sizer: match light.policy {
-                LightLoad::SmallerPulses => {
-                    Some(PulseSizer::new(light.current_limit, light.f_min_hz))
-                }
-                _ => None,
-            },
-            last_vin: 0,
-            hold: OBSERVER_HOLD,
+            losses: Part::some(attempt!(LossModel::new(&cfg.losses, clock))),
+            averaged: attempt!(Part::new(averaged, "observer_bandwidth_hz", "observer")),
+            dc: attempt!(Part::new(dc, "dc_correction", "dc-correction")),
+            sizer: attempt!(Part::new(sizer, "light_load", "light-load")),
             binding_before: 0,
             slow_before: 0,
             report: SlowReport {
@@ -182,7 +189,8 @@ impl SlowPath {
                     duty: 0,
                     off_fraction: 0,
                 },
-                losses: LossBreakdown {
+                #[cfg(feature = "loss-model")]
+                losses: crate::estimate::LossBreakdown {
                     output: Volts::ZERO,
                     switch: Volts::ZERO,
                     diode: Volts::ZERO,
@@ -217,22 +225,16 @@ impl SlowPath {
     ) {
         let vin = self.vin.volts_q16(vin_q16);
         let vout = self.vout.volts_q16(sup.output_average());
-        self.note_input(vin_q16);
         self.report.vin = vin;
         self.report.vout = vout;
         self.report.phases = *phases;
-        self.report.losses = self.losses.evaluate(phases, vin, vout);
+        #[cfg(feature = "loss-model")]
+        if let Some(model) = self.losses.get() {
+            self.report.losses = model.evaluate(phases, vin, vout);
+        }
         let regulating = sup.state() == State::Regulating;
         self.regulate(sup, phases, vin, vout, regulating);
-        self.observe(sup.estimator_mut(), phases, vin, vout, regulating);
-    }
-
-    /// Hold the observer's correction for a few windows after the input
-    /// moved.
-    fn note_input(&mut self, vin_q16: u32) {
-        let moved = vin_q16.abs_diff(self.last_vin) > self.input_steady;
-        self.last_vin = vin_q16;
-        self.hold = if moved { OBSERVER_HOLD } else { self.hold.saturating_sub(1) };
+        self.observe(sup.estimator_mut(), phases, (vin_q16, vin), vout, regulating);
     }
 
     /// Retune the law and trim the reference, while regulating.
@@ -250,15 +252,15 @@ impl SlowPath {
         let slow_before = core::mem::replace(&mut self.slow_before, counts.slow_periods);
         let slow = counts.slow_periods != slow_before;
         if !regulating {
-            if let Some(dc) = self.dc.as_mut() {
+            if let Some(dc) = self.dc.get_mut() {
                 dc.reset();
             }
-            if let Some(sizer) = self.sizer.as_mut() {
+            if let Some(sizer) = self.sizer.get_mut() {
                 sizer.reset();
             }
             return;
         }
-        if let Some(sizer) = self.sizer.as_mut() {
+        if let Some(sizer) = self.sizer.get_mut() {
             let lock = sup.inner().frequency_lock();
             let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow, lock);
             sup.set_pulse_cap(size.cap);
@@ -273,23 +275,25 @@ impl SlowPath {
             long_period: slow,
         };
         sup.inner_mut().retune(&conditions);
-        if let Some(dc) = self.dc.as_mut() {
+        if let Some(dc) = self.dc.get_mut() {
             let mean = sup.output_average();
             dc.update(mean, sup.inner_mut());
         }
     }
 
-    /// Step the observer and blend the estimate's DC level toward it.
+    /// Step the observer and blend the estimate's DC level toward it;
+    /// `vin` the input's mean code × 2¹⁶ and in volts.
     fn observe(
         &mut self,
         est: &mut CurrentEstimator,
         phases: &Phases,
-        vin: Volts,
+        (vin_q16, vin): (u32, Volts),
         vout: Volts,
         regulating: bool,
     ) {
         self.report.observer_current = None;
-        let Some(a) = self.averaged.as_mut() else { return };
+        let Some(a) = self.averaged.get_mut() else { return };
+        a.note_input(vin_q16);
         let average = phases.average();
         if phases.cycles == 0 || !regulating {
             a.observer.reset(average, vout, average);
@@ -298,7 +302,7 @@ impl SlowPath {
         let i_obs = a.step(phases, vin, vout);
         self.report.observer_current = Some(i_obs);
         // CCM only: DCM anchors the estimate at zero every cycle.
-        if phases.dcm_cycles == 0 && self.hold == 0 {
+        if phases.dcm_cycles == 0 && a.hold == 0 {
             let gap = i_obs.saturating_sub(average);
             est.shift(scale(gap, OBSERVER_BLEND));
         }
@@ -314,6 +318,14 @@ fn binding_clamps(c: &ClampCounts) -> u32 {
 }
 
 impl Averaged {
+    /// Hold the observer's correction for a few windows after the input
+    /// moved.
+    fn note_input(&mut self, vin_q16: u32) {
+        let moved = vin_q16.abs_diff(self.last_vin) > self.input_steady;
+        self.last_vin = vin_q16;
+        self.hold = if moved { OBSERVER_HOLD } else { self.hold.saturating_sub(1) };
+    }
+
     /// One observer step from the window's duty and voltages.
     fn step(&mut self, p: &Phases, vin: Volts, vout: Volts) -> Amps {
         // Whole cycles only: a window cutting cycles would swing the duty.
@@ -331,12 +343,14 @@ impl Averaged {
     }
 }
 
-/// The observer for `model` at `bandwidth_hz`, updated at `hz`.
+/// The observer for `model` at `bandwidth_hz`, updated at `hz`; `steady`
+/// is [`INPUT_STEADY_V`] in input codes × 2¹⁶.
 const fn averaged(
     bandwidth_hz: f32,
     hz: f64,
     c_f: f32,
     model: &InductorModel,
+    steady: u32,
 ) -> Result<Averaged, ConfigError> {
     let period_s = (1.0 / hz) as f32;
     let r_on = model.on_resistance();
@@ -355,5 +369,8 @@ const fn averaged(
         r_on: q16(r_on as f64),
         r_off: q16(r_off as f64),
         freewheel: q16(model.freewheel_v() as f64),
+        input_steady: steady,
+        last_vin: 0,
+        hold: OBSERVER_HOLD,
     })
 }

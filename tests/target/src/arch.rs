@@ -15,6 +15,11 @@ pub use riscv_rt::entry;
 /// (`None` when this call site already made it), in a critical section
 /// (each core's runtime crate provides it).
 ///
+/// `singleton!(: T = const expr)`: the same for an `expr` the compiler
+/// evaluates: the value is the static's initial image in `.data`, which
+/// the runtime copies at reset with the rest of `.data`; nothing is built
+/// at run time.
+///
 /// The state is a `MaybeUninit` and a flag, all zeros before the first
 /// call, so it lives in `.bss`, as `cortex_m::singleton!` (which this
 /// follows) has it. The `riscv` crate's `singleton!` keeps an `Option`,
@@ -23,6 +28,20 @@ pub use riscv_rt::entry;
 /// `stack` probe) and a copy at start-up.
 #[macro_export]
 macro_rules! singleton {
+    (: $ty:ty = const $expr:expr) => {
+        $crate::arch::critical_section::with(|_| {
+            static mut VAR: ($ty, bool) = ($expr, false);
+            // SAFETY: inside the critical section nothing else reaches
+            // `VAR`, and the flag hands its value out once.
+            let var = unsafe { &mut *::core::ptr::addr_of_mut!(VAR) };
+            if var.1 {
+                None
+            } else {
+                var.1 = true;
+                Some(&mut var.0)
+            }
+        })
+    };
     (: $ty:ty = $expr:expr) => {
         $crate::arch::critical_section::with(|_| {
             static mut VAR: (::core::mem::MaybeUninit<$ty>, bool) =

@@ -8,11 +8,16 @@
 //! it: no float code on the target); the `CONFIG` operation runs the same
 //! constructors at run time on the core, so the soft-float configuration
 //! path is checked bit for bit too.
+//!
+//! Everything here but the demo's plain parts needs the crate's optional
+//! parts (feature `parts`); the `minimal` build, for the size probe of the
+//! stack without them, has the board, the runtime and those plain parts.
 #![no_std]
+#![cfg_attr(not(feature = "parts"), allow(unused))]
 
-#[cfg(feature = "target")]
+#[cfg(feature = "runtime")]
 pub mod arch;
-#[cfg(feature = "target")]
+#[cfg(feature = "runtime")]
 pub mod board;
 
 use core::hint::black_box;
@@ -76,15 +81,18 @@ pub mod op {
 /// it: evaluated by the compiler.
 pub const CONFIG: StackConfig = StackConfig::demo();
 
+#[cfg(feature = "parts")]
 /// The demo stack's parts.
 pub const PARTS: StackParts = unwrap_config(StackParts::new(&CONFIG));
 
+#[cfg(feature = "parts")]
 /// The on-time stack's parts: the demo with DC correction.
 pub const COT_PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
     slow: SlowPathConfig { dc_correction: true, ..CONFIG.slow },
     ..CONFIG
 }));
 
+#[cfg(feature = "parts")]
 /// The demo stack's parts with an edge-driven law (an analog comparator
 /// whose threshold the law arms; the ADC's readings serve the protections).
 pub const EDGE_PARTS: StackParts =
@@ -109,6 +117,7 @@ pub const PLAIN_ON_TIME: OnTime = unwrap_config(OnTime::new(
     &CONFIG.clock,
 ));
 
+#[cfg(feature = "parts")]
 /// The demo's on-time law with feed-forward to 100 kHz and its trim.
 pub const ON_TIME: OnTime = PLAIN_ON_TIME
     .with_feed_forward(unwrap_config(OnTimeFeedForward::new(
@@ -131,6 +140,7 @@ pub const FAULT_LOG: usize = 4;
 /// 12 bits at 3.3 V: 24·0.0826/(3.3/4096) = 2460.6).
 pub const VIN_24V: u16 = 2461;
 
+#[cfg(feature = "parts")]
 /// The demo's firmware objects.
 pub struct Rig {
     /// Hysteretic law inside the guard.
@@ -162,6 +172,7 @@ fn state_code(s: State) -> u32 {
     }
 }
 
+#[cfg(feature = "parts")]
 /// A fast-path call of a stack: its command (none: gate bit 3 set) and
 /// state.
 fn stack_words<L: Law + Regulate>(s: &Stack<L>, c: Option<Command>) -> [u32; WORDS_OUT] {
@@ -172,6 +183,7 @@ fn stack_words<L: Law + Regulate>(s: &Stack<L>, c: Option<Command>) -> [u32; WOR
     }
 }
 
+#[cfg(feature = "parts")]
 /// A housekeeping tick of a stack: state, reference, the on-time (0 for
 /// a law without one), and a hash of the slow path's figures.
 fn housekeeping_words<L: Law + Regulate>(
@@ -200,6 +212,7 @@ fn housekeeping_words<L: Law + Regulate>(
     ]
 }
 
+#[cfg(feature = "parts")]
 impl Rig {
     /// Build the demo objects from the `const` configuration.
     pub fn demo() -> Self {
@@ -296,6 +309,7 @@ pub fn word(bytes: &[u8], i: usize) -> u32 {
     }
 }
 
+#[cfg(feature = "parts")]
 /// Replay a vector file on a fresh [`Rig`]: `(calls, mismatches)`, or
 /// `None` for a malformed file.
 pub fn replay(bytes: &[u8]) -> Option<(u32, u32)> {
