@@ -12,7 +12,7 @@
 mod common;
 
 use ripplectl::sim::sweep::operating_point;
-use ripplectl::sim::{self, Scenario, Summary};
+use ripplectl::sim::{self, Summary};
 
 const FULL_LOAD_A: f64 = 2.0;
 
