@@ -471,8 +471,9 @@ pub(crate) mod tests {
     use super::*;
     use ripplectl::unwrap_config;
 
-    /// The crate's demo board (`StackConfig::demo()`), as a C firmware
-    /// writes it: the same values as that function's source.
+    /// The crate's demo board (`StackConfig::demo()`) with its law on ADC
+    /// samples (the target proof's sampled stacks), as a C firmware writes
+    /// it: the same values as that function's source.
     pub(crate) fn demo() -> Config {
         Config {
             clock_hz: 64_000_000,
@@ -495,7 +496,7 @@ pub(crate) mod tests {
                 f_min_hz: 20_000.0,
                 f_max_hz: 140_000.0,
                 min_on_s: 150e-9,
-                min_off_s: 300e-9,
+                min_off_s: 3e-6,
                 max_on_s: 40e-6,
                 light_load: RIPPLECTL_LIGHT_LOAD_SMALLER_PULSES,
             },
@@ -517,14 +518,14 @@ pub(crate) mod tests {
                 current_limit_a: 4.0,
                 short_cycles: 8,
                 hiccup_s: 2e-3,
-                soft_start_s: 1e-3,
+                soft_start_s: 1.5e-3,
                 stuck_low_v: 0.3,
                 stuck_implied_v: 2.0,
                 stuck_cycles: 3,
                 max_retries: 3,
             },
             slow: SlowSettings {
-                housekeeping_hz: 10_000.0,
+                housekeeping_hz: 5_000.0,
                 observer_bandwidth_hz: 1_000.0,
                 output_capacitance_f: 220e-6,
                 dc_correction: false,
@@ -547,8 +548,9 @@ pub(crate) mod tests {
 
     #[test]
     fn the_demo_in_c_is_the_crates_demo() {
-        assert_eq!(demo().stack_config().unwrap(), StackConfig::demo());
-        let parts = unwrap_config(StackParts::new(&StackConfig::demo()));
+        let sampled = StackConfig { sensing: Sensing::Sampled, ..StackConfig::demo() };
+        assert_eq!(demo().stack_config().unwrap(), sampled);
+        let parts = unwrap_config(StackParts::new(&sampled));
         assert_eq!(demo().check().unwrap().parts, parts);
     }
 

@@ -16,7 +16,7 @@
         /* 20 kHz (above the audible band) to 140 kHz (below the 150 kHz  \
          * where CISPR 32's conducted limits begin). */                        \
         .window = {.f_min_hz = 20000.0f, .f_max_hz = 140000.0f,               \
-                   .min_on_s = 150e-9f, .min_off_s = 300e-9f,                  \
+                   .min_on_s = 150e-9f, .min_off_s = 3e-6f,                     \
                    .max_on_s = 40e-6f,                                         \
                    .light_load = RIPPLECTL_LIGHT_LOAD_SMALLER_PULSES},         \
         /* 47 uH with 30 mOhm DCR, 60 mOhm switch plus 50 mOhm of wiring, a \
@@ -27,12 +27,12 @@
                        .vin_max_v = 36.0f, .vin_max_hysteresis_v = 1.0f,       \
                        .ovp_v = 5.5f, .current_limit_a = 4.0f,                 \
                        .short_cycles = 8, .hiccup_s = 2e-3f,                   \
-                       .soft_start_s = 1e-3f, .stuck_low_v = 0.3f,             \
+                       .soft_start_s = 1.5e-3f, .stuck_low_v = 0.3f,             \
                        .stuck_implied_v = 2.0f, .stuck_cycles = 3,             \
                        .max_retries = 3},                                      \
         /* 220 uF with 40 mOhm ESR; a MnZn ferrite drum core (Steinmetz     \
          * coefficients typical of the material, from memory). */             \
-        .slow = {.housekeeping_hz = 10000.0f, .observer_bandwidth_hz = 1000.0f, \
+        .slow = {.housekeeping_hz = 5000.0f,  .observer_bandwidth_hz = 1000.0f, \
                  .output_capacitance_f = 220e-6f,                              \
                  .dc_correction = (DC_CORRECTION), .esr_ohm = 0.040f,          \
                  .t_rise_s = 20e-9f, .t_fall_s = 20e-9f,                       \

@@ -1,7 +1,8 @@
 /* The crate's demo board as a C firmware configures it: the greenhouse
  * valve rail (24 V bus, 18-32 V, to 5 V / 2 A) on a 64 MHz timer with a
- * 12-bit, 3.3 V ADC, housekeeping at 10 kHz; StackConfig::demo() in the
- * crate's src/stack/config.rs, field for field. Demo values throughout: a
+ * 12-bit, 3.3 V ADC, housekeeping at 5 kHz; StackConfig::demo() in the
+ * crate's src/stack/config.rs with its law on ADC samples, field for
+ * field. Demo values throughout: a
  * board needs its own. */
 #ifndef DEMO_BOARD_H
 #define DEMO_BOARD_H

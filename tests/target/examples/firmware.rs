@@ -12,7 +12,7 @@
 //!       handlers.conversion_done → stack.on_conversion → driver.apply
 //!   timer compare ─▶ timer_compare()
 //!       handlers.compare_fired → driver.compare_fired, stack.on_timer → driver.apply
-//!   SysTick, 10 kHz ─▶ SysTick()
+//!   SysTick,  5 kHz ─▶ SysTick()
 //!       handlers.housekeeping → stack.housekeeping (UVLO, soft-start,
 //!       hiccup, losses, feed-forward and trim, DC correction, observer)
 //! ```
@@ -48,12 +48,13 @@ use embedded_hal::digital::{ErrorType, OutputPin};
 use panic_halt as _;
 use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
 use ripplectl::law::{FrequencyTrim, OnTime, OnTimeConfig, OnTimeFeedForward};
-use ripplectl::stack::{Handlers, SlowPathConfig, Stack, StackConfig, StackParts};
+use ripplectl::stack::{Handlers, Sensing, SlowPathConfig, Stack, StackConfig, StackParts};
 use ripplectl::{unwrap_config, Instant};
 
-/// The board: the crate's demo, with DC correction on. A field out of
-/// range fails the build with its name.
+/// The board: the crate's demo, with the on-time law on ADC samples and
+/// DC correction on. A field out of range fails the build with its name.
 const CONFIG: StackConfig = StackConfig {
+    sensing: Sensing::Sampled,
     slow: SlowPathConfig { dc_correction: true, ..StackConfig::demo().slow },
     ..StackConfig::demo()
 };
@@ -161,7 +162,7 @@ unsafe fn DefaultHandler(irqn: i16) {
     }
 }
 
-/// Housekeeping at 10 kHz: the whole slow path.
+/// Housekeeping at 5 kHz: the whole slow path.
 #[exception]
 fn SysTick() {
     interrupt::free(|cs| {

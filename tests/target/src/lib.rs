@@ -78,8 +78,10 @@ pub mod op {
 }
 
 /// The demo board (the simulator's default scenario), as a firmware holds
-/// it: evaluated by the compiler.
-pub const CONFIG: StackConfig = StackConfig::demo();
+/// it: evaluated by the compiler; with the law on ADC samples for the
+/// sampled stacks (the edge stack below takes the demo's own comparator
+/// wiring back).
+pub const CONFIG: StackConfig = StackConfig { sensing: Sensing::Sampled, ..StackConfig::demo() };
 
 #[cfg(feature = "parts")]
 /// The demo stack's parts.
