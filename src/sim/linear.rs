@@ -178,6 +178,15 @@ impl Solution {
         &self.system
     }
 
+    /// The fastest rate of the homogeneous response, 1/s: the larger
+    /// eigenvalue magnitude (coupled), `|g|` (held; zero for a constant).
+    pub fn fastest_rate(&self) -> f64 {
+        match &self.form {
+            Form::Coupled(c) => c.radius,
+            Form::Held { g } => g.abs(),
+        }
+    }
+
     /// The trajectory from state `x0` at time `tau0`.
     #[inline]
     pub fn start_at(&self, x0: Vec2, tau0: f64) -> Trajectory<'_> {
@@ -442,6 +451,20 @@ impl Followed<'_> {
         let d = self.solution.flow_rate(&f);
         let [_, beta, gamma, delta, epsilon] = self.terms;
         (self.combine(&f, t), beta + gamma * d.p + delta * d.q + epsilon * d.r)
+    }
+
+    /// The value, rate and curvature (second time derivative) `t` after
+    /// the start.
+    pub fn value_rate_curvature(&self, t: f64) -> [f64; 3] {
+        let f = self.solution.flow(t);
+        let d = self.solution.flow_rate(&f);
+        let dd = self.solution.flow_rate(&d);
+        let [_, beta, gamma, delta, epsilon] = self.terms;
+        [
+            self.combine(&f, t),
+            beta + gamma * d.p + delta * d.q + epsilon * d.r,
+            gamma * dd.p + delta * dd.q + epsilon * dd.r,
+        ]
     }
 
     fn combine(&self, f: &Flow, t: f64) -> f64 {

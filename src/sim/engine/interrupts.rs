@@ -36,6 +36,7 @@ impl<F: Firmware> Engine<F> {
     /// timer read at its pin write reads that end (its outputs take effect
     /// then). Returns the end, for [`handler_ran`](Self::handler_ran).
     fn start_handler(&mut self, handler: Handler) -> u64 {
+        self.knot_before();
         let end = self.cpu.run_fast(handler, self.tick);
         self.set_handler_clock(end);
         self.peripherals.stage();
@@ -147,7 +148,7 @@ impl<F: Firmware> Engine<F> {
             self.cpu.merge(Handler::Housekeeping);
             return;
         }
-        self.catch_up();
+        self.knot_before();
         let now = self.now();
         // The core is the tick's until it ends, preempted by the fast
         // handlers; its pin writes (a stop, a start on the comparator's
@@ -159,7 +160,7 @@ impl<F: Firmware> Engine<F> {
         self.firmware.housekeeping(now);
         self.after_handler();
         if let Some((output_w, input_w)) = self.firmware.power_estimate() {
-            self.recorder.estimate(self.t_s(), output_w, input_w);
+            self.recorder.estimate(self.tick as f64 * self.tick_s, output_w, input_w);
         }
     }
 
@@ -170,10 +171,10 @@ impl<F: Firmware> Engine<F> {
             return;
         }
         self.schedule.next_sample += self.sample_period;
-        self.catch_up();
-        let output = self.adc.convert_output(self.plant.v_out(), self.tick);
+        let (v_out, v_in) = self.voltages_at_tick();
+        let output = self.adc.convert_output(v_out, self.tick);
         // The input is scanned in the same sequence.
-        let input = self.adc.convert_input(self.plant.vin_v());
+        let input = self.adc.convert_input(v_in);
         let done = self.tick + self.conversion_ticks + self.latency_ticks;
         if self.schedule.conversion.is_some() {
             // The last result was never read: overwritten.

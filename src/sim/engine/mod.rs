@@ -32,7 +32,7 @@ use super::firmware::Firmware;
 use super::hardware::{sensed_input_channel, sensed_output_channel, true_clock_hz};
 use super::mcu::{Adc, Comparator, ComparatorSource};
 use super::peripherals::Peripherals;
-use super::plant::{EnergyLedger, Plant, Stage};
+use super::plant::{Ahead, EnergyLedger, Plant, Stage};
 use super::profile::Profile;
 use super::record::Recorder;
 use super::run_control::{RunControl, CHECK_EVERY};
@@ -120,10 +120,15 @@ struct Engine<F> {
     /// Microcontroller time: the tick being dispatched.
     tick: u64,
     /// Plant time: `plant_tick` ticks plus `frac` seconds. The plant lags
-    /// the microcontroller when nothing needed it (sampled mode), and is
-    /// caught up before it is read or switched.
+    /// the microcontroller: it is moved where an event falls or something
+    /// changes it.
     plant_tick: u64,
     frac: f64,
+    /// How far ahead of the plant it has been scanned for events, and its
+    /// state there.
+    scanned: Ahead,
+    /// The firmware's estimate at this tick was given to the recorder.
+    knot_at_tick: bool,
     gate: bool,
     sample_period: u64,
     conversion_ticks: u64,
@@ -182,8 +187,8 @@ pub fn run_firmware_with<F: Firmware>(
         }
         let target = engine.next_event();
         engine.tick = if engine.comparator.exists() {
-            // A comparator may fire inside the interval: solve eagerly.
-            engine.advance_plant(target)
+            // A comparator may fire inside the interval: look ahead first.
+            engine.watch_until(target)
         } else {
             target
         };
@@ -276,6 +281,8 @@ impl<F: Firmware> Engine<F> {
             tick: 0,
             plant_tick: 0,
             frac: 0.0,
+            scanned: Ahead { t: 0.0, x: [sc.initial_inductor_a, sc.initial_output_v] },
+            knot_at_tick: false,
             gate: false,
             sample_period: ticks(1.0 / sc.mcu.sample_rate_hz, hz).max(1),
             conversion_ticks: ticks(sc.mcu.conversion_s, hz),
@@ -326,6 +333,27 @@ impl<F: Firmware> Engine<F> {
 
     /// Handle every event due at the current tick.
     fn dispatch(&mut self) {
+        self.knot_at_tick = false;
+        self.dispatch_events();
+        if self.knot_at_tick {
+            let t_s = self.tick as f64 * self.tick_s;
+            self.recorder.estimate_after(t_s, self.estimate_now());
+        }
+    }
+
+    /// The firmware's estimate at the tick before its handlers, once per
+    /// tick, where a handler runs or the plant is moved to the tick (the
+    /// estimate is straight between such ticks); the value after the
+    /// handlers follows in [`dispatch`](Self::dispatch).
+    fn knot_before(&mut self) {
+        if !self.knot_at_tick {
+            let e = self.estimate_now();
+            self.recorder.estimate_knot(self.tick as f64 * self.tick_s, e, e);
+            self.knot_at_tick = true;
+        }
+    }
+
+    fn dispatch_events(&mut self) {
         if self.schedule.next_profile_tick() <= self.tick {
             self.profile_breakpoints();
             self.window_edges();

@@ -21,24 +21,49 @@
 //! | `conduction` | conduction modes and the linear system of each |
 //! | `energy` | the energy ledger and its loss table |
 //! | `events` | DCM zero-crossings, band edges, output levels, on the closed form |
+//! | `scan` | the first of them in an interval ahead, without moving the plant |
 
 mod conduction;
 mod energy;
 mod events;
 mod params;
 mod saturation;
+mod scan;
 
 pub use conduction::Conduction;
 pub use energy::{EnergyLedger, Loss};
 pub use events::{Stop, Watch};
 pub use params::{CoreLoss, Environment, PlantParams, Stage};
 pub use saturation::Saturation;
+pub use scan::{Ahead, Scan};
 
-use crate::sim::linear::{Affine, Vec2};
+use crate::sim::linear::{Affine, Trajectory, Vec2};
 use conduction::{output_map, Solutions};
 use energy::{Integrals, PowerModel};
 use events::Segment;
 use saturation::TOP_BAND;
+
+/// The longest panel of [`Plant::advance_to`], as a fraction of the time
+/// constant of the fastest response (`1/ρ`, `ρ` the larger eigenvalue
+/// magnitude; 6 µs for the demo stage). The energies' corrected Simpson
+/// rule errs as the panel's seventh power, the record's quadratics as its
+/// third (see [`crate::sim::quadratic`]).
+pub const PANEL_OF_FASTEST: f64 = 1.0 / 16.0;
+
+/// A stretch of the plant's motion, for the recorder: where it starts (`τ`
+/// since the environment was set), how long it is, the states
+/// `[i_L, v_C]` at its start, middle and end, and the output voltage there.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Panel {
+    /// Start, s of `τ`.
+    pub tau0: f64,
+    /// Length, s.
+    pub h: f64,
+    /// States at the start, middle and end.
+    pub states: [Vec2; 3],
+    /// Output voltage at the start, middle and end, V.
+    pub vo: [f64; 3],
+}
 
 /// The converter's power stage.
 #[derive(Clone, Debug)]
@@ -249,6 +274,71 @@ impl Plant {
         stop
     }
 
+    /// Move the plant `dt` on, an interval [`scan`](Self::scan) found free
+    /// of events: the energies by Simpson's rule on panels of at most
+    /// [`PANEL_OF_FASTEST`] of the fastest response's time constant, each
+    /// panel handed to `record`.
+    pub fn advance_to(&mut self, dt: f64, record: &mut impl FnMut(&Panel)) {
+        if dt <= 0.0 {
+            return;
+        }
+        let longest = PANEL_OF_FASTEST / self.solutions.at(self.solution).fastest_rate();
+        let n = (dt / longest).ceil().clamp(1.0, f64::from(u32::MAX));
+        let h = dt / n;
+        let mut done = 0.0;
+        for k in 1..=n as u32 {
+            // The last panel ends exactly at `dt`.
+            let step = if f64::from(k) == n { dt - done } else { h };
+            let x0 = self.x;
+            let trajectory = self.solutions.at(self.solution).start_at(x0, self.tau);
+            let (mid, end) = trajectory.midpoint_and_end(step);
+            self.accumulate_corrected(step, [&x0, &mid, &end]);
+            let tau0 = self.tau;
+            let vo = [
+                self.output.value(&x0, tau0),
+                self.output.value(&mid, tau0 + 0.5 * step),
+                self.output.value(&end, tau0 + step),
+            ];
+            record(&Panel { tau0, h: step, states: [x0, mid, end], vo });
+            self.x = end;
+            self.tau += step;
+            done += step;
+        }
+    }
+
+    /// Act on an event [`scan`](Self::scan) found, once the plant has been
+    /// moved to it: idle at a DCM zero, the next band past a band edge
+    /// (`heading`: the state the scan saw beyond it). A crossing changes
+    /// nothing here.
+    pub fn take_event(&mut self, stop: Stop, heading: &Vec2) {
+        match stop {
+            Stop::CurrentZero(_) => self.set_mode(Conduction::Idle),
+            Stop::BandEdge(_) => self.enter_band_past_edge(heading[0]),
+            Stop::Reached | Stop::Crossing(_) => {}
+        }
+    }
+
+    /// The state `t` ahead of the plant's time on the present solution (the
+    /// plant does not move).
+    pub fn state_ahead(&self, t: f64) -> Vec2 {
+        self.trajectory().at(t)
+    }
+
+    /// The source voltage `t` ahead of the plant's time, V.
+    pub fn vin_ahead(&self, t: f64) -> f64 {
+        self.env.vin_at(self.tau + t)
+    }
+
+    /// The output voltage in state `x`, `t` ahead of the plant's time, V.
+    pub fn v_out_of(&self, x: &Vec2, t: f64) -> f64 {
+        self.output.value(x, self.tau + t)
+    }
+
+    /// The trajectory from the plant's state and time.
+    fn trajectory(&self) -> Trajectory<'_> {
+        self.solutions.at(self.solution).start_at(self.x, self.tau)
+    }
+
     /// The solution for the present mode, band and environment.
     fn prepare(&mut self) {
         self.solution = self.solutions.prepare(&self.params, &self.env, self.mode, self.band);
@@ -271,6 +361,30 @@ impl Plant {
         let b = model.at(end[0], end[1], self.tau + dt);
         self.energy.add(&model, &Integrals::simpson(dt, &start, &m, &b));
         self.end_integrands = Some(b);
+    }
+
+    /// [`accumulate`](Self::accumulate) by the corrected rule (its error
+    /// falls as the panel's seventh power), for the panels of
+    /// [`advance_to`](Self::advance_to).
+    fn accumulate_corrected(&mut self, dt: f64, [x0, mid, end]: [&Vec2; 3]) {
+        let model = PowerModel {
+            params: &self.params,
+            env: &self.env,
+            output: &self.output,
+            mode: self.mode,
+        };
+        let system = self.solutions.at(self.solution).system();
+        let (t0, t1) = (self.tau, self.tau + dt);
+        let (a, m, b) = (
+            model.at(x0[0], x0[1], t0),
+            model.at(mid[0], mid[1], t0 + 0.5 * dt),
+            model.at(end[0], end[1], t1),
+        );
+        let sign = if mid[0] < 0.0 { -1.0 } else { 1.0 };
+        let rate_a = model.rate(x0, &system.rate(x0, t0), t0, sign);
+        let rate_b = model.rate(end, &system.rate(end, t1), t1, sign);
+        self.energy.add(&model, &Integrals::corrected_simpson(dt, [&a, &m, &b], &rate_a, &rate_b));
+        self.end_integrands = None;
     }
 
     /// After stopping at a band edge, step into the band the current was
