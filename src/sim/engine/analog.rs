@@ -14,7 +14,7 @@ use super::Engine;
 use crate::sim::cpu::Handler;
 use crate::sim::firmware::Firmware;
 use crate::sim::linear::Vec2;
-use crate::sim::plant::{Conduction, Stage, Stop};
+use crate::sim::plant::{Ahead, Conduction, Stage, Stop};
 use crate::sim::record::Observation;
 use crate::tick::Instant;
 
@@ -37,39 +37,60 @@ impl<F: Firmware> Engine<F> {
     }
 
     /// Look ahead of the plant up to `target` for a comparator crossing, a
-    /// DCM zero or a band edge, moving the plant to each one found; returns
+    /// DCM zero or a band edge, moving the plant to each DCM zero or band
+    /// edge found (a crossing changes the comparator, not the plant); returns
     /// the tick the loop may go to (earlier than `target` when a crossing's
-    /// interrupt comes first).
+    /// interrupt comes first). One scan looks up to
+    /// [`Plant::lookahead_s`](crate::sim::plant::Plant::lookahead_s) ahead
+    /// and keeps what it found, so the events before it cost no scan.
     pub(super) fn watch_until(&mut self, mut target: u64) -> u64 {
         while self.plant_tick < target {
             let to = self.ahead_to(target);
-            if to <= self.scanned.t {
-                break;
-            }
-            let scan = self.plant.scan(self.scanned, to, self.comparator.watch());
-            let Some((t, stop)) = scan.event else {
-                self.scanned = scan.end;
-                break;
+            let (t, stop) = match self.found {
+                Some((t, _)) if t > to => break,
+                Some(found) => found,
+                None if to <= self.scanned.t => break,
+                None => {
+                    let horizon = to.max(self.scanned.t + self.plant.lookahead_s());
+                    let scan = self.plant.scan(self.scanned, horizon, self.comparator.watch());
+                    match scan.event {
+                        None => self.scanned = scan.end,
+                        found => self.found = found,
+                    }
+                    continue;
+                }
             };
-            // The firmware's estimate there: its state holds since the
-            // last event.
-            let at = self.plant_instant_ahead(t);
-            let e = self.estimate_at(at);
-            self.recorder.estimate_knot(self.t_s() + t, e, e);
-            self.move_plant(t);
-            self.frac += t;
-            self.plant.take_event(stop, &scan.end.x);
-            self.scanned = self.plant.ahead(0.0);
+            self.found = None;
             if let Stop::Crossing(_) = stop {
+                // Nothing changes in the plant: look on from the crossing
+                // for the level the comparator watches now.
+                self.scanned = self.plant.ahead(t);
                 self.comparator.flip();
                 self.peripherals.set_comparator(self.comparator.level);
-                self.schedule_edge_interrupt(self.t_s(), self.plant_tick);
+                self.schedule_edge_interrupt(self.t_s() + t, self.plant_tick);
                 if let Some(edge) = self.schedule.edge {
                     target = target.min(edge.at);
                 }
+                continue;
             }
+            // A DCM zero or a band edge changes the plant there. The record
+            // takes the firmware's estimate up to it (its state holds since
+            // the last knot, unless the plant lags the handlers, when the
+            // knot is not needed and the record drops it).
+            let e = self.estimate_at(self.plant_instant_ahead(t));
+            self.recorder.estimate_knot(self.t_s() + t, e, e);
+            self.move_plant(t);
+            self.frac += t;
+            self.plant.take_event(stop);
+            self.forget_ahead();
         }
         target
+    }
+
+    /// Forget what was seen ahead of the plant (it was moved or changed).
+    fn forget_ahead(&mut self) {
+        self.scanned = self.plant.ahead(0.0);
+        self.found = None;
     }
 
     /// Move the plant `dt` on (no event inside), the panels to the
@@ -81,7 +102,7 @@ impl<F: Firmware> Engine<F> {
             recorder.panel(t, panel, gate);
             t += panel.h;
         });
-        self.scanned = self.plant.ahead(0.0);
+        self.forget_ahead();
     }
 
     /// The plant's state at the microcontroller's tick, events before it
@@ -114,16 +135,6 @@ impl<F: Firmware> Engine<F> {
         }
     }
 
-    /// The firmware's current estimate at `at`, A (NaN: none).
-    fn estimate_at(&self, at: Instant) -> f64 {
-        self.firmware.estimated_current_a(at).unwrap_or(f64::NAN)
-    }
-
-    /// The firmware's estimate at the tick, for a knot.
-    pub(super) fn estimate_now(&self) -> f64 {
-        self.estimate_at(self.now())
-    }
-
     /// The timer's reading `t` after the plant's time (the tick at or
     /// before it).
     fn plant_instant_ahead(&self, t: f64) -> Instant {
@@ -136,7 +147,7 @@ impl<F: Firmware> Engine<F> {
     /// Set the environment for t = 0 and the comparator's initial level.
     pub(super) fn start_up(&mut self) {
         self.plant.set_environment(self.profile.environment_at(0.0));
-        self.scanned = self.plant.ahead(0.0);
+        self.forget_ahead();
         self.sync_comparator();
         self.schedule.edge = None;
         let o = self.observation();
@@ -145,13 +156,24 @@ impl<F: Firmware> Engine<F> {
     }
 
     /// Recompute the comparator's level from the output at the tick (after
-    /// the DAC was re-armed); a change raises an edge interrupt.
+    /// the DAC was re-armed); a change raises an edge interrupt. Nothing to
+    /// do while the DAC holds its code (the scans keep the level).
     pub(super) fn sync_comparator(&mut self) {
+        let dac = self.peripherals.dac_code();
+        if self.synced_dac == Some(dac) {
+            return;
+        }
+        self.synced_dac = Some(dac);
         let (x, ahead) = self.state_at_tick();
         let v = self.plant.v_out_of(&x, ahead);
-        let dac = self.peripherals.dac_code();
+        let watched = self.comparator.watch();
         if self.comparator.settle(v, dac, self.adc.output_channel()) {
             self.schedule_edge_interrupt(self.tick as f64 * self.tick_s, self.tick);
+        }
+        if self.comparator.watch() != watched {
+            // A new level to watch from the tick on.
+            self.scanned = Ahead { t: ahead, x };
+            self.found = None;
         }
         self.peripherals.set_comparator(self.comparator.level);
     }
@@ -174,12 +196,13 @@ impl<F: Firmware> Engine<F> {
             // At the breakpoint's own time when the tick rounded to before
             // it: the change must not be lost.
             self.plant.set_environment(self.profile.environment_at(self.t_s().max(b.at_s)));
-            self.scanned = self.plant.ahead(0.0);
+            self.forget_ahead();
             // A step moves the output at once (through the ESR): see it,
             // and let a comparator see it too (no crossing to find there).
             let o = self.observation();
             self.recorder.point(o);
             if self.comparator.exists() {
+                self.synced_dac = None;
                 self.sync_comparator();
             }
         }
@@ -197,7 +220,7 @@ impl<F: Firmware> Engine<F> {
             self.catch_up();
             self.schedule.dead_time_end = None;
             self.plant.set_mode(if self.gate { Conduction::HighSide } else { Conduction::LowSide });
-            self.scanned = self.plant.ahead(0.0);
+            self.forget_ahead();
         }
     }
 
@@ -207,7 +230,7 @@ impl<F: Firmware> Engine<F> {
         if on != self.gate {
             self.catch_up();
             self.switch_gate(on);
-            self.scanned = self.plant.ahead(0.0);
+            self.forget_ahead();
         }
     }
 

@@ -105,6 +105,7 @@ impl<F: Firmware> Engine<F> {
         self.schedule.compare = None;
         if let Some(c) = self.peripherals.compare_taken() {
             if c.ends_pulse {
+                self.edge_unseen = true;
                 self.peripherals.clear_gate_in_hardware();
                 self.follow_pin();
             }
@@ -120,6 +121,7 @@ impl<F: Firmware> Engine<F> {
             return false;
         }
         self.schedule.compare_irq = None;
+        self.edge_unseen = false;
         let now = self.now();
         let end = self.start_handler(Handler::Compare);
         self.firmware.timer_compare(now);

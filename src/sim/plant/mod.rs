@@ -48,7 +48,7 @@ use saturation::TOP_BAND;
 /// magnitude; 6 µs for the demo stage). The energies' corrected Simpson
 /// rule errs as the panel's seventh power, the record's quadratics as its
 /// third (see [`crate::sim::quadratic`]).
-pub const PANEL_OF_FASTEST: f64 = 1.0 / 16.0;
+pub const PANEL_OF_FASTEST: f64 = 0.25;
 
 /// A stretch of the plant's motion, for the recorder: where it starts (`τ`
 /// since the environment was set), how long it is, the states
@@ -63,6 +63,10 @@ pub struct Panel {
     pub states: [Vec2; 3],
     /// Output voltage at the start, middle and end, V.
     pub vo: [f64; 3],
+    /// Where the output turns inside the panel (its rate changes sign
+    /// between the ends), on the closed form: time after the panel's
+    /// start, s, and value, V.
+    pub vo_turn: Option<(f64, f64)>,
 }
 
 /// The converter's power stage.
@@ -268,7 +272,7 @@ impl Plant {
         self.tau += t;
         match stop {
             Stop::CurrentZero(_) => self.set_mode(Conduction::Idle),
-            Stop::BandEdge(_) => self.enter_band_past_edge(i_heading),
+            Stop::BandEdge(_) => self.enter_band_past_edge(i_heading.abs() > self.x[0].abs()),
             _ => {}
         }
         stop
@@ -292,6 +296,7 @@ impl Plant {
             let x0 = self.x;
             let trajectory = self.solutions.at(self.solution).start_at(x0, self.tau);
             let (mid, end) = trajectory.midpoint_and_end(step);
+            let vo_turn = self.output_turn(&trajectory, step, &x0, &end);
             self.accumulate_corrected(step, [&x0, &mid, &end]);
             let tau0 = self.tau;
             let vo = [
@@ -299,21 +304,40 @@ impl Plant {
                 self.output.value(&mid, tau0 + 0.5 * step),
                 self.output.value(&end, tau0 + step),
             ];
-            record(&Panel { tau0, h: step, states: [x0, mid, end], vo });
+            record(&Panel { tau0, h: step, states: [x0, mid, end], vo, vo_turn });
             self.x = end;
             self.tau += step;
             done += step;
         }
     }
 
+    /// Where the output turns on `trajectory` between `x0` and `x1`, `h`
+    /// later, when its rate has opposite signs at the two: time after `x0`,
+    /// s, and value, V.
+    fn output_turn(
+        &self,
+        trajectory: &Trajectory<'_>,
+        h: f64,
+        x0: &Vec2,
+        x1: &Vec2,
+    ) -> Option<(f64, f64)> {
+        let system = self.solutions.at(self.solution).system();
+        let r0 = self.output.rate(&system.rate(x0, self.tau));
+        let r1 = self.output.rate(&system.rate(x1, self.tau + h));
+        (r0 * r1 < 0.0).then(|| scan::turn(&trajectory.follow(&self.output), 0.0, r0, h, r1))
+    }
+
     /// Act on an event [`scan`](Self::scan) found, once the plant has been
-    /// moved to it: idle at a DCM zero, the next band past a band edge
-    /// (`heading`: the state the scan saw beyond it). A crossing changes
-    /// nothing here.
-    pub fn take_event(&mut self, stop: Stop, heading: &Vec2) {
+    /// moved to it: idle at a DCM zero, the next band past a band edge (the
+    /// one the current is heading for there). A crossing changes nothing
+    /// here.
+    pub fn take_event(&mut self, stop: Stop) {
         match stop {
             Stop::CurrentZero(_) => self.set_mode(Conduction::Idle),
-            Stop::BandEdge(_) => self.enter_band_past_edge(heading[0]),
+            Stop::BandEdge(_) => {
+                let rate = self.solutions.at(self.solution).system().rate(&self.x, self.tau);
+                self.enter_band_past_edge(rate[0] * self.x[0] > 0.0);
+            }
             Stop::Reached | Stop::Crossing(_) => {}
         }
     }
@@ -388,10 +412,9 @@ impl Plant {
     }
 
     /// After stopping at a band edge, step into the band the current was
-    /// heading for (`i_end`: where the whole interval would have ended).
-    fn enter_band_past_edge(&mut self, i_end: f64) {
+    /// heading for: the next one up when its magnitude is `rising`.
+    fn enter_band_past_edge(&mut self, rising: bool) {
         if self.params.saturation.is_some() {
-            let rising = i_end.abs() > self.x[0].abs();
             let band =
                 if rising { (self.band + 1).min(TOP_BAND) } else { self.band.saturating_sub(1) };
             self.set_band(band);

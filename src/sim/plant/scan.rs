@@ -51,7 +51,27 @@ impl Toward {
     }
 }
 
+/// How far ahead of the plant one scan looks at most, as a fraction of the
+/// fastest response's time constant `1/ρ` (`ρ` the larger eigenvalue
+/// magnitude of the present mode; 6 µs for the demo stage): an event found
+/// beyond the next one costs no second scan, and a step this short keeps
+/// to the flow's power series. The Hermite cubic that rules out a turn back
+/// to a level errs by about `(ρ·h)⁴/384` of the level's scale, well inside
+/// the margin of [`clear_of_level`].
+pub const LOOKAHEAD_OF_FASTEST: f64 = 1.0 / 16.0;
+
+/// The longest look ahead, s, for a plant without a fast response (an idle
+/// stage into no load).
+const LONGEST_LOOKAHEAD_S: f64 = 1e-3;
+
 impl Plant {
+    /// How far ahead one [`scan`](Self::scan) may look on the present
+    /// solution, s.
+    pub fn lookahead_s(&self) -> f64 {
+        let rate = self.solutions.at(self.solution).fastest_rate();
+        (LOOKAHEAD_OF_FASTEST / rate).min(LONGEST_LOOKAHEAD_S)
+    }
+
     /// The state at `ahead`, the plant's own time `0`.
     pub fn ahead(&self, t: f64) -> Ahead {
         Ahead { t, x: if t == 0.0 { [self.i_l(), self.v_c()] } else { self.state_ahead(t) } }
@@ -63,7 +83,13 @@ impl Plant {
     pub fn scan(&self, from: Ahead, to: f64, watch: Option<Watch>) -> Scan {
         let trajectory = self.trajectory();
         let end = Ahead { t: to, x: trajectory.at(to) };
-        let interval = Interval { trajectory: &trajectory, tau: self.tau, from, to: end };
+        let interval = Interval {
+            trajectory: &trajectory,
+            tau: self.tau,
+            from,
+            to: end,
+            moving: [trajectory.rate(&from.x, from.t), trajectory.rate(&end.x, end.t)],
+        };
         let mut first: Option<(f64, Stop)> = None;
         let mut consider = |found: Option<f64>, make: fn(f64) -> Stop| {
             if let Some(t) = found {
@@ -112,6 +138,9 @@ struct Interval<'a> {
     tau: f64,
     from: Ahead,
     to: Ahead,
+    /// The state's rates at `from` and `to` (each level's rate there is
+    /// its map of them).
+    moving: [Vec2; 2],
 }
 
 impl Interval<'_> {
@@ -119,9 +148,8 @@ impl Interval<'_> {
     /// away from `toward`, just past the crossing.
     fn first(&self, level: &Affine, toward: Toward) -> Option<f64> {
         let value = |p: &Ahead| level.value(&p.x, self.tau + p.t);
-        let rate = |p: &Ahead| level.rate(&self.trajectory.rate(&p.x, p.t));
         let (fa, fb) = (value(&self.from), value(&self.to));
-        let (ra, rb) = (rate(&self.from), rate(&self.to));
+        let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
         let reached = |v: f64| toward.reached(v);
         let (a, b) = (self.from.t, self.to.t);
         let turns = ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum();
@@ -188,7 +216,7 @@ fn clear_of_level(fa: f64, ra: f64, fb: f64, rb: f64, h: f64, toward: Toward) ->
 /// Where a level whose rate is `ra` at `a` and `rb` (of the other sign) at
 /// `b` turns, with its value there: Newton on the rate from the rates'
 /// linear interpolation, kept inside the interval.
-fn turn(path: &Followed<'_>, a: f64, ra: f64, b: f64, rb: f64) -> (f64, f64) {
+pub(super) fn turn(path: &Followed<'_>, a: f64, ra: f64, b: f64, rb: f64) -> (f64, f64) {
     let (mut lo, mut hi) = (a, b);
     let mut t = a + (b - a) * ra / (ra - rb);
     let mut value = path.value(t);

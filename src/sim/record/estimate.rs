@@ -42,16 +42,28 @@ pub struct EstimateLine {
 }
 
 impl EstimateLine {
-    /// A knot, in time order.
+    /// A knot. One earlier than the last knot given is dropped: the
+    /// firmware's state behind it has moved on since (the plant, found
+    /// late to have stopped there, lags the handlers), and the line between
+    /// the knots around it already holds its value.
     pub fn knot(&mut self, k: Knot) {
-        self.pending.push_back(k);
+        let last = self.pending.back().map_or(self.from.0, |p| p.t_s);
+        if k.t_s >= last {
+            self.pending.push_back(k);
+        }
     }
 
     /// The estimate after the handlers of the event at `t_s`, once they
-    /// ran (its knot was given with the value before them).
-    pub fn set_after(&mut self, t_s: f64, after_a: f64) {
+    /// ran (its knot was given with the value before them); `corrected`:
+    /// the value before them is replaced too (the line runs to it).
+    pub fn set_after(&mut self, t_s: f64, after_a: f64, corrected: bool) {
         match self.pending.back_mut() {
-            Some(k) if k.t_s == t_s => k.after_a = after_a,
+            Some(k) if k.t_s == t_s => {
+                k.after_a = after_a;
+                if corrected {
+                    k.before_a = after_a;
+                }
+            }
             _ if self.from.0 == t_s => self.from.1 = after_a,
             _ => {}
         }

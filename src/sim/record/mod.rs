@@ -352,9 +352,11 @@ impl Recorder {
     }
 
     /// The firmware's estimate after the handlers of the event at `t_s`
-    /// (its knot was given with the value before them).
-    pub fn estimate_after(&mut self, t_s: f64, after_a: f64) {
-        self.estimate.set_after(t_s, after_a);
+    /// (its knot was given with the value before them); `corrected`: they
+    /// corrected it for what happened before the event (a pulse's end they
+    /// learned of late), so the line runs to this value.
+    pub fn estimate_after(&mut self, t_s: f64, after_a: f64, corrected: bool) {
+        self.estimate.set_after(t_s, after_a, corrected);
     }
 
     /// A panel of the plant's motion from `t0_s`, the gate on or off all
@@ -367,7 +369,11 @@ impl Recorder {
         let vo = Quadratic::through(p.h, p.vo);
         let il = Quadratic::through(p.h, [p.states[0][0], p.states[1][0], p.states[2][0]]);
         let t1_s = t0_s + p.h;
-        let ((v_lo, v_hi), (i_lo, i_hi)) = (vo.range(), il.range());
+        let (v_lo, v_hi) = match p.vo_turn {
+            Some((_, v)) => (v.min(p.vo[0]).min(p.vo[2]), v.max(p.vo[0]).max(p.vo[2])),
+            None => vo.range(),
+        };
+        let (i_lo, i_hi) = il.range();
         let i_peak = i_hi.max(-i_lo);
         raise(&mut self.il_peak_a, i_peak);
         if let Some(c) = self.current.as_mut() {
@@ -384,7 +390,7 @@ impl Recorder {
             s.take_current(i_lo);
             s.take_current(i_hi);
         } else {
-            self.take_extremes_by_slice(t0_s, &vo, &il);
+            self.take_extremes_by_slice(t0_s, p, &vo, &il);
         }
         self.transients.panel(t0_s, &vo, (v_lo, v_hi), i_peak);
         let window = self.window_at(t0_s + 0.5 * p.h);
@@ -416,8 +422,13 @@ impl Recorder {
 
     /// The output's and current's extremes over a panel that spans
     /// envelope slices, each in its slice.
-    fn take_extremes_by_slice(&mut self, t0_s: f64, vo: &Quadratic, il: &Quadratic) {
-        for (s, v) in vo.extreme_points() {
+    fn take_extremes_by_slice(&mut self, t0_s: f64, p: &Panel, vo: &Quadratic, il: &Quadratic) {
+        let ends = [(0.0, p.vo[0]), (p.h, p.vo[2])];
+        let turn = match p.vo_turn {
+            Some(turn) => Some(turn),
+            None => vo.turn(),
+        };
+        for (s, v) in ends.into_iter().chain(turn) {
             self.slice_at(t0_s + s).take_output(v);
         }
         for (s, i) in il.extreme_points() {
