@@ -12,9 +12,9 @@
 //! same in both runs, so cycle counts and frequencies agree exactly.
 //!
 //! Before the record was fed the plant's motion panel by panel, its figures
-//! moved with event density: on `edge-locked.toml`, mean output 4.4 mV low,
+//! moved with event density: on `edge-locked.toml`, mean output 4.0 mV low,
 //! ripple 1.2 % low, estimate error 154 mA rms against 225 mA, overshoots
-//! up to 4.6 % low, against such a refined run.
+//! 3.4–4.5 % low, against such a refined run.
 
 use ripplectl::sim::{self, RunControl, Scenario, Summary};
 
