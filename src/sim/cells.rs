@@ -1,13 +1,17 @@
-//! Uniform cell averages of a piecewise-linear signal.
+//! Uniform cell averages of a piecewise-linear or piecewise-quadratic
+//! signal.
 //!
-//! A signal known as straight segments between points (the simulator's
-//! observations, a switch-current waveform) is turned into a uniformly
+//! A signal known as straight segments between points (a switch-current
+//! waveform) or as quadratics over panels (the simulator's inductor
+//! current) is turned into a uniformly
 //! sampled record by averaging it over each cell of a grid: the exact
 //! integral of every segment over every cell it overlaps, divided by the cell
 //! width. Unlike point sampling, an edge between two grid points keeps its
 //! exact time (it shows as a fractional cell), and the averaging is a known
 //! filter: a box of one cell, whose transfer `sinc(f·Δt)` a spectrum can
 //! divide out ([`box_gain`]).
+
+use super::quadratic::Quadratic;
 
 /// Cell averages over `[from_s, from_s + cells.len()·dt_s)`.
 #[derive(Clone, Debug, PartialEq)]
@@ -81,6 +85,42 @@ impl CellGrid {
     fn cell_of(&self, t: f64) -> usize {
         let last = self.cells.len() as i64 - 1;
         (((t - self.from_s) / self.dt_s) as i64).clamp(0, last) as usize
+    }
+
+    /// Add the quadratic `q` over `[t0_s, t0_s + q.h]` (the parts outside
+    /// the grid dropped): each cell gains its exact integral over the part
+    /// inside it, divided by the width (over a whole cell, the value at the
+    /// centre plus `c₂·Δt²/12`).
+    pub fn add_quadratic(&mut self, t0_s: f64, q: &Quadratic) {
+        let end = self.from_s + self.span_s();
+        let (lo, hi) = (t0_s.max(self.from_s), (t0_s + q.h).min(end));
+        if hi <= lo {
+            return;
+        }
+        let n = self.cells.len();
+        let k = self.cell_of(lo);
+        let first_end = self.edge(k + 1).min(hi);
+        self.add_quadratic_part(t0_s, q, k, lo, first_end);
+        let (mut t, mut k) = (first_end, k + 1);
+        let whole_end = self.whole_cells_end(k, hi);
+        if whole_end > k {
+            let (from, dt) = (self.from_s, self.dt_s);
+            let curvature = q.c[2] * dt * dt / 12.0;
+            for (j, cell) in (k..).zip(&mut self.cells[k..whole_end]) {
+                *cell += q.at(from + (j as i64 as f64 + 0.5) * dt - t0_s) + curvature;
+            }
+            (t, k) = (self.edge(whole_end), whole_end);
+        }
+        if t < hi && k < n {
+            self.add_quadratic_part(t0_s, q, k, t, self.edge(k + 1).min(hi));
+        }
+    }
+
+    /// Add the part of `q` (from `t0_s`) over `[a, b]` (inside cell `k`).
+    fn add_quadratic_part(&mut self, t0_s: f64, q: &Quadratic, k: usize, a: f64, b: f64) {
+        if b > a {
+            self.cells[k] += q.integral(a - t0_s, b - t0_s) / self.dt_s;
+        }
     }
 
     /// Start of cell `k` (end of cell `k − 1`), s.

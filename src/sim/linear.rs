@@ -110,11 +110,13 @@ enum Form {
 }
 
 /// Terms of the Taylor series of `P` and `Q` kept for short steps.
-const TAYLOR_TERMS: usize = 10;
+const TAYLOR_TERMS: usize = 14;
 
 /// Largest `ρ·h` (`ρ` the larger eigenvalue magnitude) evaluated by the
-/// Taylor series; the first term left out is below `(1/16)¹⁰/10! < 3e-19`.
-const TAYLOR_LIMIT: f64 = 1.0 / 16.0;
+/// Taylor series; the first term left out is below `(1/4)¹⁴/14! < 5e-20`.
+/// A quarter of the fastest time constant covers a look ahead or a panel
+/// of the demo stage (see `plant::scan`), without an exponential.
+const TAYLOR_LIMIT: f64 = 0.25;
 
 #[derive(Clone, Copy, Debug, PartialEq)]
 struct Coupled {
@@ -176,6 +178,15 @@ impl Solution {
     /// The system solved.
     pub fn system(&self) -> &System {
         &self.system
+    }
+
+    /// The fastest rate of the homogeneous response, 1/s: the larger
+    /// eigenvalue magnitude (coupled), `|g|` (held; zero for a constant).
+    pub fn fastest_rate(&self) -> f64 {
+        match &self.form {
+            Form::Coupled(c) => c.radius,
+            Form::Held { g } => g.abs(),
+        }
     }
 
     /// The trajectory from state `x0` at time `tau0`.
@@ -289,16 +300,17 @@ impl Coupled {
 
 /// `Σ c_k·tᵏ` for two polynomials at once, by Estrin's scheme: pairs
 /// `c_k + c_{k+1}·t` combined with `t²`, `t⁴`, `t⁸`, so the dependency chain
-/// is four multiply-adds deep instead of Horner's ten.
+/// is four multiply-adds deep instead of Horner's fourteen.
 #[inline]
 fn estrin(c: &[[f64; 2]; TAYLOR_TERMS], t: f64) -> [f64; 2] {
     let (t2, pair) = (t * t, |k: usize| [c[k][0] + c[k + 1][0] * t, c[k][1] + c[k + 1][1] * t]);
-    let (t4, [a, b, d, e, f]) = (t2 * t2, [pair(0), pair(2), pair(4), pair(6), pair(8)]);
+    let (t4, [a, b, d, e]) = (t2 * t2, [pair(0), pair(2), pair(4), pair(6)]);
+    let [f, g, h] = [pair(8), pair(10), pair(12)];
     let t8 = t4 * t4;
     core::array::from_fn(|j| {
-        let low = a[j] + b[j] * t2;
-        let high = d[j] + e[j] * t2;
-        low + high * t4 + f[j] * t8
+        let low = (a[j] + b[j] * t2) + (d[j] + e[j] * t2) * t4;
+        let high = (f[j] + g[j] * t2) + h[j] * t4;
+        low + high * t8
     })
 }
 
@@ -313,15 +325,15 @@ fn even_odd_series(x: f64) -> (f64, f64) {
     (c, s)
 }
 
-/// `1/n!` for `n ≤ 13`.
+/// `1/n!` for `n < 14`.
 fn inv_factorial(n: u32) -> f64 {
     INV_FACTORIAL[n as usize]
 }
 
-const INV_FACTORIAL: [f64; 14] = {
-    let mut t = [1.0; 14];
+const INV_FACTORIAL: [f64; TAYLOR_TERMS] = {
+    let mut t = [1.0; TAYLOR_TERMS];
     let mut n = 1;
-    while n < 14 {
+    while n < TAYLOR_TERMS {
         t[n] = t[n - 1] / n as f64;
         n += 1;
     }
@@ -442,6 +454,20 @@ impl Followed<'_> {
         let d = self.solution.flow_rate(&f);
         let [_, beta, gamma, delta, epsilon] = self.terms;
         (self.combine(&f, t), beta + gamma * d.p + delta * d.q + epsilon * d.r)
+    }
+
+    /// The value, rate and curvature (second time derivative) `t` after
+    /// the start.
+    pub fn value_rate_curvature(&self, t: f64) -> [f64; 3] {
+        let f = self.solution.flow(t);
+        let d = self.solution.flow_rate(&f);
+        let dd = self.solution.flow_rate(&d);
+        let [_, beta, gamma, delta, epsilon] = self.terms;
+        [
+            self.combine(&f, t),
+            beta + gamma * d.p + delta * d.q + epsilon * d.r,
+            gamma * dd.p + delta * dd.q + epsilon * dd.r,
+        ]
     }
 
     fn combine(&self, f: &Flow, t: f64) -> f64 {

@@ -18,6 +18,7 @@
 //! | [`hardware`] | the simulated peripherals' errors against the firmware's configuration |
 //! | [`run_control`] | progress and cancellation of a run |
 //! | [`record`] | cycles, envelope and steady windows collected during a run |
+//! | [`quadratic`] | a quantity over one panel of the plant's motion: integral, extremes, crossings |
 //! | [`metrics`] | the summary of a run |
 //! | [`accounting`] | the true efficiency over the windows in regulation |
 //! | [`netlist`] | SPICE netlists of the stage for external cross-checks |
@@ -51,6 +52,7 @@ pub mod peripherals;
 pub mod plant;
 pub mod plot;
 pub mod profile;
+pub mod quadratic;
 pub mod record;
 pub mod report;
 pub mod run_control;

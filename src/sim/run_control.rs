@@ -19,6 +19,11 @@ pub struct RunControl<'a> {
     /// Once set, the run stops at its next look with
     /// [`super::RunError::Cancelled`].
     pub cancel: Option<&'a AtomicBool>,
+    /// For checks of the simulator itself: also stop every this many timer
+    /// ticks and bring the plant there, where nothing happens. A run's
+    /// figures must not depend on it (the record is exact between stops);
+    /// it only slows the run.
+    pub probe_every_ticks: Option<u64>,
 }
 
 impl RunControl<'_> {
@@ -42,6 +47,7 @@ impl std::fmt::Debug for RunControl<'_> {
         f.debug_struct("RunControl")
             .field("progress", &self.progress.is_some())
             .field("cancelled", &self.is_cancelled())
+            .field("probe_every_ticks", &self.probe_every_ticks)
             .finish()
     }
 }

@@ -172,7 +172,7 @@ pub fn sweep_with(
     grid.par_iter()
         .map(|&(vin, load_a)| {
             let scenario = operating_point(base, vin, load_a, duration_s);
-            let out = run_with(&scenario, &RunControl { progress: None, cancel })?;
+            let out = run_with(&scenario, &RunControl { cancel, ..RunControl::default() })?;
             let s = Summary::of(&out, &scenario.name, 0.0);
             tick();
             Ok(SweepPoint {

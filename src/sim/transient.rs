@@ -18,6 +18,7 @@
 //!   that overlap it, Hz.
 
 use super::profile::{InputProfile, Load, LoadChange};
+use super::quadratic::Quadratic;
 use super::record::{Cycle, Observation};
 use super::report::eng;
 use super::scenario::Scenario;
@@ -110,7 +111,8 @@ struct Watch {
 }
 
 /// Follows the output through every disturbance of a run (fed by the
-/// recorder at every simulation event, in time order).
+/// recorder with each panel of the plant's motion and each jump of the
+/// output, in time order).
 #[derive(Clone, Debug, Default, PartialEq)]
 pub struct TransientTracker {
     watches: Vec<Watch>,
@@ -186,6 +188,40 @@ impl TransientTracker {
             w.back_inside_s = None;
         } else if w.last_outside_s.is_some() && w.back_inside_s.is_none() {
             w.back_inside_s = Some(o.t_s);
+        }
+    }
+
+    /// A panel of the plant's motion from `t0_s` with output `vo` (see
+    /// [`super::quadratic`]) over the range `(lo, hi)` and largest current
+    /// magnitude `il_peak_a`: the output's extremes, and where it last came
+    /// back into the band (the exact crossing) when it left it within the
+    /// panel.
+    pub fn panel(&mut self, t0_s: f64, vo: &Quadratic, (lo, hi): (f64, f64), il_peak_a: f64) {
+        let mid = t0_s + 0.5 * vo.h;
+        while self.watches.get(self.cursor).is_some_and(|w| mid >= w.end_s) {
+            self.cursor += 1;
+        }
+        let (band_lo, band_hi) = (self.setpoint_v - self.band_v, self.setpoint_v + self.band_v);
+        let Some(w) = self.watches.get_mut(self.cursor) else { return };
+        if mid < w.disturbance.t_s {
+            return;
+        }
+        w.vo_min_v = w.vo_min_v.min(lo);
+        w.vo_max_v = w.vo_max_v.max(hi);
+        w.il_peak_a = w.il_peak_a.max(il_peak_a);
+        let end = vo.at(vo.h);
+        if end < band_lo || end > band_hi {
+            w.last_outside_s = Some(t0_s + vo.h);
+            w.back_inside_s = None;
+        } else if lo < band_lo || hi > band_hi {
+            let back = [band_lo, band_hi]
+                .into_iter()
+                .filter_map(|l| vo.last_crossing(l))
+                .fold(0.0, f64::max);
+            w.last_outside_s = Some(t0_s + back);
+            w.back_inside_s = Some(t0_s + back);
+        } else if w.last_outside_s.is_some() && w.back_inside_s.is_none() {
+            w.back_inside_s = Some(t0_s);
         }
     }
 

@@ -35,7 +35,8 @@ pub fn run(path: Option<&Path>) -> Result<Outcome, Failure> {
     let bar =
         Progress::new(total, move |t| format!("{} of {} simulated", seconds(t), seconds(total)));
     let show = |t_s: f64| bar.set(t_s);
-    let control = RunControl { progress: Some(&show), cancel: Some(&INTERRUPTED) };
+    let control =
+        RunControl { progress: Some(&show), cancel: Some(&INTERRUPTED), ..RunControl::default() };
     let output = sim::run_with(&scenario, &control).map_err(run_failure);
     bar.finish();
     let output = output?;

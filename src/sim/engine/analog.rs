@@ -1,23 +1,128 @@
-//! The analog side of the loop: the plant solved from event to event (up
-//! to a comparator crossing inside an interval), the comparator's level,
-//! the gate's edges with their losses and dead time, and the profile's
-//! breakpoints and the recorder's window boundaries, which act on the
-//! plant or read it.
+//! The analog side of the loop: the plant, scanned ahead between events
+//! for a comparator crossing, a DCM zero or a band edge, and moved only
+//! where one falls or where something changes it; the comparator's level;
+//! the gate's edges with their losses and dead time; the profile's
+//! breakpoints and the recorder's window boundaries.
+//!
+//! Every move of the plant goes to the recorder panel by panel, and every
+//! event gives it the firmware's current estimate before and after the
+//! event's handlers (a knot), so the record does not depend on where the
+//! plant was moved.
 
 use super::schedule::EdgeIrq;
 use super::Engine;
 use crate::sim::cpu::Handler;
 use crate::sim::firmware::Firmware;
-use crate::sim::plant::{Conduction, Stage, Stop};
+use crate::sim::linear::Vec2;
+use crate::sim::plant::{Ahead, Conduction, Stage, Stop};
 use crate::sim::record::Observation;
 use crate::tick::Instant;
 
 impl<F: Firmware> Engine<F> {
-    /// Bring the plant up to the microcontroller's tick.
+    /// Move the plant to the microcontroller's tick (events on the way
+    /// taken), to change it or take its energies.
     pub(super) fn catch_up(&mut self) {
         if self.plant_tick < self.tick {
-            self.advance_plant(self.tick);
+            self.watch_until(self.tick);
+            self.knot_before();
+            self.move_plant(self.ahead_to(self.tick));
+            self.plant_tick = self.tick;
+            self.frac = 0.0;
         }
+    }
+
+    /// Seconds from the plant's time to `tick`.
+    fn ahead_to(&self, tick: u64) -> f64 {
+        (tick - self.plant_tick) as f64 * self.tick_s - self.frac
+    }
+
+    /// Look ahead of the plant up to `target` for a comparator crossing, a
+    /// DCM zero or a band edge, moving the plant to each DCM zero or band
+    /// edge found (a crossing changes the comparator, not the plant); returns
+    /// the tick the loop may go to (earlier than `target` when a crossing's
+    /// interrupt comes first). One scan looks up to
+    /// [`Plant::lookahead_s`](crate::sim::plant::Plant::lookahead_s) ahead
+    /// and keeps what it found, so the events before it cost no scan.
+    pub(super) fn watch_until(&mut self, mut target: u64) -> u64 {
+        while self.plant_tick < target {
+            let to = self.ahead_to(target);
+            let (t, stop) = match self.found {
+                Some((t, _)) if t > to => break,
+                Some(found) => found,
+                None if to <= self.scanned.t => break,
+                None => {
+                    let horizon = to.max(self.scanned.t + self.plant.lookahead_s());
+                    let scan = self.plant.scan(self.scanned, horizon, self.comparator.watch());
+                    match scan.event {
+                        None => self.scanned = scan.end,
+                        found => self.found = found,
+                    }
+                    continue;
+                }
+            };
+            self.found = None;
+            if let Stop::Crossing(_) = stop {
+                // Nothing changes in the plant: look on from the crossing
+                // for the level the comparator watches now.
+                self.scanned = self.plant.ahead(t);
+                self.comparator.flip();
+                self.peripherals.set_comparator(self.comparator.level);
+                self.schedule_edge_interrupt(self.t_s() + t, self.plant_tick);
+                if let Some(edge) = self.schedule.edge {
+                    target = target.min(edge.at);
+                }
+                continue;
+            }
+            // A DCM zero or a band edge changes the plant there. The record
+            // takes the firmware's estimate up to it (its state holds since
+            // the last knot, unless the plant lags the handlers, when the
+            // knot is not needed and the record drops it).
+            let e = self.estimate_at(self.plant_instant_ahead(t));
+            self.recorder.estimate_knot(self.t_s() + t, e, e);
+            self.move_plant(t);
+            self.frac += t;
+            self.plant.take_event(stop);
+            self.forget_ahead();
+        }
+        target
+    }
+
+    /// Forget what was seen ahead of the plant (it was moved or changed).
+    fn forget_ahead(&mut self) {
+        self.scanned = self.plant.ahead(0.0);
+        self.found = None;
+    }
+
+    /// Move the plant `dt` on (no event inside), the panels to the
+    /// recorder.
+    fn move_plant(&mut self, dt: f64) {
+        let (recorder, gate) = (&mut self.recorder, self.gate);
+        let mut t = self.plant_tick as f64 * self.tick_s + self.frac;
+        self.plant.advance_to(dt, &mut |panel| {
+            recorder.panel(t, panel, gate);
+            t += panel.h;
+        });
+        self.forget_ahead();
+    }
+
+    /// The plant's state at the microcontroller's tick, events before it
+    /// taken, and how far ahead of the plant the tick is.
+    fn state_at_tick(&mut self) -> (Vec2, f64) {
+        self.watch_until(self.tick);
+        let to = self.ahead_to(self.tick);
+        if to == 0.0 {
+            (self.plant.ahead(0.0).x, 0.0)
+        } else if to == self.scanned.t {
+            (self.scanned.x, to)
+        } else {
+            (self.plant.state_ahead(to), to)
+        }
+    }
+
+    /// Output and input voltage at the tick, V (an ADC sample).
+    pub(super) fn voltages_at_tick(&mut self) -> (f64, f64) {
+        let (x, ahead) = self.state_at_tick();
+        (self.plant.v_out_of(&x, ahead), self.plant.vin_ahead(ahead))
     }
 
     fn observation(&self) -> Observation {
@@ -25,79 +130,64 @@ impl<F: Firmware> Engine<F> {
             t_s: self.t_s(),
             vo_v: self.plant.v_out(),
             il_a: self.plant.i_l(),
-            il_est_a: self.firmware.estimated_current_a(self.plant_instant()).unwrap_or(f64::NAN),
+            il_est_a: self.estimate_at(self.plant_instant_ahead(0.0)),
             gate_on: self.gate,
         }
     }
 
-    /// The timer's reading at the plant's time (the tick at or before it),
-    /// which runs ahead of or behind the event loop's while it solves an
-    /// interval.
-    fn plant_instant(&self) -> Instant {
-        // Most observations fall on a tick (no fraction, no division);
-        // through i64: one instruction, the same count.
-        let within =
-            if self.frac == 0.0 { 0 } else { ((self.frac / self.tick_s) as i64).max(0) as u64 };
+    /// The timer's reading `t` after the plant's time (the tick at or
+    /// before it).
+    fn plant_instant_ahead(&self, t: f64) -> Instant {
+        let frac = self.frac + t;
+        // Through i64: one instruction, the same count.
+        let within = if frac == 0.0 { 0 } else { ((frac / self.tick_s) as i64).max(0) as u64 };
         Instant(self.start.wrapping_add((self.plant_tick + within) as u32))
-    }
-
-    fn observe(&mut self) {
-        let o = self.observation();
-        self.recorder.observe(o);
     }
 
     /// Set the environment for t = 0 and the comparator's initial level.
     pub(super) fn start_up(&mut self) {
         self.plant.set_environment(self.profile.environment_at(0.0));
+        self.forget_ahead();
         self.sync_comparator();
         self.schedule.edge = None;
-        self.observe();
+        let o = self.observation();
+        self.recorder.estimate_knot(0.0, o.il_est_a, o.il_est_a);
+        self.recorder.point(o);
     }
 
-    /// Recompute the comparator's level from the output (after the DAC was
-    /// re-armed); a change raises an edge interrupt.
+    /// Recompute the comparator's level from the output at the tick (after
+    /// the DAC was re-armed); a change raises an edge interrupt. Nothing to
+    /// do while the DAC holds its code (the scans keep the level).
     pub(super) fn sync_comparator(&mut self) {
-        let v = self.plant.v_out();
         let dac = self.peripherals.dac_code();
+        if self.synced_dac == Some(dac) {
+            return;
+        }
+        self.synced_dac = Some(dac);
+        let (x, ahead) = self.state_at_tick();
+        let v = self.plant.v_out_of(&x, ahead);
+        let watched = self.comparator.watch();
         if self.comparator.settle(v, dac, self.adc.output_channel()) {
-            self.schedule_edge_interrupt();
+            self.schedule_edge_interrupt(self.tick as f64 * self.tick_s, self.tick);
+        }
+        if self.comparator.watch() != watched {
+            // A new level to watch from the tick on.
+            self.scanned = Ahead { t: ahead, x };
+            self.found = None;
         }
         self.peripherals.set_comparator(self.comparator.level);
     }
 
-    fn schedule_edge_interrupt(&mut self) {
-        let ready = ((self.t_s() + self.comparator_delay_s) / self.tick_s).ceil() as u64;
-        let at = ready.max(self.plant_tick + 1) + self.latency_ticks;
+    /// The comparator's output changed at `at_s` (in the tick `tick`): its
+    /// interrupt after the propagation delay, on the next tick, and the
+    /// latency.
+    fn schedule_edge_interrupt(&mut self, at_s: f64, tick: u64) {
+        let ready = ((at_s + self.comparator_delay_s) / self.tick_s).ceil() as u64;
+        let at = ready.max(tick + 1) + self.latency_ticks;
         if self.schedule.edge.is_some() {
             self.cpu.merge(Handler::Comparator);
         }
         self.schedule.edge = Some(EdgeIrq { at, level: self.comparator.level });
-    }
-
-    /// Solve the plant up to `target`, or up to an earlier comparator
-    /// interrupt; returns the tick reached.
-    pub(super) fn advance_plant(&mut self, mut target: u64) -> u64 {
-        while self.plant_tick < target {
-            let dt = (target - self.plant_tick) as f64 * self.tick_s - self.frac;
-            match self.plant.advance(dt, self.comparator.watch()) {
-                Stop::Reached => {
-                    self.plant_tick = target;
-                    self.frac = 0.0;
-                }
-                Stop::CurrentZero(tau) | Stop::BandEdge(tau) => self.frac += tau,
-                Stop::Crossing(tau) => {
-                    self.frac += tau;
-                    self.comparator.flip();
-                    self.peripherals.set_comparator(self.comparator.level);
-                    self.schedule_edge_interrupt();
-                    if let Some(edge) = self.schedule.edge {
-                        target = target.min(edge.at);
-                    }
-                }
-            }
-            self.observe();
-        }
-        target
     }
 
     pub(super) fn profile_breakpoints(&mut self) {
@@ -106,10 +196,13 @@ impl<F: Firmware> Engine<F> {
             // At the breakpoint's own time when the tick rounded to before
             // it: the change must not be lost.
             self.plant.set_environment(self.profile.environment_at(self.t_s().max(b.at_s)));
+            self.forget_ahead();
             // A step moves the output at once (through the ESR): see it,
             // and let a comparator see it too (no crossing to find there).
-            self.observe();
+            let o = self.observation();
+            self.recorder.point(o);
             if self.comparator.exists() {
+                self.synced_dac = None;
                 self.sync_comparator();
             }
         }
@@ -127,6 +220,7 @@ impl<F: Firmware> Engine<F> {
             self.catch_up();
             self.schedule.dead_time_end = None;
             self.plant.set_mode(if self.gate { Conduction::HighSide } else { Conduction::LowSide });
+            self.forget_ahead();
         }
     }
 
@@ -136,6 +230,7 @@ impl<F: Firmware> Engine<F> {
         if on != self.gate {
             self.catch_up();
             self.switch_gate(on);
+            self.forget_ahead();
         }
     }
 
@@ -149,7 +244,7 @@ impl<F: Firmware> Engine<F> {
             self.plant.switching_edge(self.t_rise_s);
             self.plant.gate_cycle();
         } else {
-            self.recorder.fall(t);
+            self.recorder.fall(t, o.il_a);
             self.plant.switching_edge(self.t_fall_s);
         }
         self.gate = on;

@@ -36,6 +36,7 @@ impl<F: Firmware> Engine<F> {
     /// timer read at its pin write reads that end (its outputs take effect
     /// then). Returns the end, for [`handler_ran`](Self::handler_ran).
     fn start_handler(&mut self, handler: Handler) -> u64 {
+        self.knot_before();
         let end = self.cpu.run_fast(handler, self.tick);
         self.set_handler_clock(end);
         self.peripherals.stage();
@@ -104,6 +105,7 @@ impl<F: Firmware> Engine<F> {
         self.schedule.compare = None;
         if let Some(c) = self.peripherals.compare_taken() {
             if c.ends_pulse {
+                self.edge_unseen = true;
                 self.peripherals.clear_gate_in_hardware();
                 self.follow_pin();
             }
@@ -119,6 +121,7 @@ impl<F: Firmware> Engine<F> {
             return false;
         }
         self.schedule.compare_irq = None;
+        self.edge_unseen = false;
         let now = self.now();
         let end = self.start_handler(Handler::Compare);
         self.firmware.timer_compare(now);
@@ -147,7 +150,7 @@ impl<F: Firmware> Engine<F> {
             self.cpu.merge(Handler::Housekeeping);
             return;
         }
-        self.catch_up();
+        self.knot_before();
         let now = self.now();
         // The core is the tick's until it ends, preempted by the fast
         // handlers; its pin writes (a stop, a start on the comparator's
@@ -159,7 +162,7 @@ impl<F: Firmware> Engine<F> {
         self.firmware.housekeeping(now);
         self.after_handler();
         if let Some((output_w, input_w)) = self.firmware.power_estimate() {
-            self.recorder.estimate(self.t_s(), output_w, input_w);
+            self.recorder.estimate(self.tick as f64 * self.tick_s, output_w, input_w);
         }
     }
 
@@ -170,10 +173,10 @@ impl<F: Firmware> Engine<F> {
             return;
         }
         self.schedule.next_sample += self.sample_period;
-        self.catch_up();
-        let output = self.adc.convert_output(self.plant.v_out(), self.tick);
+        let (v_out, v_in) = self.voltages_at_tick();
+        let output = self.adc.convert_output(v_out, self.tick);
         // The input is scanned in the same sequence.
-        let input = self.adc.convert_input(self.plant.vin_v());
+        let input = self.adc.convert_input(v_in);
         let done = self.tick + self.conversion_ticks + self.latency_ticks;
         if self.schedule.conversion.is_some() {
             // The last result was never read: overwritten.

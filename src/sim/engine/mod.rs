@@ -22,8 +22,10 @@
 //! | `schedule` | the pending events, each a small struct |
 //! | `interrupts` | the core: handlers by priority, their outputs, housekeeping, ADC samples |
 //! | `analog` | the plant solved between events, the comparator, the gate's edges, profile breakpoints and window boundaries |
+//! | `estimate` | the firmware's current estimate handed to the record: its value around each handler, and the kink between |
 
 mod analog;
+mod estimate;
 mod interrupts;
 mod schedule;
 
@@ -32,7 +34,7 @@ use super::firmware::Firmware;
 use super::hardware::{sensed_input_channel, sensed_output_channel, true_clock_hz};
 use super::mcu::{Adc, Comparator, ComparatorSource};
 use super::peripherals::Peripherals;
-use super::plant::{EnergyLedger, Plant, Stage};
+use super::plant::{Ahead, EnergyLedger, Plant, Stage, Stop};
 use super::profile::Profile;
 use super::record::Recorder;
 use super::run_control::{RunControl, CHECK_EVERY};
@@ -120,10 +122,26 @@ struct Engine<F> {
     /// Microcontroller time: the tick being dispatched.
     tick: u64,
     /// Plant time: `plant_tick` ticks plus `frac` seconds. The plant lags
-    /// the microcontroller when nothing needed it (sampled mode), and is
-    /// caught up before it is read or switched.
+    /// the microcontroller: it is moved where an event falls or something
+    /// changes it.
     plant_tick: u64,
     frac: f64,
+    /// How far ahead of the plant it has been scanned for events, and its
+    /// state there.
+    scanned: Ahead,
+    /// The first event ahead of the plant a scan found beyond `scanned`
+    /// (its time after the plant's, s), not yet reached.
+    found: Option<(f64, Stop)>,
+    /// The DAC code the comparator's level was last settled for.
+    synced_dac: Option<u16>,
+    /// The firmware's estimate at this tick was given to the recorder.
+    knot_at_tick: bool,
+    /// The last tick the estimate was given at, with its value after the
+    /// handlers there.
+    last_knot: Option<(u64, f64)>,
+    /// The compare's hardware ended a pulse whose interrupt has not run:
+    /// until it does, the firmware's estimate runs on along the pulse.
+    edge_unseen: bool,
     gate: bool,
     sample_period: u64,
     conversion_ticks: u64,
@@ -137,6 +155,9 @@ struct Engine<F> {
     cpu: Cpu,
     /// A fast handler's outputs take effect at this tick (when it ends).
     effects_at: Option<u64>,
+    /// Stops where nothing happens, every this many ticks (see
+    /// [`RunControl::probe_every_ticks`]).
+    probe: Option<u64>,
 }
 
 /// Run a scenario to its end with the crate's stack, configured as the
@@ -172,6 +193,7 @@ pub fn run_firmware_with<F: Firmware>(
     let peripherals = Peripherals::new();
     let firmware = build(&peripherals);
     let mut engine = Engine::new(scenario, firmware, peripherals)?;
+    engine.probe = control.probe_every_ticks.filter(|&p| p > 0);
     let stored_start = engine.plant.stored_j();
     engine.start_up();
     let mut events = 0u32;
@@ -182,8 +204,8 @@ pub fn run_firmware_with<F: Firmware>(
         }
         let target = engine.next_event();
         engine.tick = if engine.comparator.exists() {
-            // A comparator may fire inside the interval: solve eagerly.
-            engine.advance_plant(target)
+            // A comparator may fire inside the interval: look ahead first.
+            engine.watch_until(target)
         } else {
             target
         };
@@ -276,6 +298,12 @@ impl<F: Firmware> Engine<F> {
             tick: 0,
             plant_tick: 0,
             frac: 0.0,
+            scanned: Ahead { t: 0.0, x: [sc.initial_inductor_a, sc.initial_output_v] },
+            found: None,
+            synced_dac: None,
+            knot_at_tick: false,
+            last_knot: None,
+            edge_unseen: false,
             gate: false,
             sample_period: ticks(1.0 / sc.mcu.sample_rate_hz, hz).max(1),
             conversion_ticks: ticks(sc.mcu.conversion_s, hz),
@@ -288,6 +316,7 @@ impl<F: Firmware> Engine<F> {
             recorder,
             cpu,
             effects_at: None,
+            probe: None,
         })
     }
 
@@ -312,6 +341,9 @@ impl<F: Firmware> Engine<F> {
         if let Some(t) = self.effects_at {
             next = next.min(t);
         }
+        if let Some(p) = self.probe {
+            next = next.min((self.tick / p + 1) * p);
+        }
         next
     }
 
@@ -326,6 +358,18 @@ impl<F: Firmware> Engine<F> {
 
     /// Handle every event due at the current tick.
     fn dispatch(&mut self) {
+        self.knot_at_tick = false;
+        let unseen = self.edge_unseen;
+        self.dispatch_events();
+        if self.knot_at_tick {
+            self.knot_after(unseen && !self.edge_unseen);
+        }
+    }
+
+    fn dispatch_events(&mut self) {
+        if self.probe.is_some_and(|p| self.tick.is_multiple_of(p)) {
+            self.catch_up();
+        }
         if self.schedule.next_profile_tick() <= self.tick {
             self.profile_breakpoints();
             self.window_edges();

@@ -28,7 +28,7 @@ pub enum Stop {
 }
 
 /// The inductor current less `amps`, whose zero is an event.
-fn current_less(amps: f64) -> Affine {
+pub(super) fn current_less(amps: f64) -> Affine {
     Affine { c: [1.0, 0.0], k0: -amps, k1: 0.0 }
 }
 
@@ -122,8 +122,23 @@ fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
     } else {
         first_change_on_eight_steps(seg, &path, &value, &crossed, f_start)
     };
-    let Bracket { mut lo, f_lo, mut hi, f_hi } = bracket?;
-    // Regula falsi for a start, then Newton kept inside the bracket.
+    Some(refine(&path, bracket?, &crossed))
+}
+
+/// An interval `[lo, hi]` of a segment, with the level at its ends, whose
+/// far end is past a crossing.
+pub(super) struct Bracket {
+    pub lo: f64,
+    pub f_lo: f64,
+    pub hi: f64,
+    pub f_hi: f64,
+}
+
+/// The crossing in `bracket`: regula falsi for a start, then Newton kept
+/// inside the bracket, to within 1e-15 s; the result lies just past the
+/// crossing (`crossed` holds there).
+pub(super) fn refine(path: &Followed<'_>, bracket: Bracket, crossed: &impl Fn(f64) -> bool) -> f64 {
+    let Bracket { mut lo, f_lo, mut hi, f_hi } = bracket;
     let mut t = lo + (hi - lo) * f_lo / (f_lo - f_hi);
     for _ in 0..60 {
         let (fv, dfv) = path.value_and_rate(t);
@@ -134,21 +149,12 @@ fn root(seg: &Segment<'_>, level: &Affine) -> Option<f64> {
         }
         let step = fv / dfv;
         if hi - lo < 1e-15 || step.abs() < 1e-16 {
-            return Some(if crossed(fv) { t } else { step_across(&path, &crossed, t, step, hi) });
+            return if crossed(fv) { t } else { step_across(path, crossed, t, step, hi) };
         }
         let newton = t - step;
         t = if dfv != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
     }
-    Some(hi)
-}
-
-/// An interval `[lo, hi]` of a segment, with the level at its ends, whose
-/// far end is past a crossing.
-struct Bracket {
-    lo: f64,
-    f_lo: f64,
-    hi: f64,
-    f_hi: f64,
+    hi
 }
 
 /// Whether the level's rate has the same sign at the start and the middle

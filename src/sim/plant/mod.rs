@@ -21,24 +21,53 @@
 //! | `conduction` | conduction modes and the linear system of each |
 //! | `energy` | the energy ledger and its loss table |
 //! | `events` | DCM zero-crossings, band edges, output levels, on the closed form |
+//! | `scan` | the first of them in an interval ahead, without moving the plant |
 
 mod conduction;
 mod energy;
 mod events;
 mod params;
 mod saturation;
+mod scan;
 
 pub use conduction::Conduction;
 pub use energy::{EnergyLedger, Loss};
 pub use events::{Stop, Watch};
 pub use params::{CoreLoss, Environment, PlantParams, Stage};
 pub use saturation::Saturation;
+pub use scan::{Ahead, Scan};
 
-use crate::sim::linear::{Affine, Vec2};
+use crate::sim::linear::{Affine, Trajectory, Vec2};
 use conduction::{output_map, Solutions};
 use energy::{Integrals, PowerModel};
 use events::Segment;
 use saturation::TOP_BAND;
+
+/// The longest panel of [`Plant::advance_to`], as a fraction of the time
+/// constant of the fastest response (`1/ρ`, `ρ` the larger eigenvalue
+/// magnitude; 6 µs for the demo stage). The energies' corrected Simpson
+/// rule errs as the panel's seventh power, the record's quadratics as its
+/// third (see [`crate::sim::quadratic`]).
+pub const PANEL_OF_FASTEST: f64 = 0.25;
+
+/// A stretch of the plant's motion, for the recorder: where it starts (`τ`
+/// since the environment was set), how long it is, the states
+/// `[i_L, v_C]` at its start, middle and end, and the output voltage there.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Panel {
+    /// Start, s of `τ`.
+    pub tau0: f64,
+    /// Length, s.
+    pub h: f64,
+    /// States at the start, middle and end.
+    pub states: [Vec2; 3],
+    /// Output voltage at the start, middle and end, V.
+    pub vo: [f64; 3],
+    /// Where the output turns inside the panel (its rate changes sign
+    /// between the ends), on the closed form: time after the panel's
+    /// start, s, and value, V.
+    pub vo_turn: Option<(f64, f64)>,
+}
 
 /// The converter's power stage.
 #[derive(Clone, Debug)]
@@ -243,10 +272,95 @@ impl Plant {
         self.tau += t;
         match stop {
             Stop::CurrentZero(_) => self.set_mode(Conduction::Idle),
-            Stop::BandEdge(_) => self.enter_band_past_edge(i_heading),
+            Stop::BandEdge(_) => self.enter_band_past_edge(i_heading.abs() > self.x[0].abs()),
             _ => {}
         }
         stop
+    }
+
+    /// Move the plant `dt` on, an interval [`scan`](Self::scan) found free
+    /// of events: the energies by Simpson's rule on panels of at most
+    /// [`PANEL_OF_FASTEST`] of the fastest response's time constant, each
+    /// panel handed to `record`.
+    pub fn advance_to(&mut self, dt: f64, record: &mut impl FnMut(&Panel)) {
+        if dt <= 0.0 {
+            return;
+        }
+        let longest = PANEL_OF_FASTEST / self.solutions.at(self.solution).fastest_rate();
+        let n = (dt / longest).ceil().clamp(1.0, f64::from(u32::MAX));
+        let h = dt / n;
+        let mut done = 0.0;
+        for k in 1..=n as u32 {
+            // The last panel ends exactly at `dt`.
+            let step = if f64::from(k) == n { dt - done } else { h };
+            let x0 = self.x;
+            let trajectory = self.solutions.at(self.solution).start_at(x0, self.tau);
+            let (mid, end) = trajectory.midpoint_and_end(step);
+            let vo_turn = self.output_turn(&trajectory, step, &x0, &end);
+            self.accumulate_corrected(step, [&x0, &mid, &end]);
+            let tau0 = self.tau;
+            let vo = [
+                self.output.value(&x0, tau0),
+                self.output.value(&mid, tau0 + 0.5 * step),
+                self.output.value(&end, tau0 + step),
+            ];
+            record(&Panel { tau0, h: step, states: [x0, mid, end], vo, vo_turn });
+            self.x = end;
+            self.tau += step;
+            done += step;
+        }
+    }
+
+    /// Where the output turns on `trajectory` between `x0` and `x1`, `h`
+    /// later, when its rate has opposite signs at the two: time after `x0`,
+    /// s, and value, V.
+    fn output_turn(
+        &self,
+        trajectory: &Trajectory<'_>,
+        h: f64,
+        x0: &Vec2,
+        x1: &Vec2,
+    ) -> Option<(f64, f64)> {
+        let system = self.solutions.at(self.solution).system();
+        let r0 = self.output.rate(&system.rate(x0, self.tau));
+        let r1 = self.output.rate(&system.rate(x1, self.tau + h));
+        (r0 * r1 < 0.0).then(|| scan::turn(&trajectory.follow(&self.output), 0.0, r0, h, r1))
+    }
+
+    /// Act on an event [`scan`](Self::scan) found, once the plant has been
+    /// moved to it: idle at a DCM zero, the next band past a band edge (the
+    /// one the current is heading for there). A crossing changes nothing
+    /// here.
+    pub fn take_event(&mut self, stop: Stop) {
+        match stop {
+            Stop::CurrentZero(_) => self.set_mode(Conduction::Idle),
+            Stop::BandEdge(_) => {
+                let rate = self.solutions.at(self.solution).system().rate(&self.x, self.tau);
+                self.enter_band_past_edge(rate[0] * self.x[0] > 0.0);
+            }
+            Stop::Reached | Stop::Crossing(_) => {}
+        }
+    }
+
+    /// The state `t` ahead of the plant's time on the present solution (the
+    /// plant does not move).
+    pub fn state_ahead(&self, t: f64) -> Vec2 {
+        self.trajectory().at(t)
+    }
+
+    /// The source voltage `t` ahead of the plant's time, V.
+    pub fn vin_ahead(&self, t: f64) -> f64 {
+        self.env.vin_at(self.tau + t)
+    }
+
+    /// The output voltage in state `x`, `t` ahead of the plant's time, V.
+    pub fn v_out_of(&self, x: &Vec2, t: f64) -> f64 {
+        self.output.value(x, self.tau + t)
+    }
+
+    /// The trajectory from the plant's state and time.
+    fn trajectory(&self) -> Trajectory<'_> {
+        self.solutions.at(self.solution).start_at(self.x, self.tau)
     }
 
     /// The solution for the present mode, band and environment.
@@ -273,11 +387,34 @@ impl Plant {
         self.end_integrands = Some(b);
     }
 
+    /// [`accumulate`](Self::accumulate) by the corrected rule (its error
+    /// falls as the panel's seventh power), for the panels of
+    /// [`advance_to`](Self::advance_to).
+    fn accumulate_corrected(&mut self, dt: f64, [x0, mid, end]: [&Vec2; 3]) {
+        let model = PowerModel {
+            params: &self.params,
+            env: &self.env,
+            output: &self.output,
+            mode: self.mode,
+        };
+        let system = self.solutions.at(self.solution).system();
+        let (t0, t1) = (self.tau, self.tau + dt);
+        let (a, m, b) = (
+            model.at(x0[0], x0[1], t0),
+            model.at(mid[0], mid[1], t0 + 0.5 * dt),
+            model.at(end[0], end[1], t1),
+        );
+        let sign = if mid[0] < 0.0 { -1.0 } else { 1.0 };
+        let rate_a = model.rate(x0, &system.rate(x0, t0), t0, sign);
+        let rate_b = model.rate(end, &system.rate(end, t1), t1, sign);
+        self.energy.add(&model, &Integrals::corrected_simpson(dt, [&a, &m, &b], &rate_a, &rate_b));
+        self.end_integrands = None;
+    }
+
     /// After stopping at a band edge, step into the band the current was
-    /// heading for (`i_end`: where the whole interval would have ended).
-    fn enter_band_past_edge(&mut self, i_end: f64) {
+    /// heading for: the next one up when its magnitude is `rising`.
+    fn enter_band_past_edge(&mut self, rising: bool) {
         if self.params.saturation.is_some() {
-            let rising = i_end.abs() > self.x[0].abs();
             let band =
                 if rising { (self.band + 1).min(TOP_BAND) } else { self.band.saturating_sub(1) };
             self.set_band(band);

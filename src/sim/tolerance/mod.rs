@@ -181,7 +181,7 @@ fn judge_run(
     let scenario = draw::apply(base, &settings);
     let outcome =
         scenario.validate().map_err(|e| format!("drawn scenario invalid: {e}")).and_then(|()| {
-            match run_with(&scenario, &RunControl { progress: None, cancel }) {
+            match run_with(&scenario, &RunControl { cancel, ..RunControl::default() }) {
                 Ok(out) => Ok(Figures::of(&Summary::without_audible(&out, &scenario.name, 0.0))),
                 Err(RunError::Cancelled) => Err(String::new()),
                 Err(e) => Err(e.to_string()),

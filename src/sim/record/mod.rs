@@ -1,15 +1,24 @@
 //! What a run records: switching cycles, a waveform envelope for plots, and
 //! integrals over the steady-state windows.
 //!
+//! The record is fed the plant's motion panel by panel (each a few
+//! microseconds at most, see [`crate::sim::plant::Panel`]) and the
+//! firmware's current estimate at each event (its knots), so its integrals
+//! and extremes do not depend on where the event loop happened to stop.
+//!
 //! Steady state: the run is split at every disturbance (each input or load
 //! breakpoint after t = 0); the second half of each piece is taken as
 //! steady. Frequency, ripple, mean output and efficiency figures use those
 //! windows only; extremes (peak current, minimum on/off-times) use the whole
 //! run.
 
+mod estimate;
+
 use super::cells::CellGrid;
-use super::plant::EnergyLedger;
+use super::plant::{EnergyLedger, Panel};
+use super::quadratic::{squared_difference, Quadratic};
 use super::transient::TransientTracker;
+use estimate::{EstimateLine, Knot, Piece};
 
 /// Cell width of the inductor-current record in the steady windows, s.
 pub const IL_CELL_S: f64 = 0.25e-6;
@@ -44,6 +53,24 @@ pub struct Cycle {
     pub il_off_a: f64,
 }
 
+impl Cycle {
+    fn take_output(&mut self, v: f64) {
+        raise(&mut self.vo_max_v, v);
+        lower(&mut self.vo_min_v, v);
+    }
+
+    fn take_current(&mut self, i: f64) {
+        raise(&mut self.il_max_a, i);
+        lower(&mut self.il_min_a, i);
+    }
+
+    fn take_estimate(&mut self, e: f64) {
+        if e.is_finite() {
+            raise_or_set(&mut self.il_est_max_a, e);
+        }
+    }
+}
+
 /// Waveform envelope over one slice of time, for plots and CSV.
 #[derive(Clone, Copy, Debug, PartialEq, serde::Serialize)]
 pub struct Slice {
@@ -66,6 +93,23 @@ pub struct Slice {
 }
 
 impl Slice {
+    fn take_output(&mut self, v: f64) {
+        lower(&mut self.vo_min_v, v);
+        raise(&mut self.vo_max_v, v);
+    }
+
+    fn take_current(&mut self, i: f64) {
+        lower(&mut self.il_min_a, i);
+        raise(&mut self.il_max_a, i);
+    }
+
+    fn take_estimate(&mut self, e: f64) {
+        if e.is_finite() {
+            lower_or_set(&mut self.il_est_min_a, e);
+            raise_or_set(&mut self.il_est_max_a, e);
+        }
+    }
+
     fn empty(t_s: f64) -> Self {
         Self {
             t_s,
@@ -198,6 +242,8 @@ pub struct Recorder {
     /// The output through each disturbance.
     pub transients: TransientTracker,
     last: Option<Observation>,
+    /// The firmware's estimate, knots not yet recorded.
+    estimate: EstimateLine,
 }
 
 impl Recorder {
@@ -241,6 +287,7 @@ impl Recorder {
             il_peak_a: 0.0,
             transients: TransientTracker::default(),
             last: None,
+            estimate: EstimateLine::default(),
         }
     }
 
@@ -279,71 +326,177 @@ impl Recorder {
         }
     }
 
-    /// The circuit at one instant (called at every simulation event).
-    pub fn observe(&mut self, o: Observation) {
+    /// The circuit at one instant where the record starts or the output
+    /// jumps (a step of the input or load moves it at once through the
+    /// ESR): extremes and the envelope, no integral.
+    pub fn point(&mut self, o: Observation) {
         raise(&mut self.il_peak_a, o.il_a.abs());
         self.transients.observe(&o);
         if let Some(c) = self.current.as_mut() {
-            raise(&mut c.il_max_a, o.il_a);
-            lower(&mut c.il_min_a, o.il_a);
-            raise(&mut c.vo_max_v, o.vo_v);
-            lower(&mut c.vo_min_v, o.vo_v);
-            if o.il_est_a.is_finite() {
-                raise_or_set(&mut c.il_est_max_a, o.il_est_a);
-            }
+            c.take_output(o.vo_v);
+            c.take_current(o.il_a);
+            c.take_estimate(o.il_est_a);
         }
-        if let Some(prev) = self.last {
-            self.integrate(&prev, &o);
-        }
-        self.envelope(&o);
+        let s = self.slice_at(o.t_s);
+        s.take_output(o.vo_v);
+        s.take_current(o.il_a);
+        s.take_estimate(o.il_est_a);
         self.last = Some(o);
     }
 
-    /// Trapezoid integrals over the part of `[prev, o]` inside a window.
-    fn integrate(&mut self, prev: &Observation, o: &Observation) {
-        let dt = o.t_s - prev.t_s;
-        if dt <= 0.0 {
-            return;
+    /// The firmware's estimate at an event, just before and just after its
+    /// handlers (and at any time the plant is moved to, where both are the
+    /// same): the record takes it as straight in between.
+    pub fn estimate_knot(&mut self, t_s: f64, before_a: f64, after_a: f64) {
+        self.estimate.knot(Knot { t_s, before_a, after_a });
+    }
+
+    /// The firmware's estimate after the handlers of the event at `t_s`
+    /// (its knot was given with the value before them); `corrected`: they
+    /// corrected it for what happened before the event (a pulse's end they
+    /// learned of late), so the line runs to this value.
+    pub fn estimate_after(&mut self, t_s: f64, after_a: f64, corrected: bool) {
+        self.estimate.set_after(t_s, after_a, corrected);
+    }
+
+    /// A panel of the plant's motion from `t0_s`, the gate on or off all
+    /// along: its output and current taken as the quadratics through the
+    /// panel's three states ([`super::quadratic`]), integrated by Simpson's rule,
+    /// with their extremes (a turn inside the panel included) and the
+    /// output's exits from the recovery band; the firmware's estimate from
+    /// the knots up to the panel's end.
+    pub fn panel(&mut self, t0_s: f64, p: &Panel, gate_on: bool) {
+        let vo = Quadratic::through(p.h, p.vo);
+        let il = Quadratic::through(p.h, [p.states[0][0], p.states[1][0], p.states[2][0]]);
+        let t1_s = t0_s + p.h;
+        let (v_lo, v_hi) = match p.vo_turn {
+            Some((_, v)) => (v.min(p.vo[0]).min(p.vo[2]), v.max(p.vo[0]).max(p.vo[2])),
+            None => vo.range(),
+        };
+        let (i_lo, i_hi) = il.range();
+        let i_peak = i_hi.max(-i_lo);
+        raise(&mut self.il_peak_a, i_peak);
+        if let Some(c) = self.current.as_mut() {
+            c.take_output(v_lo);
+            c.take_output(v_hi);
+            c.take_current(i_lo);
+            c.take_current(i_hi);
         }
-        let mid = 0.5 * (prev.t_s + o.t_s);
-        while self.windows.get(self.window_cursor).is_some_and(|w| mid >= w.to_s) {
-            self.window_cursor += 1;
+        let slices = (self.slice_index(t0_s), self.slice_index(t1_s));
+        if slices.0 == slices.1 {
+            let s = &mut self.slices[slices.0];
+            s.take_output(v_lo);
+            s.take_output(v_hi);
+            s.take_current(i_lo);
+            s.take_current(i_hi);
+        } else {
+            self.take_extremes_by_slice(t0_s, p, &vo, &il);
         }
-        let Some(w) = self.windows.get_mut(self.window_cursor) else { return };
-        if mid < w.from_s {
-            return;
+        self.transients.panel(t0_s, &vo, (v_lo, v_hi), i_peak);
+        let window = self.window_at(t0_s + 0.5 * p.h);
+        if let Some(k) = window {
+            let w = &mut self.windows[k];
+            w.vo_integral += vo.total();
+            w.il_integral += il.total();
+            lower(&mut w.vo_min_v, v_lo);
+            raise(&mut w.vo_max_v, v_hi);
+            if let Some(cells) = self.il_cells.get_mut(k) {
+                cells.add_quadratic(t0_s, &il);
+            }
         }
-        if let Some(cells) = self.il_cells.get_mut(self.window_cursor) {
-            cells.add_segment((prev.t_s, prev.il_a), (o.t_s, o.il_a));
+        let mut t = t0_s;
+        let il_est_a = loop {
+            let piece = self.estimate.piece_from(t, t1_s);
+            self.take_estimate_piece(t0_s, &il, &piece, window);
+            if piece.t1 >= t1_s {
+                break piece.e1;
+            }
+            t = piece.t1;
+        };
+        if gate_on {
+            self.add_duty(t0_s, t1_s);
         }
-        w.vo_integral += 0.5 * (prev.vo_v + o.vo_v) * dt;
-        lower(&mut w.vo_min_v, o.vo_v);
-        raise(&mut w.vo_max_v, o.vo_v);
-        w.il_integral += 0.5 * (prev.il_a + o.il_a) * dt;
-        w.il_est_integral += 0.5 * (prev.il_est_a + o.il_est_a) * dt;
-        if prev.il_est_a.is_finite() && o.il_est_a.is_finite() {
-            let (e0, e1) = (prev.il_est_a - prev.il_a, o.il_est_a - o.il_a);
-            w.est_err_sq_integral += 0.5 * (e0 * e0 + e1 * e1) * dt;
+        self.last =
+            Some(Observation { t_s: t1_s, vo_v: p.vo[2], il_a: p.states[2][0], il_est_a, gate_on });
+    }
+
+    /// The output's and current's extremes over a panel that spans
+    /// envelope slices, each in its slice.
+    fn take_extremes_by_slice(&mut self, t0_s: f64, p: &Panel, vo: &Quadratic, il: &Quadratic) {
+        let ends = [(0.0, p.vo[0]), (p.h, p.vo[2])];
+        let turn = match p.vo_turn {
+            Some(turn) => Some(turn),
+            None => vo.turn(),
+        };
+        for (s, v) in ends.into_iter().chain(turn) {
+            self.slice_at(t0_s + s).take_output(v);
+        }
+        for (s, i) in il.extreme_points() {
+            self.slice_at(t0_s + s).take_current(i);
         }
     }
 
-    fn envelope(&mut self, o: &Observation) {
-        // Through i64 (one instruction; the same index for any time).
-        let last = self.slices.len() - 1;
-        let k = ((o.t_s * self.slices_per_s) as i64).clamp(0, last as i64) as usize;
-        let s = &mut self.slices[k];
-        lower(&mut s.vo_min_v, o.vo_v);
-        raise(&mut s.vo_max_v, o.vo_v);
-        lower(&mut s.il_min_a, o.il_a);
-        raise(&mut s.il_max_a, o.il_a);
-        if o.il_est_a.is_finite() {
-            lower_or_set(&mut s.il_est_min_a, o.il_est_a);
-            raise_or_set(&mut s.il_est_max_a, o.il_est_a);
+    /// A straight piece of the firmware's estimate inside a panel from
+    /// `t0_s` whose current is `il`: its extremes, and in a steady window
+    /// its integral and that of its squared error (exact for a line less a
+    /// quadratic).
+    fn take_estimate_piece(
+        &mut self,
+        t0_s: f64,
+        il: &Quadratic,
+        piece: &Piece,
+        window: Option<usize>,
+    ) {
+        if let Some(c) = self.current.as_mut() {
+            c.take_estimate(piece.e0);
+            c.take_estimate(piece.e1);
         }
-        if let Some(prev) = self.last {
-            if prev.gate_on {
-                s.duty += (o.t_s - prev.t_s) / self.slice_s;
-            }
+        let slices = (self.slice_index(piece.t0), self.slice_index(piece.t1));
+        self.slices[slices.0].take_estimate(piece.e0);
+        self.slices[slices.1].take_estimate(piece.e1);
+        let Some(w) = window.map(|k| &mut self.windows[k]) else { return };
+        let dt = piece.t1 - piece.t0;
+        w.il_est_integral += 0.5 * (piece.e0 + piece.e1) * dt;
+        if piece.e0.is_finite() && piece.e1.is_finite() && dt > 0.0 {
+            let (a, b) = (piece.t0 - t0_s, piece.t1 - t0_s);
+            w.est_err_sq_integral += squared_difference(il, a, b, piece.e0, piece.e1);
+        }
+    }
+
+    /// The steady window a panel centred at `mid_s` lies in, if any
+    /// (panels come in time order).
+    fn window_at(&mut self, mid_s: f64) -> Option<usize> {
+        while self.windows.get(self.window_cursor).is_some_and(|w| mid_s >= w.to_s) {
+            self.window_cursor += 1;
+        }
+        let w = self.windows.get(self.window_cursor)?;
+        (mid_s >= w.from_s).then_some(self.window_cursor)
+    }
+
+    /// The envelope slice holding `t_s`.
+    fn slice_at(&mut self, t_s: f64) -> &mut Slice {
+        let k = self.slice_index(t_s);
+        &mut self.slices[k]
+    }
+
+    /// The index of the envelope slice holding `t_s` (through i64: one
+    /// instruction).
+    fn slice_index(&self, t_s: f64) -> usize {
+        let last = self.slices.len() - 1;
+        ((t_s * self.slices_per_s) as i64).clamp(0, last as i64) as usize
+    }
+
+    /// The gate on over `[t0_s, t1_s]`: each slice's share of it.
+    fn add_duty(&mut self, t0_s: f64, t1_s: f64) {
+        let mut t = t0_s;
+        while t < t1_s {
+            let slice_s = self.slice_s;
+            let s = self.slice_at(t);
+            let end = (s.t_s + slice_s).min(t1_s);
+            // The last slice holds whatever lies beyond the run.
+            let end = if end <= t { t1_s } else { end };
+            s.duty += (end - t) / slice_s;
+            t = end;
         }
     }
 
@@ -375,10 +528,9 @@ impl Recorder {
         done
     }
 
-    /// The gate turned off. The circuit at `t_s` is the last observation
-    /// (the engine observes the circuit up to an edge before carrying it out).
-    pub fn fall(&mut self, t_s: f64) {
-        let il_now = self.last.filter(|o| o.t_s == t_s).map_or(f64::NAN, |o| o.il_a);
+    /// The gate turned off at `t_s` with the inductor current at `il_a`.
+    pub fn fall(&mut self, t_s: f64, il_a: f64) {
+        let il_now = il_a;
         if let Some(r) = self.rise {
             self.on_min_s = self.on_min_s.min(t_s - r);
             if let Some(c) = self.current.as_mut() {

@@ -1,0 +1,123 @@
+//! The firmware's current estimate over time, for the record: straight
+//! between the simulator's events (the firmware moves it only in its
+//! handlers, and a line's slope only changes there), with a step at an
+//! event whose handlers moved it. The engine hands over the estimate just
+//! before and just after each event's handlers (a [`Knot`]), and a knot at
+//! any time it moves the plant; each panel of the plant's motion then takes
+//! the pieces of the line within it, one after another.
+
+use std::collections::VecDeque;
+
+/// The estimate at an event, just before and just after its handlers, A
+/// (NaN: the firmware gives none).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Knot {
+    /// Time, s.
+    pub t_s: f64,
+    /// Before the handlers, A.
+    pub before_a: f64,
+    /// After them, A.
+    pub after_a: f64,
+}
+
+/// A straight piece of the estimate: from `(t0, e0)` to `(t1, e1)`.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Piece {
+    /// Start, s.
+    pub t0: f64,
+    /// End, s.
+    pub t1: f64,
+    /// Estimate at the start, A.
+    pub e0: f64,
+    /// Estimate at the end, A.
+    pub e1: f64,
+}
+
+/// The estimate's line, with the knots not yet reached by the record.
+#[derive(Clone, Debug, Default)]
+pub struct EstimateLine {
+    /// Where the present piece starts: time, s, and value, A.
+    from: (f64, f64),
+    pending: VecDeque<Knot>,
+}
+
+impl EstimateLine {
+    /// A knot. One earlier than the last knot given is dropped: the
+    /// firmware's state behind it has moved on since (the plant, found
+    /// late to have stopped there, lags the handlers), and the line between
+    /// the knots around it already holds its value.
+    pub fn knot(&mut self, k: Knot) {
+        let last = self.pending.back().map_or(self.from.0, |p| p.t_s);
+        if k.t_s >= last {
+            self.pending.push_back(k);
+        }
+    }
+
+    /// The estimate after the handlers of the event at `t_s`, once they
+    /// ran (its knot was given with the value before them); `corrected`:
+    /// the value before them is replaced too (the line runs to it).
+    pub fn set_after(&mut self, t_s: f64, after_a: f64, corrected: bool) {
+        match self.pending.back_mut() {
+            Some(k) if k.t_s == t_s => {
+                k.after_a = after_a;
+                if corrected {
+                    k.before_a = after_a;
+                }
+            }
+            _ if self.from.0 == t_s => self.from.1 = after_a,
+            _ => {}
+        }
+    }
+
+    /// The straight piece of the line from `t` towards `t1`: up to the
+    /// next knot, or to `t1` without one before it; the knots it reaches
+    /// are used up.
+    pub fn piece_from(&mut self, t: f64, t1: f64) -> Piece {
+        while let Some(k) = self.pending.front().filter(|k| k.t_s <= t).copied() {
+            self.from = (k.t_s, k.after_a);
+            self.pending.pop_front();
+        }
+        let e0 = self.value_at(t);
+        match self.pending.front().filter(|k| k.t_s <= t1).copied() {
+            Some(k) => {
+                self.from = (k.t_s, k.after_a);
+                self.pending.pop_front();
+                Piece { t0: t, t1: k.t_s, e0, e1: k.before_a }
+            }
+            None => Piece { t0: t, t1, e0, e1: self.value_at(t1) },
+        }
+    }
+
+    /// The value at `t` on the present piece: the line from its start to
+    /// the next knot's value before that knot's handlers (held without a
+    /// next knot).
+    fn value_at(&self, t: f64) -> f64 {
+        let (ta, ea) = self.from;
+        match self.pending.front() {
+            Some(k) if k.t_s > ta => ea + (k.before_a - ea) * ((t - ta) / (k.t_s - ta)),
+            _ => ea,
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn pieces_run_straight_between_knots_and_step_at_them() {
+        let mut line = EstimateLine::default();
+        line.knot(Knot { t_s: 0.0, before_a: 0.0, after_a: 1.0 });
+        line.knot(Knot { t_s: 2.0, before_a: 3.0, after_a: 0.5 });
+        line.knot(Knot { t_s: 4.0, before_a: 0.5, after_a: 0.5 });
+        let got = [line.piece_from(0.0, 1.0), line.piece_from(1.0, 3.0), line.piece_from(2.0, 3.0)];
+        assert_eq!(
+            got,
+            [
+                Piece { t0: 0.0, t1: 1.0, e0: 1.0, e1: 2.0 },
+                Piece { t0: 1.0, t1: 2.0, e0: 2.0, e1: 3.0 },
+                Piece { t0: 2.0, t1: 3.0, e0: 0.5, e1: 0.5 },
+            ]
+        );
+    }
+}
