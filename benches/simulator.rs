@@ -1,26 +1,27 @@
 //! Simulator throughput: 10 ms simulated end to end, as simulated switching
-//! cycles per wall-clock second, for the built-in default (hysteretic law
-//! on 1 MHz readings) and for `examples/scenarios/edge-locked.toml` (the
+//! cycles per wall-clock second, for the built-in default (the hysteretic
 //! law on comparator edges, its mean frequency locked to 35 kHz, readings
 //! at 50 kHz, housekeeping at 5 kHz, handlers charged on a 170 MHz
-//! Cortex-M4); and the plant alone, per step, with step lengths that
-//! repeat and that never do (the cost of a step must not depend on it).
+//! Cortex-M4) and for the sampled test fixture
+//! (`tests/fixtures/sampled-1mhz.toml`: the law on 1 MHz readings, no named
+//! core); and the plant alone, per step, with step lengths that repeat and
+//! that never do (the cost of a step must not depend on it).
 
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use ripplectl::sim::plant::{Conduction, Environment, Plant};
 use ripplectl::sim::{self, Scenario};
 use std::hint::black_box;
 
-/// The comparator-edge configuration, as shipped.
-fn edge_locked() -> Scenario {
-    Scenario::from_toml(include_str!("../examples/scenarios/edge-locked.toml"))
-        .expect("the shipped scenario parses")
+/// The sampled test fixture.
+fn sampled() -> Scenario {
+    Scenario::from_toml(include_str!("../tests/fixtures/sampled-1mhz.toml"))
+        .expect("the fixture parses")
 }
 
 fn scenarios(c: &mut Criterion) {
     let cases = [
-        ("default (sampled), switching cycles", Scenario::default_demo()),
-        ("edge-locked.toml, switching cycles", edge_locked()),
+        ("default (comparator edges), switching cycles", Scenario::default_demo()),
+        ("sampled fixture (1 MHz readings), switching cycles", sampled()),
     ];
     let mut group = c.benchmark_group("10 ms simulated");
     for (name, scenario) in cases {

@@ -12,9 +12,12 @@
 //! same in both runs, so cycle counts and frequencies agree exactly.
 //!
 //! Before the record was fed the plant's motion panel by panel, its figures
-//! moved with event density: on `edge-locked.toml`, mean output 4.0 mV low,
+//! moved with event density: on the comparator-edge default scenario (then
+//! `edge-locked.toml`), mean output 4.0 mV low,
 //! ripple 1.2 % low, estimate error 154 mA rms against 225 mA, overshoots
 //! 3.4–4.5 % low, against such a refined run.
+
+mod common;
 
 use ripplectl::sim::{self, RunControl, Scenario, Summary};
 
@@ -64,12 +67,11 @@ fn agrees_with_its_refined_run(scenario: &Scenario) {
 }
 
 #[test]
-fn the_edge_locked_record_matches_a_run_stopped_every_two_ticks() {
-    let text = std::fs::read_to_string("examples/scenarios/edge-locked.toml").unwrap();
-    agrees_with_its_refined_run(&Scenario::from_toml(&text).unwrap());
+fn the_default_record_matches_a_run_stopped_every_two_ticks() {
+    agrees_with_its_refined_run(&Scenario::default_demo());
 }
 
 #[test]
-fn the_default_record_matches_a_run_stopped_every_two_ticks() {
-    agrees_with_its_refined_run(&Scenario::default_demo());
+fn the_sampled_record_matches_a_run_stopped_every_two_ticks() {
+    agrees_with_its_refined_run(&common::sampled_fixture());
 }
