@@ -18,6 +18,12 @@
 //! Each limit that acts is counted in [`ClampCounts`] (once per switching
 //! cycle and reason), for telemetry.
 //!
+//! During the soft-start of a law whose reference firmware cannot move
+//! (the analog retrofit), the supervisor may bound each pulse further
+//! ([`Regulate::limit_pulses`]): a shorter maximum on-time, and an
+//! off-time in proportion to the pulse before it. Those turn-offs count as
+//! maximum-on-time clamps, those waits as minimum-off-time ones.
+//!
 //! Timing is wrap-safe: each edge sets the deadlines of the state it
 //! enters (the ends of the minimum and maximum on-time at a turn-on; the
 //! earliest next turn-on at a turn-off), each call compares `now` with them
@@ -28,7 +34,7 @@
 //! even in edge mode on an idle converter.
 
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
-use crate::law::{Command, Conditions, Event, Gate, Law, LockState, Regulate};
+use crate::law::{Command, Conditions, Event, Gate, Law, LockState, PulseLimit, Regulate};
 use crate::scale::TimerClock;
 use crate::tick::{earliest, Instant};
 
@@ -203,6 +209,12 @@ pub struct FrequencyGuard<L> {
     forced_pulses: bool,
     on_clamp_noted: bool,
     off_clamp_noted: bool,
+    // The maximum on-time in force, ticks (the window's, or a start-up
+    // pulse limit's when shorter; ≥ 1).
+    max_on: u32,
+    // Least off-time per tick of on-time, × 2⁸ (0: none beyond the
+    // window's; at most 2¹⁶ − 1).
+    off_per_on: u32,
     counts: ClampCounts,
 }
 
@@ -226,6 +238,8 @@ impl<L: Law> FrequencyGuard<L> {
             forced_pulses: matches!(window.light_load, LightLoad::ForcedPulse),
             on_clamp_noted: false,
             off_clamp_noted: false,
+            max_on: window.max_on,
+            off_per_on: 0,
             counts: ClampCounts {
                 min_on: 0,
                 min_off: 0,
@@ -298,17 +312,21 @@ impl<L: Law> FrequencyGuard<L> {
     fn time_rise(&mut self, at: Instant) {
         self.rise = at;
         self.min_on_end = at.after(self.window.min_on);
-        self.max_on_end = at.after(self.window.max_on);
+        self.max_on_end = at.after(self.max_on);
         self.max_period_end = at.after(self.window.max_period);
     }
 
-    /// The earliest next turn-on, from the fall at `at`: the later of the
-    /// minimum off-time's end and the minimum period's.
+    /// The earliest next turn-on, from the fall at `at`: the latest of the
+    /// minimum off-time's end, the minimum period's and a start-up pulse
+    /// limit's reset (the on-time held within 2¹⁶ − 1 ticks, so the product
+    /// stays in 32 bits).
     #[inline(always)]
     fn time_fall(&mut self, at: Instant) {
         self.fall = at;
-        let period_left = self.window.min_period.saturating_sub(at.ticks_since(self.rise));
-        self.turn_on_at = at.after(self.window.min_off.max(period_left));
+        let on = at.ticks_since(self.rise);
+        let period_left = self.window.min_period.saturating_sub(on);
+        let reset = (on.min(0xffff) * self.off_per_on) >> 8;
+        self.turn_on_at = at.after(self.window.min_off.max(period_left).max(reset));
     }
 
     #[inline(always)]
@@ -482,5 +500,20 @@ impl<L: Regulate> Regulate for FrequencyGuard<L> {
 
     fn frequency_lock(&self) -> Option<LockState> {
         self.inner.frequency_lock()
+    }
+
+    fn follows_reference(&self) -> bool {
+        self.inner.follows_reference()
+    }
+
+    /// From the next turn-on: the shorter of `limit`'s and the window's
+    /// maximum on-time (never below the window's minimum on-time), and
+    /// `limit`'s off-time per on-time; `None` restores the window's alone.
+    fn limit_pulses(&mut self, limit: Option<PulseLimit>) {
+        let w = &self.window;
+        (self.max_on, self.off_per_on) = match limit {
+            Some(p) => (p.max_on.min(w.max_on).max(w.min_on), u32::from(p.off_per_on)),
+            None => (w.max_on, 0),
+        };
     }
 }
