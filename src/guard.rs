@@ -325,8 +325,11 @@ impl<L: Law> FrequencyGuard<L> {
         self.fall = at;
         let on = at.ticks_since(self.rise);
         let period_left = self.window.min_period.saturating_sub(on);
-        let reset = (on.min(0xffff) * self.off_per_on) >> 8;
-        self.turn_on_at = at.after(self.window.min_off.max(period_left).max(reset));
+        let wait = self.window.min_off.max(period_left);
+        self.turn_on_at = at.after(match self.off_per_on {
+            0 => wait,
+            k => wait.max((on.min(0xffff) * k) >> 8),
+        });
     }
 
     #[inline(always)]

@@ -160,7 +160,7 @@ declare -A ceiling=(
     [flash/m0/base]=383 [ram/m0/base]=22 [flash/m0/law_guard]=7383 [ram/m0/law_guard]=225
     [flash/m0/estimator]=5219 [ram/m0/estimator]=190 [flash/m0/supervisor]=9909 [ram/m0/supervisor]=568
     [flash/m0/slow_path]=10459 [ram/m0/slow_path]=911 [flash/m0/driver]=572 [ram/m0/driver]=53
-    [flash/m0/stack]=16474 [ram/m0/stack]=942 [flash/m0/firmware]=16614 [ram/m0/firmware]=920
+    [flash/m0/stack]=18696 [ram/m0/stack]=942 [flash/m0/firmware]=16614 [ram/m0/firmware]=920
     [flash/m4/base]=1329 [ram/m4/base]=22 [flash/m4/law_guard]=6279 [ram/m4/law_guard]=225
     [flash/m4/estimator]=5404 [ram/m4/estimator]=190 [flash/m4/supervisor]=9306 [ram/m4/supervisor]=568
     [flash/m4/slow_path]=9606 [ram/m4/slow_path]=911 [flash/m4/driver]=1501 [ram/m4/driver]=53
