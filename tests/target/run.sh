@@ -231,6 +231,9 @@ handler_hyst_conversion|handler: conversion done, hysteretic stack (mean)
 handler_hyst_conversion_max|handler: conversion done, hysteretic stack (worst seen)
 handler_hyst_compare|handler: compare, hysteretic stack (at the armed deadline)
 handler_hyst_housekeeping|handler: housekeeping, hysteretic stack
+handler_lock_conversion|handler: conversion done, locked and dithered hysteretic stack (mean)
+handler_lock_conversion_max|handler: conversion done, locked and dithered hysteretic stack (worst seen)
+handler_lock_housekeeping|handler: housekeeping, locked and dithered hysteretic stack (lock, dither)
 handler_cot_conversion|handler: conversion done, on-time stack (mean)
 handler_cot_conversion_max|handler: conversion done, on-time stack (worst seen)
 handler_cot_compare|handler: compare (on-time ended), on-time stack
@@ -242,6 +245,9 @@ handler_edge_compare|handler: compare, edge-driven stack (at the armed deadline)
 handler_edge_housekeeping|handler: housekeeping, edge-driven stack
 handler_retrofit_comparator|handler: comparator edge, analog retrofit (mean)
 handler_retrofit_comparator_max|handler: comparator edge, analog retrofit (worst seen)
+handler_retrofit_start_conversion|handler: conversion done, analog retrofit in its soft-start (pulse bound, mean)
+handler_retrofit_start_compare|handler: compare, analog retrofit in its soft-start (a bounded pulse ends, mean)
+handler_retrofit_start_housekeeping|handler: housekeeping, analog retrofit in its soft-start
 ROWS
     echo
     printf '| part |'

@@ -227,7 +227,8 @@ fn loops_summary(rec: &Recording) -> String {
     let locked = &rec.rig.locked;
     let retrofit = &rec.rig.retrofit;
     let trim = locked.law().frequency_trim().map_or(0, |t| t.trim());
-    let bounded = retrofit.supervisor().inner().counts().max_on;
+    let c = retrofit.supervisor().inner().counts();
+    let bounded = c.max_on + c.min_off;
     let states =
         [cot.supervisor().state(), locked.supervisor().state(), retrofit.supervisor().state()];
     let faults: Vec<_> =
@@ -241,7 +242,7 @@ fn loops_summary(rec: &Recording) -> String {
     format!(
         "the loops end regulating: the on-time stack with an on-time of {} ticks, the locked \
          stack with a band of {} codes (lock factor {:.3}, {} bands seen at its windows), the \
-         retrofit after {bounded} pulses bounded in its start",
+         retrofit after {bounded} pulses bounded in its start (ended at the bound or held off by it)",
         cot.law().on_ticks(),
         locked.law().band_codes(),
         f64::from(trim) / 65_536.0,
