@@ -20,9 +20,9 @@
 //!
 //! During the soft-start of a law whose reference firmware cannot move
 //! (the analog retrofit), the supervisor may bound each pulse further
-//! ([`Regulate::limit_pulses`]): a shorter maximum on-time, and an
-//! off-time in proportion to the pulse before it. Those turn-offs count as
-//! maximum-on-time clamps, those waits as minimum-off-time ones.
+//! ([`Regulate::limit_pulses`]): a shorter maximum on-time, and a longer
+//! minimum off-time, in proportion to that maximum on-time. Those turn-offs
+//! count as maximum-on-time clamps, those waits as minimum-off-time ones.
 //!
 //! Timing is wrap-safe: each edge sets the deadlines of the state it
 //! enters (the ends of the minimum and maximum on-time at a turn-on; the
@@ -209,12 +209,10 @@ pub struct FrequencyGuard<L> {
     forced_pulses: bool,
     on_clamp_noted: bool,
     off_clamp_noted: bool,
-    // The maximum on-time in force, ticks (the window's, or a start-up
-    // pulse limit's when shorter; ≥ 1).
+    // The maximum on-time and minimum off-time in force, ticks: the
+    // window's, or a start-up pulse limit's (each ≥ 1).
     max_on: u32,
-    // Least off-time per tick of on-time, × 2⁸ (0: none beyond the
-    // window's; at most 2¹⁶ − 1).
-    off_per_on: u32,
+    min_off: u32,
     counts: ClampCounts,
 }
 
@@ -239,7 +237,7 @@ impl<L: Law> FrequencyGuard<L> {
             on_clamp_noted: false,
             off_clamp_noted: false,
             max_on: window.max_on,
-            off_per_on: 0,
+            min_off: window.min_off,
             counts: ClampCounts {
                 min_on: 0,
                 min_off: 0,
@@ -316,20 +314,13 @@ impl<L: Law> FrequencyGuard<L> {
         self.max_period_end = at.after(self.window.max_period);
     }
 
-    /// The earliest next turn-on, from the fall at `at`: the latest of the
-    /// minimum off-time's end, the minimum period's and a start-up pulse
-    /// limit's reset (the on-time held within 2¹⁶ − 1 ticks, so the product
-    /// stays in 32 bits).
+    /// The earliest next turn-on, from the fall at `at`: the later of the
+    /// minimum off-time's end and the minimum period's.
     #[inline(always)]
     fn time_fall(&mut self, at: Instant) {
         self.fall = at;
-        let on = at.ticks_since(self.rise);
-        let period_left = self.window.min_period.saturating_sub(on);
-        let wait = self.window.min_off.max(period_left);
-        self.turn_on_at = at.after(match self.off_per_on {
-            0 => wait,
-            k => wait.max((on.min(0xffff) * k) >> 8),
-        });
+        let period_left = self.window.min_period.saturating_sub(at.ticks_since(self.rise));
+        self.turn_on_at = at.after(self.min_off.max(period_left));
     }
 
     #[inline(always)]
@@ -388,7 +379,7 @@ impl<L: Law> FrequencyGuard<L> {
         }
         if !self.off_clamp_noted {
             self.off_clamp_noted = true;
-            if now.ticks_since(self.fall) >= self.window.min_off {
+            if now.ticks_since(self.fall) >= self.min_off {
                 self.counts.min_period = self.counts.min_period.wrapping_add(1);
             } else {
                 self.counts.min_off = self.counts.min_off.wrapping_add(1);
@@ -509,14 +500,21 @@ impl<L: Regulate> Regulate for FrequencyGuard<L> {
         self.inner.follows_reference()
     }
 
-    /// From the next turn-on: the shorter of `limit`'s and the window's
-    /// maximum on-time (never below the window's minimum on-time), and
-    /// `limit`'s off-time per on-time; `None` restores the window's alone.
+    /// From the next edge: the shorter of `limit`'s and the window's
+    /// maximum on-time (never below the window's minimum on-time), and as
+    /// minimum off-time the longer of the window's and `limit`'s off-time
+    /// per on-time times that maximum on-time (held within 2¹⁶ − 1 ticks,
+    /// so the product stays in 32 bits): a pulse ended early waits as long
+    /// as a full one, on the safe side. `None` restores the window's.
     fn limit_pulses(&mut self, limit: Option<PulseLimit>) {
         let w = &self.window;
-        (self.max_on, self.off_per_on) = match limit {
-            Some(p) => (p.max_on.min(w.max_on).max(w.min_on), u32::from(p.off_per_on)),
-            None => (w.max_on, 0),
+        (self.max_on, self.min_off) = match limit {
+            Some(p) => {
+                let max_on = p.max_on.min(w.max_on).max(w.min_on);
+                let reset = (max_on.min(0xffff) * u32::from(p.off_per_on)) >> 8;
+                (max_on, w.min_off.max(reset))
+            }
+            None => (w.max_on, w.min_off),
         };
     }
 }

@@ -278,14 +278,14 @@ pub trait Regulate {
 /// A start-up bound on each pulse ([`Regulate::limit_pulses`]): an on-time
 /// short enough that the inductor current, rising from zero, stays under
 /// the soft-start's cap, and an off-time long enough for it to fall back
-/// to zero before the next pulse (see `supervisor/start_pulses.rs`).
+/// to zero after such a pulse (see `supervisor/start_pulses.rs`).
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
 pub struct PulseLimit {
     /// Longest on-time, timer ticks (`u32`; the window's maximum on-time
     /// still applies when it is shorter, its minimum on-time when longer).
     pub max_on: u32,
-    /// Least off-time per tick of the pulse before it, × 2⁸ (`u16`,
+    /// Least off-time per tick of `max_on`, × 2⁸ (`u16`,
     /// 0…255.996: 0 asks for nothing beyond the window's minimum off-time;
     /// at the top it saturates, on the long side).
     pub off_per_on: u16,

@@ -40,7 +40,7 @@ pub const CONFIG: ripplectl::stack::StackConfig = ripplectl::stack::StackConfig 
         current_limit_a: 3.4,
         short_cycles: 8,
         hiccup_s: 0.002,
-        soft_start_s: 0.0028,
+        soft_start_s: 0.0025,
         stuck_low_v: 0.3,
         stuck_implied_v: 2.0,
         stuck_cycles: 3,
@@ -73,7 +73,7 @@ pub const PARTS: ripplectl::stack::StackParts =
 
 /// The on-time law before what is added to it.
 const BASE: ripplectl::law::OnTime = ripplectl::unwrap_config(ripplectl::law::OnTime::new(
-    &ripplectl::law::OnTimeConfig { setpoint_v: CONFIG.setpoint_v, on_time_s: 3.08e-6 },
+    &ripplectl::law::OnTimeConfig { setpoint_v: CONFIG.setpoint_v, on_time_s: 2.86e-6 },
     &CONFIG.output_adc,
     &CONFIG.clock,
 ));
@@ -82,11 +82,11 @@ const BASE: ripplectl::law::OnTime = ripplectl::unwrap_config(ripplectl::law::On
 pub const LAW: ripplectl::law::OnTime = BASE
     .with_feed_forward(ripplectl::unwrap_config(ripplectl::law::OnTimeFeedForward::new(
         CONFIG.setpoint_v,
-        65000.0,
+        70000.0,
         &CONFIG.clock,
     )))
     .with_trim(ripplectl::unwrap_config(ripplectl::law::FrequencyTrim::new(
-        65000.0,
+        70000.0,
         0.05,
         0.5,
         1.5,
