@@ -18,6 +18,12 @@
 //! Each limit that acts is counted in [`ClampCounts`] (once per switching
 //! cycle and reason), for telemetry.
 //!
+//! During the soft-start of a law whose reference firmware cannot move
+//! (the analog retrofit), the supervisor may bound each pulse further
+//! ([`Regulate::limit_pulses`]): a shorter maximum on-time, and a longer
+//! minimum off-time, in proportion to that maximum on-time. Those turn-offs
+//! count as maximum-on-time clamps, those waits as minimum-off-time ones.
+//!
 //! Timing is wrap-safe: each edge sets the deadlines of the state it
 //! enters (the ends of the minimum and maximum on-time at a turn-on; the
 //! earliest next turn-on at a turn-off), each call compares `now` with them
@@ -28,7 +34,7 @@
 //! even in edge mode on an idle converter.
 
 use crate::error::{attempt, positive, ConfigError, ErrorKind};
-use crate::law::{Command, Conditions, Event, Gate, Law, LockState, Regulate};
+use crate::law::{Command, Conditions, Event, Gate, Law, LockState, PulseLimit, Regulate};
 use crate::scale::TimerClock;
 use crate::tick::{earliest, Instant};
 
@@ -203,6 +209,10 @@ pub struct FrequencyGuard<L> {
     forced_pulses: bool,
     on_clamp_noted: bool,
     off_clamp_noted: bool,
+    // The maximum on-time and minimum off-time in force, ticks: the
+    // window's, or a start-up pulse limit's (each ≥ 1).
+    max_on: u32,
+    min_off: u32,
     counts: ClampCounts,
 }
 
@@ -226,6 +236,8 @@ impl<L: Law> FrequencyGuard<L> {
             forced_pulses: matches!(window.light_load, LightLoad::ForcedPulse),
             on_clamp_noted: false,
             off_clamp_noted: false,
+            max_on: window.max_on,
+            min_off: window.min_off,
             counts: ClampCounts {
                 min_on: 0,
                 min_off: 0,
@@ -298,7 +310,7 @@ impl<L: Law> FrequencyGuard<L> {
     fn time_rise(&mut self, at: Instant) {
         self.rise = at;
         self.min_on_end = at.after(self.window.min_on);
-        self.max_on_end = at.after(self.window.max_on);
+        self.max_on_end = at.after(self.max_on);
         self.max_period_end = at.after(self.window.max_period);
     }
 
@@ -308,7 +320,7 @@ impl<L: Law> FrequencyGuard<L> {
     fn time_fall(&mut self, at: Instant) {
         self.fall = at;
         let period_left = self.window.min_period.saturating_sub(at.ticks_since(self.rise));
-        self.turn_on_at = at.after(self.window.min_off.max(period_left));
+        self.turn_on_at = at.after(self.min_off.max(period_left));
     }
 
     #[inline(always)]
@@ -367,7 +379,7 @@ impl<L: Law> FrequencyGuard<L> {
         }
         if !self.off_clamp_noted {
             self.off_clamp_noted = true;
-            if now.ticks_since(self.fall) >= self.window.min_off {
+            if now.ticks_since(self.fall) >= self.min_off {
                 self.counts.min_period = self.counts.min_period.wrapping_add(1);
             } else {
                 self.counts.min_off = self.counts.min_off.wrapping_add(1);
@@ -482,5 +494,27 @@ impl<L: Regulate> Regulate for FrequencyGuard<L> {
 
     fn frequency_lock(&self) -> Option<LockState> {
         self.inner.frequency_lock()
+    }
+
+    fn follows_reference(&self) -> bool {
+        self.inner.follows_reference()
+    }
+
+    /// From the next edge: the shorter of `limit`'s and the window's
+    /// maximum on-time (never below the window's minimum on-time), and as
+    /// minimum off-time the longer of the window's and `limit`'s off-time
+    /// per on-time times that maximum on-time (held within 2¹⁶ − 1 ticks,
+    /// so the product stays in 32 bits): a pulse ended early waits as long
+    /// as a full one, on the safe side. `None` restores the window's.
+    fn limit_pulses(&mut self, limit: Option<PulseLimit>) {
+        let w = &self.window;
+        (self.max_on, self.min_off) = match limit {
+            Some(p) => {
+                let max_on = p.max_on.min(w.max_on).max(w.min_on);
+                let reset = (max_on.min(0xffff) * u32::from(p.off_per_on)) >> 8;
+                (max_on, w.min_off.max(reset))
+            }
+            None => (w.max_on, w.min_off),
+        };
     }
 }

@@ -108,6 +108,10 @@ impl Regulate for AnyLaw {
     fn retune(&mut self, conditions: &Conditions) {
         with_law!(self, law => law.retune(conditions))
     }
+
+    fn follows_reference(&self) -> bool {
+        with_law!(self, law => law.follows_reference())
+    }
 }
 
 #[cfg(test)]

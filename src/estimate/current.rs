@@ -526,6 +526,14 @@ impl CurrentEstimator {
         I8F24::from_bits(self.off_base - self.vout_term)
     }
 
+    /// Timer ticks the on-slope of the last slow-path update takes to
+    /// raise the current by one ampere, × 2¹⁶ (`u32`, saturating at
+    /// 2³² − 1; 0 when the on-slope does not rise or no voltages were set
+    /// yet).
+    pub const fn ticks_per_amp_on(&self) -> u32 {
+        self.ticks_per_amp_on
+    }
+
     /// Fast path: the current at `now` (the state advanced without being
     /// stored).
     #[inline]

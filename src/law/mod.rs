@@ -260,4 +260,37 @@ pub trait Regulate {
     fn frequency_lock(&self) -> Option<LockState> {
         None
     }
+
+    /// Whether [`set_reference`](Self::set_reference) moves what the law
+    /// regulates to. Default: true. A law whose reference lies outside
+    /// firmware (a board's own comparator loop, passed through) answers
+    /// false: the supervisor's soft-start then limits each pulse instead
+    /// ([`limit_pulses`](Self::limit_pulses)).
+    fn follows_reference(&self) -> bool {
+        true
+    }
+
+    /// Fast path, during the soft-start of a law that does not follow the
+    /// reference: bound each pulse from the next turn-on (`None`: no bound
+    /// beyond the window's). Only the frequency guard acts on it
+    /// ([`FrequencyGuard`](crate::FrequencyGuard)); default: nothing.
+    fn limit_pulses(&mut self, limit: Option<PulseLimit>) {
+        let _ = limit;
+    }
+}
+
+/// A start-up bound on each pulse ([`Regulate::limit_pulses`]): an on-time
+/// short enough that the inductor current, rising from zero, stays under
+/// the soft-start's cap, and an off-time long enough for it to fall back
+/// to zero after such a pulse (see `supervisor/start_pulses.rs`).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+pub struct PulseLimit {
+    /// Longest on-time, timer ticks (`u32`; the window's maximum on-time
+    /// still applies when it is shorter, its minimum on-time when longer).
+    pub max_on: u32,
+    /// Least off-time per tick of `max_on`, × 2⁸ (`u16`,
+    /// 0…255.996: 0 asks for nothing beyond the window's minimum off-time;
+    /// at the top it saturates, on the long side).
+    pub off_per_on: u16,
 }

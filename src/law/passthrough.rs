@@ -59,11 +59,16 @@ impl Law for ComparatorPassThrough {
 }
 
 /// The reference is the board's own comparator: firmware cannot move it,
-/// so soft-start and DC correction leave it where it is.
+/// so DC correction leaves it where it is, and the soft-start bounds each
+/// pulse through the guard instead of ramping it.
 impl Regulate for ComparatorPassThrough {
     fn reference_code(&self) -> u16 {
         self.setpoint
     }
 
     fn set_reference(&mut self, _code: u16) {}
+
+    fn follows_reference(&self) -> bool {
+        false
+    }
 }

@@ -10,6 +10,7 @@
 //! | `fault.rs` | [`FaultKind`], [`FaultRecord`], the [`FaultLog`] |
 //! | `sequence.rs` | [`State`]s, hiccup, retries |
 //! | `soft_start.rs` | the soft-start ramp of reference and current cap, every reading |
+//! | `start_pulses.rs` | the soft-start of a law whose reference is fixed: each pulse bounded through the guard |
 //! | `limit.rs` | the cycle-by-cycle current limit and its blanking |
 //! | `detect.rs` | short-circuit and stuck-sensor detectors |
 //! | `readings.rs` | readings and their window averages for the slow path |
@@ -38,6 +39,7 @@ mod limit;
 mod readings;
 mod sequence;
 mod soft_start;
+mod start_pulses;
 
 pub use config::{Limits, ProtectionConfig};
 pub use fault::{FaultKind, FaultLog, FaultRecord, FAULT_LOG_LEN};
@@ -51,6 +53,7 @@ use limit::CurrentLimit;
 use readings::Readings;
 use sequence::{Sequencer, Step};
 use soft_start::SoftStartRamp;
+use start_pulses::StartPulses;
 
 /// The supervisor around a law `L`, keeping the last `LOG` faults
 /// ([`FAULT_LOG_LEN`] unless chosen; see [`FaultLog`]).
@@ -75,6 +78,7 @@ pub struct Supervisor<L, const LOG: usize = FAULT_LOG_LEN> {
     estimator: CurrentEstimator,
     out_average: u32,
     ramp: SoftStartRamp,
+    pulses: StartPulses,
     limits: Limits,
     log: FaultLog<LOG>,
 }
@@ -117,6 +121,7 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
             out_stop,
             sequence: Sequencer::new(),
             ramp: SoftStartRamp::new(limits.soft_start, setpoint),
+            pulses: StartPulses::new(),
             gate: Gate::Off,
             readings: Readings::new(),
             out_average: 0,
@@ -205,6 +210,15 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         }
     }
 
+    /// Bound each pulse through the guard during the soft-start of a law
+    /// that does not follow the reference ([`Regulate::follows_reference`]:
+    /// the analog retrofit) — on by default — or, with `false`, leave its
+    /// start to the current limit's rising cap alone (no lead for a
+    /// pre-biased output either). From the next start.
+    pub fn set_start_pulse_bound(&mut self, on: bool) {
+        self.pulses.enable(on);
+    }
+
     /// The last input reading, code.
     pub const fn last_input(&self) -> u16 {
         self.readings.last_in
@@ -242,23 +256,39 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     }
 
     /// Move the soft-start ramp to `now`: the law's reference and the
-    /// current limit's cap; at its end, the setpoint, the full limit, and
-    /// regulation.
+    /// current limit's cap, and for a law that does not follow the
+    /// reference the pulses' bound; at its end, the setpoint, the full
+    /// limit, and regulation.
     #[inline(always)]
     fn soft_start_step(&mut self, now: Instant) {
         match self.ramp.at(now.ticks_since(self.sequence.since())) {
-            Some((reference, cap)) => {
+            Some((reference, cap)) if !self.pulses.active() => {
                 self.inner.set_reference(reference);
                 self.limit.set_cap(cap);
             }
+            Some((_, cap)) => self.bound_pulses(cap),
             None => self.end_soft_start(),
         }
+    }
+
+    /// The start of a law that does not follow the reference: pulses from
+    /// zero to twice the ramp's `cap` (their mean is the cap), within the
+    /// configured limit, and the current limit's cap there too. Out of
+    /// line: only while such a start runs.
+    #[inline(never)]
+    fn bound_pulses(&mut self, cap: Amps) {
+        let peak = cap.saturating_add(cap).min(self.limits.current_limit);
+        self.limit.set_cap(peak);
+        let limit = self.pulses.limit(peak, self.estimator.ticks_per_amp_on());
+        self.inner.limit_pulses(Some(limit));
     }
 
     #[cold]
     fn end_soft_start(&mut self) {
         self.inner.set_reference(self.ramp.target());
         self.limit.set_cap(self.limits.current_limit);
+        self.pulses.end();
+        self.inner.limit_pulses(None);
         self.sequence.regulating();
     }
 
@@ -445,7 +475,9 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         match self.sequence.step(input_ok, self.readings.last_out, now, &self.limits) {
             Step::Begin(output) => {
                 self.estimator.restart_at(now);
-                self.ramp.begin(output, self.limits.current_limit);
+                self.pulses.begin(self.inner.follows_reference());
+                self.ramp.begin(output, self.limits.current_limit, self.pulses.active());
+                self.pulses.retune(&self.estimator);
                 self.soft_start_step(now);
             }
             Step::Hold if self.sequence.state() == State::SoftStart => self.soft_start_step(now),
@@ -459,6 +491,9 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         }
         let out = ((self.out_average + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
         self.estimator.set_voltage_codes(vin, out);
+        if self.pulses.active() {
+            self.pulses.retune(&self.estimator);
+        }
         None
     }
 

@@ -4,9 +4,12 @@
 //! to the setpoint over the configured time, the law's reference rises
 //! in steps of a fraction of a code, and the current limit's cap rises
 //! with it from an eighth of the limit to the limit: the inductor current
-//! is held to what the ramp needs rather than to the full limit, and an
-//! analog comparator loop, whose reference firmware cannot move, starts
-//! under the rising cap alone (current-mode soft-start).
+//! is held to what the ramp needs rather than to the full limit. An analog
+//! comparator loop, whose reference firmware cannot move, starts under the
+//! rising cap, each pulse bounded to it through the guard
+//! (`start_pulses.rs`); its ramp begins as far along as the output stands
+//! (a lead of `ticks · from / setpoint`), so a pre-biased output is not
+//! left to the load under pulses sized for a cold start.
 //!
 //! The slow path works out both slopes once per start (two divisions); the
 //! fast path then takes one 32-bit multiply each (a 64-bit one is a library
@@ -24,6 +27,8 @@ use crate::units::div_u64;
 pub(super) struct SoftStartRamp {
     /// Ramp length, ticks (≥ 1).
     ticks: u32,
+    /// Ticks the ramp starts ahead (≤ `ticks`).
+    lead: u32,
     from: u16,
     target: u16,
     /// Reference slope, codes × 2¹⁶ per tick.
@@ -38,6 +43,7 @@ impl SoftStartRamp {
     pub(super) const fn new(ticks: u32, target: u16) -> Self {
         Self {
             ticks: if ticks == 0 { 1 } else { ticks },
+            lead: 0,
             from: target,
             target,
             rate: 0,
@@ -47,11 +53,18 @@ impl SoftStartRamp {
     }
 
     /// Slow path: a start from the output code `from` to the setpoint, the
-    /// cap from an eighth of `limit` to `limit`.
-    pub(super) fn begin(&mut self, from: u16, limit: Amps) {
+    /// cap from an eighth of `limit` to `limit`; with `lead`, the ramp
+    /// begins as far along as `from` is toward the setpoint.
+    pub(super) fn begin(&mut self, from: u16, limit: Amps, lead: bool) {
         let span = u64::from(self.target.saturating_sub(from));
         let ticks = u64::from(self.ticks);
         self.from = from.min(self.target);
+        self.lead = if lead {
+            let done = div_u64(ticks * u64::from(self.from), u64::from(self.target.max(1)));
+            done.min(ticks) as u32
+        } else {
+            0
+        };
         self.rate = div_u64(span << 16, ticks).min(u64::from(u32::MAX)) as u32;
         self.cap_from = limit / 8;
         // Held within 128 A (2²³ bits): `cap_rate · elapsed` < 2³¹.
@@ -63,6 +76,7 @@ impl SoftStartRamp {
     /// `None` once the ramp is over.
     #[inline(always)]
     pub(super) fn at(&self, elapsed: u32) -> Option<(u16, Amps)> {
+        let elapsed = elapsed.saturating_add(self.lead);
         if elapsed >= self.ticks {
             return None;
         }

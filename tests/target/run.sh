@@ -167,21 +167,21 @@ done < <(grep '^insns ' "$out")
 # routine, but for the C firmware, whose configuration runs at start-up
 # (its runtime without it links none).
 declare -A ceiling=(
-    [flash/m0/base/all-parts]=383 [ram/m0/base/all-parts]=22 [flash/m0/law_guard/all-parts]=6649
+    [flash/m0/base/all-parts]=383 [ram/m0/base/all-parts]=22 [flash/m0/law_guard/all-parts]=7383
     [ram/m0/law_guard/all-parts]=225 [flash/m0/estimator/all-parts]=5219 [ram/m0/estimator/all-parts]=190
     [flash/m0/supervisor/all-parts]=9909 [ram/m0/supervisor/all-parts]=568 [flash/m0/slow_path/all-parts]=10459
     [ram/m0/slow_path/all-parts]=911 [flash/m0/driver/all-parts]=572 [ram/m0/driver/all-parts]=53
-    [flash/m0/stack/all-parts]=16474 [ram/m0/stack/all-parts]=942 [flash/m0/firmware/all-parts]=16527
+    [flash/m0/stack/all-parts]=18696 [ram/m0/stack/all-parts]=942 [flash/m0/firmware/all-parts]=16614
     [ram/m0/firmware/all-parts]=920 [flash/m0/stack/none]=10415 [ram/m0/stack/none]=612
-    [flash/m4/base/all-parts]=1329 [ram/m4/base/all-parts]=22 [flash/m4/law_guard/all-parts]=6275
+    [flash/m4/base/all-parts]=1329 [ram/m4/base/all-parts]=22 [flash/m4/law_guard/all-parts]=6279
     [ram/m4/law_guard/all-parts]=225 [flash/m4/estimator/all-parts]=5404 [ram/m4/estimator/all-parts]=190
     [flash/m4/supervisor/all-parts]=9306 [ram/m4/supervisor/all-parts]=568 [flash/m4/slow_path/all-parts]=9606
     [ram/m4/slow_path/all-parts]=911 [flash/m4/driver/all-parts]=1501 [ram/m4/driver/all-parts]=53
-    [flash/m4/stack/all-parts]=14780 [ram/m4/stack/all-parts]=942 [flash/m4/firmware/all-parts]=15862
+    [flash/m4/stack/all-parts]=16091 [ram/m4/stack/all-parts]=942 [flash/m4/firmware/all-parts]=15862
     [ram/m4/firmware/all-parts]=920 [flash/m4/stack/none]=9553 [ram/m4/stack/none]=612
-    [flash/rv32/base/all-parts]=601 [ram/rv32/base/all-parts]=22 [flash/rv32/law_guard/all-parts]=4838
+    [flash/rv32/base/all-parts]=601 [ram/rv32/base/all-parts]=22 [flash/rv32/law_guard/all-parts]=4939
     [ram/rv32/law_guard/all-parts]=229 [flash/rv32/estimator/all-parts]=5916 [ram/rv32/estimator/all-parts]=194
-    [flash/rv32/supervisor/all-parts]=9203 [ram/rv32/supervisor/all-parts]=572 [flash/rv32/slow_path/all-parts]=11430
+    [flash/rv32/supervisor/all-parts]=9207 [ram/rv32/supervisor/all-parts]=572 [flash/rv32/slow_path/all-parts]=11430
     [ram/rv32/slow_path/all-parts]=916 [flash/rv32/driver/all-parts]=896 [ram/rv32/driver/all-parts]=53
     [flash/rv32/stack/all-parts]=17889 [ram/rv32/stack/all-parts]=951 [flash/rv32/stack/none]=11672
     [ram/rv32/stack/none]=612 [flash/m4/c_firmware/all-parts]=75313 [ram/m4/c_firmware/all-parts]=1188
@@ -250,6 +250,9 @@ handler_hyst_conversion|handler: conversion done, hysteretic stack (mean)
 handler_hyst_conversion_max|handler: conversion done, hysteretic stack (worst seen)
 handler_hyst_compare|handler: compare, hysteretic stack (at the armed deadline)
 handler_hyst_housekeeping|handler: housekeeping, hysteretic stack
+handler_lock_conversion|handler: conversion done, locked and dithered hysteretic stack (mean)
+handler_lock_conversion_max|handler: conversion done, locked and dithered hysteretic stack (worst seen)
+handler_lock_housekeeping|handler: housekeeping, locked and dithered hysteretic stack (lock, dither)
 handler_cot_conversion|handler: conversion done, on-time stack (mean)
 handler_cot_conversion_max|handler: conversion done, on-time stack (worst seen)
 handler_cot_compare|handler: compare (on-time ended), on-time stack
@@ -261,6 +264,9 @@ handler_edge_compare|handler: compare, edge-driven stack (at the armed deadline)
 handler_edge_housekeeping|handler: housekeeping, edge-driven stack
 handler_retrofit_comparator|handler: comparator edge, analog retrofit (mean)
 handler_retrofit_comparator_max|handler: comparator edge, analog retrofit (worst seen)
+handler_retrofit_start_conversion|handler: conversion done, analog retrofit in its soft-start (pulse bound, mean)
+handler_retrofit_start_compare|handler: compare, analog retrofit in its soft-start (a bounded pulse ends, mean)
+handler_retrofit_start_housekeeping|handler: housekeeping, analog retrofit in its soft-start
 ROWS
     echo
     printf '| part | features |'

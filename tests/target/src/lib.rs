@@ -23,8 +23,8 @@ pub mod board;
 use core::hint::black_box;
 use ripplectl::estimate::{CurrentEstimator, InductorModel};
 use ripplectl::law::{
-    ComparatorPassThrough, FrequencyTrim, Hysteretic, HystereticConfig, OnTime, OnTimeConfig,
-    OnTimeFeedForward, Regulate,
+    ComparatorPassThrough, Dither, FrequencyTrim, Hysteretic, HystereticConfig, OnTime,
+    OnTimeConfig, OnTimeFeedForward, Regulate,
 };
 use ripplectl::stack::{Sensing, SlowPathConfig, Stack, StackConfig, StackParts};
 use ripplectl::supervisor::State;
@@ -73,8 +73,26 @@ pub mod op {
     pub const COT_STACK_TIMER: u32 = 13;
     /// On-time stack, `housekeeping(b)` (the whole slow path).
     pub const COT_STACK_HOUSEKEEPING: u32 = 14;
+    /// Locked and dithered hysteretic stack,
+    /// `on_conversion(a as u16, (a >> 16) as u16, b)`.
+    pub const LOCK_STACK_CONVERSION: u32 = 15;
+    /// Locked and dithered hysteretic stack, `on_timer(b)`.
+    pub const LOCK_STACK_TIMER: u32 = 16;
+    /// Locked and dithered hysteretic stack, `housekeeping(b)` (the lock
+    /// and the dither act here).
+    pub const LOCK_STACK_HOUSEKEEPING: u32 = 17;
+    /// Analog-retrofit stack (the board's comparator through the guard),
+    /// `on_conversion(a as u16, (a >> 16) as u16, b)` (protections and the
+    /// soft-start's pulse bound).
+    pub const RETRO_STACK_CONVERSION: u32 = 18;
+    /// Analog-retrofit stack, `on_edge(a & 1 != 0, b)`.
+    pub const RETRO_STACK_EDGE: u32 = 19;
+    /// Analog-retrofit stack, `on_timer(b)`.
+    pub const RETRO_STACK_TIMER: u32 = 20;
+    /// Analog-retrofit stack, `housekeeping(b)`.
+    pub const RETRO_STACK_HOUSEKEEPING: u32 = 21;
     /// Number of operations the random part of a vector file draws from.
-    pub const COUNT: u32 = 15;
+    pub const COUNT: u32 = 22;
 }
 
 /// The demo board (the simulator's default scenario), as a firmware holds
@@ -111,6 +129,20 @@ pub const HYSTERETIC: Hysteretic = unwrap_config(Hysteretic::new(
 /// reference.
 pub const RETROFIT: ComparatorPassThrough =
     ComparatorPassThrough::new(true).with_setpoint(HYSTERETIC.reference_code());
+
+/// The demo's hysteretic law locked to a mean 40 kHz (gain 1/4, band
+/// within 1/8…2× of its own, the simulator's scenario defaults) and
+/// dithered ±20 % (seed 0xACE1).
+pub const LOCKED: Hysteretic = HYSTERETIC
+    .with_lock(unwrap_config(FrequencyTrim::named(
+        "lock_hz",
+        40e3,
+        0.25,
+        0.125,
+        2.0,
+        &CONFIG.clock,
+    )))
+    .with_dither(unwrap_config(Dither::new(0.2, 0xace1)));
 
 /// The demo's plain on-time law: 2.08 µs (about 100 kHz at 24 V).
 pub const PLAIN_ON_TIME: OnTime = unwrap_config(OnTime::new(
@@ -157,6 +189,10 @@ pub struct Rig {
     pub stack: Stack<Hysteretic>,
     /// The on-time stack, every slow-path feature on.
     pub cot: Stack<OnTime>,
+    /// The hysteretic stack with the frequency lock and dither.
+    pub locked: Stack<Hysteretic>,
+    /// The analog retrofit's stack: the board's comparator on edges.
+    pub retrofit: Stack<ComparatorPassThrough>,
 }
 
 fn command_words(c: Command, extra: u32) -> [u32; WORDS_OUT] {
@@ -186,12 +222,13 @@ fn stack_words<L: Law + Regulate>(s: &Stack<L>, c: Option<Command>) -> [u32; WOR
 }
 
 #[cfg(feature = "parts")]
-/// A housekeeping tick of a stack: state, reference, the on-time (0 for
-/// a law without one), and a hash of the slow path's figures.
+/// A housekeeping tick of a stack: state, reference, `law_word` (the
+/// on-time, the locked band; 0 where the C replay expects a law without
+/// one), and a hash of the slow path's figures.
 fn housekeeping_words<L: Law + Regulate>(
     s: &mut Stack<L>,
     now: Instant,
-    on_ticks: fn(&L) -> u32,
+    law_word: fn(&Stack<L>) -> u32,
 ) -> [u32; WORDS_OUT] {
     let stop = s.housekeeping(now);
     let t = s.telemetry();
@@ -209,9 +246,17 @@ fn housekeeping_words<L: Law + Regulate>(
     [
         state_code(t.state) | (u32::from(stop.is_some()) << 8),
         u32::from(s.supervisor().inner().reference_code()),
-        on_ticks(s.law()),
+        law_word(s),
         hash,
     ]
+}
+
+#[cfg(feature = "parts")]
+/// The locked law's band (codes, low half) and the lock's factor (× 2¹⁶,
+/// high half, wrapping).
+fn locked_band(s: &Stack<Hysteretic>) -> u32 {
+    let trim = s.law().frequency_trim().map_or(0, |t| t.trim());
+    u32::from(s.law().band_codes()) | trim << 16
 }
 
 #[cfg(feature = "parts")]
@@ -230,6 +275,8 @@ impl Rig {
             },
             stack: Stack::new(HYSTERETIC, PARTS),
             cot: Stack::new(ON_TIME, COT_PARTS),
+            locked: Stack::new(LOCKED, PARTS),
+            retrofit: Stack::new(RETROFIT, EDGE_PARTS),
         }
     }
 
@@ -285,6 +332,30 @@ impl Rig {
                 stack_words(&self.stack, Some(c))
             }
             op::STACK_HOUSEKEEPING => housekeeping_words(&mut self.stack, now, |_| 0),
+            op::LOCK_STACK_CONVERSION => {
+                let c = self.locked.on_conversion(out, input, now);
+                stack_words(&self.locked, c)
+            }
+            op::LOCK_STACK_TIMER => {
+                let c = self.locked.on_timer(now);
+                stack_words(&self.locked, Some(c))
+            }
+            op::LOCK_STACK_HOUSEKEEPING => housekeeping_words(&mut self.locked, now, locked_band),
+            op::RETRO_STACK_CONVERSION => {
+                let c = self.retrofit.on_conversion(out, input, now);
+                stack_words(&self.retrofit, c)
+            }
+            op::RETRO_STACK_EDGE => {
+                let c = self.retrofit.on_edge(a & 1 != 0, now);
+                stack_words(&self.retrofit, Some(c))
+            }
+            op::RETRO_STACK_TIMER => {
+                let c = self.retrofit.on_timer(now);
+                stack_words(&self.retrofit, Some(c))
+            }
+            op::RETRO_STACK_HOUSEKEEPING => housekeeping_words(&mut self.retrofit, now, |s| {
+                s.supervisor().pulse_cap().to_bits() as u32
+            }),
             op::COT_SAMPLE => command_words(self.on_time.on_sample(out, now), 0),
             op::COT_TIMER => command_words(self.on_time.on_timer(now), 0),
             op::COT_STACK_CONVERSION => {
@@ -296,7 +367,7 @@ impl Rig {
                 stack_words(&self.cot, Some(c))
             }
             op::COT_STACK_HOUSEKEEPING => {
-                housekeeping_words(&mut self.cot, now, |l: &OnTime| l.on_ticks())
+                housekeeping_words(&mut self.cot, now, |s| s.law().on_ticks())
             }
             _ => Self::runtime_configuration().unwrap_or([u32::MAX; WORDS_OUT]),
         }

@@ -8,7 +8,9 @@
 //! conversion (output and input scanned), and every 100 steps (10 kHz) the
 //! housekeeping tick. The stack first runs [`WARM_UP`] steps unmeasured
 //! (start, the 1 ms soft-start, settling) and must be regulating when the
-//! counted steps begin and when they end. Each event of a counted kind is
+//! counted steps begin and when they end; or, for [`Phase::Start`], it
+//! starts from a cold output and the first [`START_STEPS`] steps are
+//! counted, soft-starting throughout (the ramp's share of each handler). Each event of a counted kind is
 //! measured with `count_from` on a copy of the state it meets, then
 //! performed on the live stack; the mean over all of them is `op`, the
 //! most any of them took `op_max`.
@@ -34,6 +36,17 @@ type Firmware<L> = Handlers<L, Pin, Compare>;
 const WARM_UP: u32 = 6_000;
 /// Steps counted: 2 ms.
 const STEPS: u32 = 2_048;
+/// Steps counted from a cold start: 0.8 ms of the 1 ms soft-start.
+const START_STEPS: u32 = 800;
+
+/// Which part of a run is counted.
+#[derive(Clone, Copy, PartialEq, Eq)]
+pub enum Phase {
+    /// Regulation, after [`WARM_UP`] steps.
+    Regulating,
+    /// The soft-start from a cold output, its first [`START_STEPS`] steps.
+    Start,
+}
 /// Housekeeping every this many steps (10 kHz).
 const HOUSEKEEPING_STEPS: u32 = 100;
 /// Repetitions per event's count (the counter's step over this bounds its
@@ -234,21 +247,26 @@ fn fire_compares<L: Law + Regulate + Clone>(
     }
 }
 
-/// Run `fw` in the closed loop, counting the kinds `tallies` asks for.
-/// `false` if the stack was not regulating when counting began or ended.
+/// Run `fw` in the closed loop, counting the kinds `tallies` asks for in
+/// `phase`. `false` if the stack was not in that phase's state (regulating,
+/// soft-starting) when counting began or ended.
 pub fn closed_loop<L: Law + Regulate + Clone>(
     meter: &Meter,
     fw: &mut Firmware<L>,
     comparator: Comparator,
     tallies: &mut Tallies,
+    phase: Phase,
 ) -> bool {
-    let mut buck = Buck::new();
+    let (mut buck, counted, expected) = match phase {
+        Phase::Regulating => (Buck::new(), WARM_UP..WARM_UP + STEPS, State::Regulating),
+        Phase::Start => (Buck::cold(), 1..START_STEPS, State::SoftStart),
+    };
     let mut level = comparator_level(comparator, fw, buck.output_code(), false);
-    let mut regulating = true;
-    for k in 0..WARM_UP + STEPS {
-        let (now, counting) = (Instant(64 * k), k >= WARM_UP);
-        if k == WARM_UP {
-            regulating &= fw.stack().supervisor().state() == State::Regulating;
+    let mut in_phase = true;
+    for k in 0..counted.end {
+        let (now, counting) = (Instant(64 * k), counted.contains(&k));
+        if k == counted.start {
+            in_phase &= fw.stack().supervisor().state() == expected;
         }
         fire_compares(meter, tallies, fw, now, counting);
         set_counter(now);
@@ -291,5 +309,5 @@ pub fn closed_loop<L: Law + Regulate + Clone>(
         }
         buck.step(fw.driver().gate().is_on());
     }
-    regulating && fw.stack().supervisor().state() == State::Regulating
+    in_phase && fw.stack().supervisor().state() == expected
 }

@@ -26,7 +26,7 @@ mod handlers;
 
 use core::hint::black_box;
 use counter::{known_loop, since, ticks};
-use handlers::{closed_loop, Comparator, Tallies};
+use handlers::{closed_loop, Comparator, Phase, Tallies};
 use ripplectl::estimate::{Amps, CurrentEstimator};
 use ripplectl::law::Regulate;
 use ripplectl::reference::{GuardModel, HystereticModel};
@@ -34,7 +34,7 @@ use ripplectl::stack::{Handlers, Stack, StackParts};
 use ripplectl::{Command, Gate, Instant, Law};
 use ripplectl_target::arch::{entry, CORE};
 use ripplectl_target::board::driver;
-use ripplectl_target::{Rig, COT_PARTS, EDGE_PARTS, HYSTERETIC, ON_TIME, PARTS, RETROFIT};
+use ripplectl_target::{Rig, COT_PARTS, EDGE_PARTS, HYSTERETIC, LOCKED, ON_TIME, PARTS, RETROFIT};
 use semihosting::{println, process};
 
 const CALLS: u32 = 2_048;
@@ -271,6 +271,9 @@ fn code(i: u32) -> u16 {
 struct Buck {
     i_l: f32,
     v_c: f32,
+    /// The load is 5 Ω (1 A at 5 V) rather than a constant 1 A (which
+    /// would drive a cold output negative).
+    resistive: bool,
 }
 
 impl Buck {
@@ -279,7 +282,20 @@ impl Buck {
 
     /// In regulation at 5 V, carrying the load.
     fn new() -> Self {
-        Self { i_l: Self::LOAD, v_c: 5.0 }
+        Self { i_l: Self::LOAD, v_c: 5.0, resistive: false }
+    }
+
+    /// Cold: no output, no current, the load resistive.
+    fn cold() -> Self {
+        Self { i_l: 0.0, v_c: 0.0, resistive: true }
+    }
+
+    fn load(&self) -> f32 {
+        if self.resistive {
+            self.v_c / 5.0
+        } else {
+            Self::LOAD
+        }
     }
 
     /// The output's ADC code (the demo's 12-bit, 3.3 V channel behind its
@@ -290,7 +306,7 @@ impl Buck {
     }
 
     fn v_out(&self) -> f32 {
-        self.v_c + Self::ESR * (self.i_l - Self::LOAD)
+        self.v_c + Self::ESR * (self.i_l - self.load())
     }
 
     /// One sample period with the switch `on`.
@@ -298,7 +314,7 @@ impl Buck {
         let (l, c, vin, dt) = (47e-6f32, 220e-6f32, 28.0f32, 1e-6f32);
         let v_sw = if on { vin } else { -0.45 };
         self.i_l = (self.i_l + (v_sw - self.v_out()) / l * dt).max(0.0);
-        self.v_c += (self.i_l - Self::LOAD) / c * dt;
+        self.v_c += (self.i_l - self.load()) / c * dt;
     }
 }
 
@@ -327,35 +343,43 @@ fn handler_counts<L: Law + Regulate + Clone>(
     meter: &Meter,
     prefix: &str,
     (law, parts): (L, StackParts),
-    comparator: Comparator,
+    (comparator, phase): (Comparator, Phase),
     kinds: &[&str],
 ) -> bool {
     let mut firmware = Handlers::new(Stack::new(law, parts), driver());
     let mut tallies = Tallies::of(kinds);
-    let regulating = closed_loop(meter, &mut firmware, comparator, &mut tallies);
+    let in_phase = closed_loop(meter, &mut firmware, comparator, &mut tallies, phase);
     tallies.print(CORE, prefix);
-    if !regulating {
-        println!("{}: not regulating while counted", prefix);
+    if !in_phase {
+        println!("{}: not in the counted phase throughout", prefix);
     }
-    regulating
+    in_phase
 }
 
-/// Every handler count: the hysteretic, on-time and edge-driven stacks
-/// and the analog retrofit.
+/// Every handler count: the hysteretic, locked-and-dithered hysteretic,
+/// on-time and edge-driven stacks, and the analog retrofit regulating and
+/// in its soft-start (each pulse bounded through the guard).
 fn whole_handlers(meter: &Meter) -> bool {
     let all = ["conversion", "comparator", "compare", "housekeeping"];
     let sampled = ["conversion", "compare", "housekeeping"];
     let board =
         Comparator::Board { lower: HYSTERETIC.lower_code(), upper: HYSTERETIC.upper_code() };
-    let hyst =
-        handler_counts(meter, "handler_hyst", (HYSTERETIC, PARTS), Comparator::None, &sampled);
-    let cot =
-        handler_counts(meter, "handler_cot", (ON_TIME, COT_PARTS), Comparator::None, &sampled);
-    let edge =
-        handler_counts(meter, "handler_edge", (HYSTERETIC, EDGE_PARTS), Comparator::Armed, &all);
-    let retrofit =
-        handler_counts(meter, "handler_retrofit", (RETROFIT, EDGE_PARTS), board, &["comparator"]);
-    hyst && cot && edge && retrofit
+    let (none, armed) = (Comparator::None, Comparator::Armed);
+    let run = Phase::Regulating;
+    let hyst = handler_counts(meter, "handler_hyst", (HYSTERETIC, PARTS), (none, run), &sampled);
+    let lock = handler_counts(meter, "handler_lock", (LOCKED, PARTS), (none, run), &sampled);
+    let cot = handler_counts(meter, "handler_cot", (ON_TIME, COT_PARTS), (none, run), &sampled);
+    let edge = handler_counts(meter, "handler_edge", (HYSTERETIC, EDGE_PARTS), (armed, run), &all);
+    let retrofit = (RETROFIT, EDGE_PARTS);
+    let regulating =
+        handler_counts(meter, "handler_retrofit", retrofit, (board, run), &["comparator"]);
+    // No comparator edge in the counted part of the start: the output
+    // stays below the lower threshold (the level reaches the law at each
+    // housekeeping tick, counted with it).
+    let start = ["conversion", "compare", "housekeeping"];
+    let starting =
+        handler_counts(meter, "handler_retrofit_start", retrofit, (board, Phase::Start), &start);
+    hyst && lock && cot && edge && regulating && starting
 }
 
 #[entry]
