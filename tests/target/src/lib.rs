@@ -130,6 +130,7 @@ pub const HYSTERETIC: Hysteretic = unwrap_config(Hysteretic::new(
 pub const RETROFIT: ComparatorPassThrough =
     ComparatorPassThrough::new(true).with_setpoint(HYSTERETIC.reference_code());
 
+#[cfg(feature = "parts")]
 /// The demo's hysteretic law locked to a mean 40 kHz (gain 1/4, band
 /// within 1/8…2× of its own, the simulator's scenario defaults) and
 /// dithered ±20 % (seed 0xACE1).
