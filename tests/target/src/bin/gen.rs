@@ -256,14 +256,14 @@ fn main() -> std::io::Result<()> {
         Recording { rig: Rig::demo(), words: Vec::new(), calls: 0, bands: Default::default() };
     let mut rng = Rng(0x5eed_1234_abcd_0001);
     let start = u32::MAX - 100_000;
-    closed_loop(&mut rec, &COT_LOOP, start, 2_500);
-    closed_loop(&mut rec, &LOCK_LOOP, start, 2_000);
-    closed_loop(&mut rec, &retrofit_loop(), start, 1_400);
+    closed_loop(&mut rec, &COT_LOOP, start, 2_000);
+    closed_loop(&mut rec, &LOCK_LOOP, start, 3_000);
+    closed_loop(&mut rec, &retrofit_loop(), start, 1_800);
     let summary = loops_summary(&rec);
-    // After the loops' last instant (2 500 µs of 64 ticks from `start`).
+    // After the loops' last instant (3 000 µs of 64 ticks from `start`).
     // The file stays within the Cortex-M0 board's 256 KiB of flash with
     // the replay's code: 28 bytes a call.
-    random_calls(&mut rec, &mut rng, start.wrapping_add(200_000), 1_000);
+    random_calls(&mut rec, &mut rng, start.wrapping_add(200_000), 300);
     let mut file = std::fs::File::create(&path)?;
     file.write_all(&MAGIC.to_le_bytes())?;
     file.write_all(&rec.calls.to_le_bytes())?;
