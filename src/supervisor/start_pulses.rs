@@ -10,7 +10,9 @@
 //! next pulse waits until the off-slope has brought the current back to
 //! zero, `t_off ≥ t_on · (V_in − V_out) / (V_out + V_f)` (volt-second
 //! balance of the inductor over a boundary-conduction cycle), with an
-//! eighth more for the ripple and noise of the output reading it uses. So
+//! eighth more for the ripple and noise of the output reading it uses;
+//! the guard holds that wait after every pulse, taken for a full bounded
+//! one (a pulse the comparator ends early waits as long). So
 //! every pulse starts from zero and its peak is the on-state relation's,
 //! whatever the pulses before it did. The peak is twice the soft-start's
 //! cap, within the configured limit: the pulses' mean, half their peak,
