@@ -81,7 +81,7 @@ fn interrupt_latency_beyond_the_sample_period_is_refused() {
 
 #[test]
 fn conversion_time_beyond_the_sample_period_is_refused() {
-    let (code, err) = simulate_edited("conversion_s = 0.2e-6", "conversion_s = 2e-6");
+    let (code, err) = simulate_edited("conversion_s = 0.2e-6", "conversion_s = 30e-6");
     assert_eq!(code, Some(2), "{err}");
     assert!(err.contains("mcu.conversion_s") && err.contains("sample period"), "{err}");
 }
@@ -114,7 +114,7 @@ fn sweep_says_why_a_switching_point_has_no_efficiency() {
     // 4 A is beyond what the demo's current limit lets through: the loop
     // switches, the output sags out of the ±2 % band, and the efficiency
     // is not available. The table says why instead of a bare "n/a".
-    let out = ripplectl(&["sweep", "--vin", "24", "--load", "1,4", "--duration", "0.002"]);
+    let out = ripplectl(&["sweep", "--vin", "24", "--load", "1,4", "--duration", "0.008"]);
     assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
     let text = String::from_utf8(out.stdout).unwrap();
     let line = |load: &str| {

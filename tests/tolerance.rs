@@ -4,7 +4,6 @@
 
 mod common;
 
-use common::program::default_toml;
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::tolerance::criteria::{Criteria, Figures};
 use ripplectl::sim::tolerance::draw;
@@ -55,10 +54,11 @@ fn the_same_seed_gives_the_same_study_on_one_or_two_threads() {
     assert!(!same(&one.runs, &other.runs));
 }
 
-/// 24 V, 1 A, 2 ms, pre-biased, without ADC noise: the mean output is a
+/// The sampled fixture at 24 V, 1 A, 2 ms, pre-biased, without ADC noise:
+/// the mean output is a
 /// smooth function of the ADC's gain error.
 fn gain_only(criteria: Criteria) -> Scenario {
-    let mut base = operating_point(&Scenario::default_demo(), 24.0, 1.0, 2e-3);
+    let mut base = operating_point(&common::sampled_fixture(), 24.0, 1.0, 2e-3);
     base.mcu.noise_lsb_rms = 0.0;
     let spread = Spreads { adc_gain_error: Spread::uniform_abs(0.02), ..Spreads::zero() };
     base.tolerance = Some(ToleranceParams { spread, criteria });
@@ -161,7 +161,7 @@ fn a_ceramic_banks_dc_bias_loss_lowers_its_capacitance_before_the_spread() {
     // DC-bias curve), and the ±10 % applies to what is left: corners at
     // 0.55·C·(1 ± 0.10). The input spread of ±2 V moves the whole profile
     // (nominal: its first point, 24 V).
-    let text = default_toml()
+    let text = common::sampled_fixture_toml()
         + "\n[tolerance.spread]\n\
            c_f = { dist = \"uniform\", rel = 0.10, dc_bias_loss = 0.45 }\n\
            vin = { dist = \"uniform\", abs = 2.0 }\n\n\
