@@ -55,8 +55,7 @@ fn the_same_seed_gives_the_same_study_on_one_or_two_threads() {
 }
 
 /// The sampled fixture at 24 V, 1 A, 2 ms, pre-biased, without ADC noise:
-/// the mean output is a
-/// smooth function of the ADC's gain error.
+/// the mean output is a smooth function of the ADC's gain error.
 fn gain_only(criteria: Criteria) -> Scenario {
     let mut base = operating_point(&common::sampled_fixture(), 24.0, 1.0, 2e-3);
     base.mcu.noise_lsb_rms = 0.0;

@@ -510,7 +510,6 @@ fn call_counts(meter: &Meter) {
     let mut guard = GuardModel::new(150e-9, 300e-9, 40e-6, 1.0 / 140e3);
     let demands = |i: u32| (u32::from(i & 16 == 0), at(i, 64, b));
     meter.report("guard_f64", &mut guard, demands, guard_f64);
-
 }
 
 #[entry]
