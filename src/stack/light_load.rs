@@ -8,10 +8,7 @@
 //! a low frequency in CCM is no sign of it, and a smaller cap there would
 //! only starve the load) and periods run long (a period past `1/f_min`, or
 //! a window's frequency below 1.25·`f_min`), or a window has no cycle at
-//! all, it lowers the current limit's cap by an eighth (by half after a
-//! period past `1/f_min`: the start's full-limit pulses at light load leave
-//! such periods, and an eighth a window took a dozen windows to undo
-//! them), so each pulse ends
+//! all, it lowers the current limit's cap by an eighth, so each pulse ends
 //! at a lower peak and carries less charge (the charge goes as the peak
 //! squared), and the loop must switch more often; once the frequency is
 //! back above 2.5·`f_min`, or most cycles are CCM again, it raises the cap
@@ -103,15 +100,10 @@ impl PulseSizer {
         if too_slow {
             // Fine steps down while the cap sets a locked frequency (the
             // frequency goes as 1/cap², so 1/32 of the cap moves it about
-            // 6 %); half after a long period; else an eighth.
+            // 6 %); a full eighth after a long period.
             let fine = lock.is_some_and(|l| l.pulses_cut) && !slow && cycles != 0;
-            let step = if fine {
-                Amps::from_bits((self.cap.to_bits() / 32).max(1))
-            } else if slow {
-                Amps::from_bits((self.cap.to_bits() / 2).max(1))
-            } else {
-                eighth
-            };
+            let step =
+                if fine { Amps::from_bits((self.cap.to_bits() / 32).max(1)) } else { eighth };
             self.cap = self.cap.saturating_sub(step).max(self.floor);
         } else if !light || high {
             // Up by an eighth: clear of the band's own peak, so the lock
@@ -163,9 +155,11 @@ mod tests {
         let lock =
             |pulses_cut| LockState { target_hz: 35_000, at_min: false, at_max: false, pulses_cut };
         let mut s = PulseSizer::new(Amps::from_num(4), 20e3);
-        // Long periods at light load: the cap halves a window.
-        s.update(15_000, 3, 3, true, Some(lock(true)));
-        assert_eq!(s.cap(), Amps::from_num(2));
+        // Long periods at light load: the cap falls an eighth a window.
+        for _ in 0..4 {
+            s.update(15_000, 3, 3, true, Some(lock(true)));
+        }
+        assert!(s.cap() < Amps::from_num(2.4));
         // Cut pulses, too low a frequency: the cap falls by 1/32 a window
         // (a frequency that goes as 1/cap² moves about 6 %).
         let before = s.cap();
@@ -177,9 +171,9 @@ mod tests {
         assert_eq!(s.update(36_000, 7, 7, false, Some(lock(true))).cap, held);
         assert_eq!(s.update(34_000, 7, 7, false, Some(lock(true))).cap, held);
         assert_eq!(s.update(36_500, 8, 8, false, Some(lock(true))).cap, held + held / 8);
-        // A period past 1/f_min: half down.
+        // A period past 1/f_min: a full eighth down.
         let now = s.cap();
-        assert_eq!(s.update(30_000, 6, 6, true, Some(lock(true))).cap, now - now / 2);
+        assert_eq!(s.update(30_000, 6, 6, true, Some(lock(true))).cap, now - now / 8);
         // The band, not the cap, ends the pulses: a frequency below the
         // target with the lock not at its bound leaves the cap alone.
         let now = s.cap();
