@@ -129,7 +129,8 @@ impl Hysteretic {
 
     /// Lock the mean switching frequency to `lock`'s target by scaling the
     /// band within `lock`'s bounds (a `const fn`; build `lock` with
-    /// [`FrequencyTrim::named`] on `lock_hz`). Feature `frequency-lock`.
+    /// [`FrequencyTrim::band_lock`], as the simulator's `lock_hz` does).
+    /// Feature `frequency-lock`.
     #[cfg(feature = "frequency-lock")]
     pub const fn with_lock(mut self, lock: FrequencyTrim) -> Self {
         self.lock = Part::some(lock);

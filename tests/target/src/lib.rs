@@ -131,19 +131,12 @@ pub const RETROFIT: ComparatorPassThrough =
     ComparatorPassThrough::new(true).with_setpoint(HYSTERETIC.reference_code());
 
 #[cfg(feature = "parts")]
-/// The demo's hysteretic law locked to a mean 40 kHz (gain 1/4, band
-/// within 1/8…2× of its own, the simulator's scenario defaults) and
-/// dithered ±20 % (seed 0xACE1).
+/// The demo's hysteretic law locked to a mean 40 kHz (the band lock the
+/// simulator's `lock_hz` builds, `FrequencyTrim::band_lock`) and dithered
+/// ±20 % (the simulator's seed, `DITHER_SEED`).
 pub const LOCKED: Hysteretic = HYSTERETIC
-    .with_lock(unwrap_config(FrequencyTrim::named(
-        "lock_hz",
-        40e3,
-        0.25,
-        0.125,
-        2.0,
-        &CONFIG.clock,
-    )))
-    .with_dither(unwrap_config(Dither::new(0.2, 0xace1)));
+    .with_lock(unwrap_config(FrequencyTrim::band_lock(40e3, &CONFIG.clock)))
+    .with_dither(unwrap_config(Dither::new(0.2, ripplectl::law::dither::DITHER_SEED)));
 
 /// The demo's plain on-time law: 2.08 µs (about 100 kHz at 24 V).
 pub const PLAIN_ON_TIME: OnTime = unwrap_config(OnTime::new(
