@@ -29,9 +29,7 @@ fn cold() -> Scenario {
 /// the retrofit scenario was shipped before it named its Cortex-M4: the
 /// ramp's pulses are bounded from readings, and at the shipped 50 kHz the
 /// first millisecond holds 6 bounded pulses (too few for the handbook
-/// check below) and the restart after a hiccup trips the short-circuit
-/// detection a second time (open: the bound needs fresher readings than
-/// 50 kHz gives at a restart).
+/// check below).
 fn cold_fine_readings() -> Scenario {
     let mut sc = cold();
     sc.mcu.sample_rate_hz = 1.0e6;
@@ -178,8 +176,12 @@ fn a_pre_biased_output_is_not_discharged() {
 fn the_restart_after_a_hiccup_ramps_again() {
     use ripplectl::sim::profile::{Load, LoadChange};
     // A short across the output from 3.0 to 3.5 ms: detected, 2 ms off
-    // (the hiccup), then a restart from a discharged output.
-    let mut sc = cold_fine_readings();
+    // (the hiccup), then a restart from a discharged output into the full
+    // 2.5 Ω load, at the shipped 50 kHz readings. (Until the bounded start
+    // held its pulses past the ramp while the output stood below half the
+    // setpoint, this restart tripped the short-circuit detector a second
+    // time, at 6.26 ms, with the output at 2.2 V.)
+    let mut sc = cold();
     sc.load.push(LoadChange { at_s: 3.0e-3, load: Load::Short });
     sc.load.push(LoadChange { at_s: 3.5e-3, load: Load::Resistive { ohms: 2.5 } });
     sc.load.sort_by(|a, b| a.at_s.total_cmp(&b.at_s));
@@ -201,4 +203,30 @@ fn the_restart_after_a_hiccup_ramps_again() {
     let end = output_after(&out, sc.duration_s - 1e-3);
     let setpoint = sc.control.law.setpoint_v();
     assert!((end - setpoint).abs() < 0.01 * setpoint, "output {end} V at the end");
+}
+
+/// A cold start into a short: the bounded start holds its pulses past the
+/// ramp only while the output may still be coming up (twice the ramp's
+/// time in all), then the short-circuit detector trips, and the bounded
+/// pulses (each back to zero current) kept the inductor within the limit
+/// meanwhile.
+#[test]
+fn a_start_into_a_short_still_trips() {
+    use ripplectl::sim::profile::{Load, LoadChange};
+    let mut sc = cold();
+    sc.load = vec![LoadChange { at_s: 0.0, load: Load::Short }];
+    sc.duration_s = 4e-3;
+    let out = run(&sc, true);
+    let first = out.faults.first().map(|(k, t)| (k.name(), *t));
+    let ramp = f64::from(sc.firmware.protection.soft_start_s);
+    let (kind, at) = first.expect("the short was never detected");
+    assert_eq!(kind, "short-circuit");
+    let begun = out.recorder.cycles.first().map_or(0.0, |c| c.t_s - c.period_s);
+    let held = at - begun;
+    // Held twice the ramp's time, then released: the detector's eight
+    // cycles at the limit come within one more ramp's time.
+    assert!(held > 2.0 * ramp && held < 3.0 * ramp, "tripped {held} s into the start");
+    let peak = out.recorder.cycles.iter().map(|c| c.il_max_a).fold(0.0, f64::max);
+    let limit = f64::from(sc.firmware.protection.current_limit_a);
+    assert!(peak <= 1.5 * limit, "peak {peak} A");
 }

@@ -251,20 +251,12 @@ impl SlowPath {
         let before = core::mem::replace(&mut self.binding_before, binding);
         let slow_before = core::mem::replace(&mut self.slow_before, counts.slow_periods);
         let slow = counts.slow_periods != slow_before;
+        self.size_pulses(sup, phases, slow);
         if !regulating {
             if let Some(dc) = self.dc.get_mut() {
                 dc.reset();
             }
-            if let Some(sizer) = self.sizer.get_mut() {
-                sizer.reset();
-            }
             return;
-        }
-        if let Some(sizer) = self.sizer.get_mut() {
-            let lock = sup.inner().frequency_lock();
-            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow, lock);
-            sup.set_pulse_cap(size.cap);
-            sup.inner_mut().set_forced_pulses(size.forced);
         }
         let conditions = Conditions {
             vin,
@@ -278,6 +270,31 @@ impl SlowPath {
         if let Some(dc) = self.dc.get_mut() {
             let mean = sup.output_average();
             dc.update(mean, sup.inner_mut());
+        }
+    }
+
+    /// The light-load policy's cap for the next window: while regulating,
+    /// on the window and the law's lock; during the soft-start of a law
+    /// that follows the reference, on the start's own windows, as a bound
+    /// on the ramp's cap (a light load's start then switches as often as
+    /// its regulation will); reset otherwise.
+    fn size_pulses<L: Law + Regulate, const LOG: usize>(
+        &mut self,
+        sup: &mut Supervisor<FrequencyGuard<L>, LOG>,
+        phases: &Phases,
+        slow: bool,
+    ) {
+        let Some(sizer) = self.sizer.get_mut() else { return };
+        match sup.state() {
+            State::Regulating => {
+                let size = sizer.update(phases, slow, sup.inner().frequency_lock());
+                sup.set_pulse_cap(size.cap);
+                sup.inner_mut().set_forced_pulses(size.forced);
+            }
+            State::SoftStart if sup.inner().follows_reference() => {
+                sup.set_pulse_cap(sizer.update(phases, slow, None).cap);
+            }
+            _ => sizer.reset(),
         }
     }
 

@@ -202,10 +202,13 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     }
 
     /// Slow path: end pulses at `cap` (held within the configured limit)
-    /// from the next turn-on: a light-load policy's smaller pulses. The
-    /// soft-start ramp sets its own cap while it runs, and ignores this.
+    /// from the next turn-on: a light-load policy's smaller pulses. While
+    /// the soft-start ramp runs, its own rising cap is held at or below
+    /// `cap` (from the next reading), and regulation begins at it.
     pub fn set_pulse_cap(&mut self, cap: Amps) {
-        if self.sequence.state() != State::SoftStart {
+        if self.sequence.state() == State::SoftStart {
+            self.ramp.set_bound(cap);
+        } else {
             self.limit.set_cap(cap);
         }
     }
@@ -257,16 +260,19 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
 
     /// Move the soft-start ramp to `now`: the law's reference and the
     /// current limit's cap, and for a law that does not follow the
-    /// reference the pulses' bound; at its end, the setpoint, the full
-    /// limit, and regulation.
+    /// reference the pulses' bound (past the ramp's end too, while
+    /// [`start_unfinished`](Self::start_unfinished)); at its end, the
+    /// setpoint, the full limit, and regulation.
     #[inline(always)]
     fn soft_start_step(&mut self, now: Instant) {
-        match self.ramp.at(now.ticks_since(self.sequence.since())) {
+        let elapsed = now.ticks_since(self.sequence.since());
+        match self.ramp.at(elapsed) {
             Some((reference, cap)) if !self.pulses.active() => {
                 self.inner.set_reference(reference);
                 self.limit.set_cap(cap);
             }
             Some((_, cap)) => self.bound_pulses(cap),
+            None if self.start_unfinished(elapsed) => self.bound_pulses(self.limits.current_limit),
             None => self.end_soft_start(),
         }
     }
@@ -283,10 +289,24 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         self.inner.limit_pulses(Some(limit));
     }
 
+    /// A bounded start whose ramp is over with the output still below half
+    /// the setpoint (a heavy load on a start of bounded pulses, each back
+    /// to zero current, whose mean stays under half their peak): released
+    /// there, the pulses would meet the short-circuit detector at the full
+    /// limit below its half-reference line, so they stay bounded, at the
+    /// full limit's peak, until the output passes that line or the ramp's
+    /// time has passed twice (a real short then meets the detector).
+    #[cold]
+    fn start_unfinished(&self, elapsed: u32) -> bool {
+        self.pulses.active()
+            && self.readings.last_out < self.ramp.target() / 2
+            && !self.ramp.overdue(elapsed)
+    }
+
     #[cold]
     fn end_soft_start(&mut self) {
         self.inner.set_reference(self.ramp.target());
-        self.limit.set_cap(self.limits.current_limit);
+        self.limit.set_cap(self.ramp.bound());
         self.pulses.end();
         self.inner.limit_pulses(None);
         self.sequence.regulating();
@@ -477,6 +497,7 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
                 self.estimator.restart_at(now);
                 self.pulses.begin(self.inner.follows_reference());
                 self.ramp.begin(output, self.limits.current_limit, self.pulses.active());
+
                 self.pulses.retune(&self.estimator);
                 self.soft_start_step(now);
             }
