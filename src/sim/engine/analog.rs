@@ -33,7 +33,7 @@ impl<F: Firmware> Engine<F> {
 
     /// Seconds from the plant's time to `tick`.
     fn ahead_to(&self, tick: u64) -> f64 {
-        (tick - self.plant_tick) as f64 * self.tick_s - self.frac
+        self.seconds(tick - self.plant_tick) - self.frac
     }
 
     /// Look ahead of the plant up to `target` for a comparator crossing, a
@@ -96,8 +96,8 @@ impl<F: Firmware> Engine<F> {
     /// Move the plant `dt` on (no event inside), the panels to the
     /// recorder.
     fn move_plant(&mut self, dt: f64) {
+        let mut t = self.t_s();
         let (recorder, gate) = (&mut self.recorder, self.gate);
-        let mut t = self.plant_tick as f64 * self.tick_s + self.frac;
         self.plant.advance_to(dt, &mut |panel| {
             recorder.panel(t, panel, gate);
             t += panel.h;
@@ -168,7 +168,7 @@ impl<F: Firmware> Engine<F> {
         let v = self.plant.v_out_of(&x, ahead);
         let watched = self.comparator.watch();
         if self.comparator.settle(v, dac, self.adc.output_channel()) {
-            self.schedule_edge_interrupt(self.tick as f64 * self.tick_s, self.tick);
+            self.schedule_edge_interrupt(self.seconds(self.tick), self.tick);
         }
         if self.comparator.watch() != watched {
             // A new level to watch from the tick on.
