@@ -43,7 +43,33 @@ impl<F: Firmware> Engine<F> {
     /// interrupt comes first). One scan looks up to
     /// [`Plant::lookahead_s`](crate::sim::plant::Plant::lookahead_s) ahead
     /// and keeps what it found, so the events before it cost no scan.
-    pub(super) fn watch_until(&mut self, mut target: u64) -> u64 {
+    #[inline]
+    pub(super) fn watch_until(&mut self, target: u64) -> u64 {
+        if self.seen_clear_to(target) {
+            target
+        } else {
+            self.scan_until(target)
+        }
+    }
+
+    /// Whether nothing is left to look for before `target`: the plant is
+    /// there, or what was scanned already reaches it with no event before
+    /// it (most calls: the loop's events fall inside one scan).
+    #[inline]
+    fn seen_clear_to(&self, target: u64) -> bool {
+        self.plant_tick >= target || {
+            let to = self.ahead_to(target);
+            match self.found {
+                Some((t, _)) => t > to,
+                None => to <= self.scanned.t,
+            }
+        }
+    }
+
+    /// [`watch_until`](Self::watch_until) past its quick answer: scan, and
+    /// take the events found.
+    #[inline(never)]
+    fn scan_until(&mut self, mut target: u64) -> u64 {
         while self.plant_tick < target {
             let to = self.ahead_to(target);
             let (t, stop) = match self.found {
