@@ -33,7 +33,7 @@ impl<F: Firmware> Engine<F> {
 
     /// Seconds from the plant's time to `tick`.
     fn ahead_to(&self, tick: u64) -> f64 {
-        (tick - self.plant_tick) as f64 * self.tick_s - self.frac
+        self.seconds(tick - self.plant_tick) - self.frac
     }
 
     /// Look ahead of the plant up to `target` for a comparator crossing, a
@@ -43,7 +43,33 @@ impl<F: Firmware> Engine<F> {
     /// interrupt comes first). One scan looks up to
     /// [`Plant::lookahead_s`](crate::sim::plant::Plant::lookahead_s) ahead
     /// and keeps what it found, so the events before it cost no scan.
-    pub(super) fn watch_until(&mut self, mut target: u64) -> u64 {
+    #[inline]
+    pub(super) fn watch_until(&mut self, target: u64) -> u64 {
+        if self.seen_clear_to(target) {
+            target
+        } else {
+            self.scan_until(target)
+        }
+    }
+
+    /// Whether nothing is left to look for before `target`: the plant is
+    /// there, or what was scanned already reaches it with no event before
+    /// it (most calls: the loop's events fall inside one scan).
+    #[inline]
+    fn seen_clear_to(&self, target: u64) -> bool {
+        self.plant_tick >= target || {
+            let to = self.ahead_to(target);
+            match self.found {
+                Some((t, _)) => t > to,
+                None => to <= self.scanned.t,
+            }
+        }
+    }
+
+    /// [`watch_until`](Self::watch_until) past its quick answer: scan, and
+    /// take the events found.
+    #[inline(never)]
+    fn scan_until(&mut self, mut target: u64) -> u64 {
         while self.plant_tick < target {
             let to = self.ahead_to(target);
             let (t, stop) = match self.found {
@@ -96,8 +122,8 @@ impl<F: Firmware> Engine<F> {
     /// Move the plant `dt` on (no event inside), the panels to the
     /// recorder.
     fn move_plant(&mut self, dt: f64) {
+        let mut t = self.t_s();
         let (recorder, gate) = (&mut self.recorder, self.gate);
-        let mut t = self.plant_tick as f64 * self.tick_s + self.frac;
         self.plant.advance_to(dt, &mut |panel| {
             recorder.panel(t, panel, gate);
             t += panel.h;
@@ -168,7 +194,7 @@ impl<F: Firmware> Engine<F> {
         let v = self.plant.v_out_of(&x, ahead);
         let watched = self.comparator.watch();
         if self.comparator.settle(v, dac, self.adc.output_channel()) {
-            self.schedule_edge_interrupt(self.tick as f64 * self.tick_s, self.tick);
+            self.schedule_edge_interrupt(self.seconds(self.tick), self.tick);
         }
         if self.comparator.watch() != watched {
             // A new level to watch from the tick on.

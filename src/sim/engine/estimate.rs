@@ -47,7 +47,7 @@ impl<F: Firmware> Engine<F> {
         if let Some((t_s, bend)) = self.last_knot.and_then(|(a, e_a)| self.bend_since(a, e_a, e)) {
             self.recorder.estimate_knot(t_s, bend, bend);
         }
-        self.recorder.estimate_knot(self.tick as f64 * self.tick_s, e, e);
+        self.recorder.estimate_knot(self.seconds(self.tick), e, e);
     }
 
     /// The estimate after the tick's handlers; `corrected`: they learned of
@@ -56,7 +56,7 @@ impl<F: Firmware> Engine<F> {
     /// firmware held before it knew).
     pub(super) fn knot_after(&mut self, corrected: bool) {
         let e = self.estimate_now();
-        self.recorder.estimate_after(self.tick as f64 * self.tick_s, e, corrected);
+        self.recorder.estimate_after(self.seconds(self.tick), e, corrected);
         self.last_knot = Some((self.tick, e));
     }
 

@@ -162,7 +162,7 @@ impl<F: Firmware> Engine<F> {
         self.firmware.housekeeping(now);
         self.after_handler();
         if let Some((output_w, input_w)) = self.firmware.power_estimate() {
-            self.recorder.estimate(self.tick as f64 * self.tick_s, output_w, input_w);
+            self.recorder.estimate(self.seconds(self.tick), output_w, input_w);
         }
     }
 

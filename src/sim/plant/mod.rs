@@ -293,12 +293,16 @@ impl Plant {
         for k in 1..=n as u32 {
             // The last panel ends exactly at `dt`.
             let step = if f64::from(k) == n { dt - done } else { h };
-            let x0 = self.x;
-            let trajectory = self.solutions.at(self.solution).start_at(x0, self.tau);
+            let (x0, tau0) = (self.x, self.tau);
+            let solution = self.solutions.at(self.solution);
+            let trajectory = solution.start_at(x0, tau0);
             let (mid, end) = trajectory.midpoint_and_end(step);
-            let vo_turn = self.output_turn(&trajectory, step, &x0, &end);
-            self.accumulate_corrected(step, [&x0, &mid, &end]);
-            let tau0 = self.tau;
+            // The state's rates at the ends, for the output's turn and the
+            // energies' end corrections alike.
+            let rates =
+                [solution.system().rate(&x0, tau0), solution.system().rate(&end, tau0 + step)];
+            let vo_turn = self.output_turn(&trajectory, step, &rates);
+            self.accumulate_corrected(step, [&x0, &mid, &end], &rates);
             let vo = [
                 self.output.value(&x0, tau0),
                 self.output.value(&mid, tau0 + 0.5 * step),
@@ -311,19 +315,16 @@ impl Plant {
         }
     }
 
-    /// Where the output turns on `trajectory` between `x0` and `x1`, `h`
-    /// later, when its rate has opposite signs at the two: time after `x0`,
-    /// s, and value, V.
+    /// Where the output turns on `trajectory` over `h`, the state's
+    /// `rates` at its start and end, when the output's rate has opposite
+    /// signs at the two: time after the start, s, and value, V.
     fn output_turn(
         &self,
         trajectory: &Trajectory<'_>,
         h: f64,
-        x0: &Vec2,
-        x1: &Vec2,
+        rates: &[Vec2; 2],
     ) -> Option<(f64, f64)> {
-        let system = self.solutions.at(self.solution).system();
-        let r0 = self.output.rate(&system.rate(x0, self.tau));
-        let r1 = self.output.rate(&system.rate(x1, self.tau + h));
+        let (r0, r1) = (self.output.rate(&rates[0]), self.output.rate(&rates[1]));
         (r0 * r1 < 0.0).then(|| scan::turn(&trajectory.follow(&self.output), 0.0, r0, h, r1))
     }
 
@@ -389,15 +390,14 @@ impl Plant {
 
     /// [`accumulate`](Self::accumulate) by the corrected rule (its error
     /// falls as the panel's seventh power), for the panels of
-    /// [`advance_to`](Self::advance_to).
-    fn accumulate_corrected(&mut self, dt: f64, [x0, mid, end]: [&Vec2; 3]) {
+    /// [`advance_to`](Self::advance_to); `rates`: the state's at the ends.
+    fn accumulate_corrected(&mut self, dt: f64, [x0, mid, end]: [&Vec2; 3], rates: &[Vec2; 2]) {
         let model = PowerModel {
             params: &self.params,
             env: &self.env,
             output: &self.output,
             mode: self.mode,
         };
-        let system = self.solutions.at(self.solution).system();
         let (t0, t1) = (self.tau, self.tau + dt);
         let (a, m, b) = (
             model.at(x0[0], x0[1], t0),
@@ -405,8 +405,8 @@ impl Plant {
             model.at(end[0], end[1], t1),
         );
         let sign = if mid[0] < 0.0 { -1.0 } else { 1.0 };
-        let rate_a = model.rate(x0, &system.rate(x0, t0), t0, sign);
-        let rate_b = model.rate(end, &system.rate(end, t1), t1, sign);
+        let rate_a = model.rate(x0, &rates[0], t0, sign);
+        let rate_b = model.rate(end, &rates[1], t1, sign);
         self.energy.add(&model, &Integrals::corrected_simpson(dt, [&a, &m, &b], &rate_a, &rate_b));
         self.end_integrands = None;
     }
