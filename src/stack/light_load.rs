@@ -22,12 +22,11 @@
 //! frequency ([`Regulate::frequency_lock`](crate::law::Regulate::frequency_lock))
 //! the lock moves the frequency and the sizer only takes over where the
 //! lock has run out of range: the cap falls while the lock sits at its
-//! lower bound and the window's frequency is below 31/32 of the target (or
-//! a period ran long), and rises while the lock sits at its upper bound,
+//! lower bound and the window's frequency is below 31/32 of the target, or
+//! the frequency is below 1.25·`f_min` whatever the lock says (a lock that
+//! does not reach its target there, as an on-time trim with pulses at the
+//! cap's edge), or a period ran long; it rises while the lock sits at its upper bound,
 //! or the frequency passes 5/4 of the target, or most cycles are CCM.
-//! During the soft-start of a law that follows the reference the same
-//! sizer bounds the ramp's rising cap (`supervisor::soft_start`), so a
-//! light load's start switches as its regulation will.
 //! The thresholds are demo values; the eighth, the step (common practice
 //! for a multiplicative adaptation: slow against the window, fast against a
 //! load change).
@@ -95,7 +94,8 @@ impl PulseSizer {
             }
             Some(l) => {
                 let f = l.target_hz;
-                (l.at_min && f_sw_hz < f - f / 32, l.at_max || f_sw_hz > f + f / 4)
+                let low = l.at_min && f_sw_hz < f - f / 32;
+                (low || f_sw_hz < self.f_low, l.at_max || f_sw_hz > f + f / 4)
             }
             None => (f_sw_hz < self.f_low, f_sw_hz > self.f_high),
         };

@@ -273,11 +273,8 @@ impl SlowPath {
         }
     }
 
-    /// The light-load policy's cap for the next window: while regulating,
-    /// on the window and the law's lock; during the soft-start of a law
-    /// that follows the reference, on the start's own windows, as a bound
-    /// on the ramp's cap (a light load's start then switches as often as
-    /// its regulation will); reset otherwise.
+    /// The light-load policy's cap for the next window while regulating,
+    /// on the window and the law's lock; reset otherwise.
     fn size_pulses<L: Law + Regulate, const LOG: usize>(
         &mut self,
         sup: &mut Supervisor<FrequencyGuard<L>, LOG>,
@@ -290,9 +287,6 @@ impl SlowPath {
                 let size = sizer.update(phases, slow, sup.inner().frequency_lock());
                 sup.set_pulse_cap(size.cap);
                 sup.inner_mut().set_forced_pulses(size.forced);
-            }
-            State::SoftStart if sup.inner().follows_reference() => {
-                sup.set_pulse_cap(sizer.update(phases, slow, None).cap);
             }
             _ => sizer.reset(),
         }

@@ -202,13 +202,10 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     }
 
     /// Slow path: end pulses at `cap` (held within the configured limit)
-    /// from the next turn-on: a light-load policy's smaller pulses. While
-    /// the soft-start ramp runs, its own rising cap is held at or below
-    /// `cap` (from the next reading), and regulation begins at it.
+    /// from the next turn-on: a light-load policy's smaller pulses. The
+    /// soft-start ramp sets its own cap while it runs, and ignores this.
     pub fn set_pulse_cap(&mut self, cap: Amps) {
-        if self.sequence.state() == State::SoftStart {
-            self.ramp.set_bound(cap);
-        } else {
+        if self.sequence.state() != State::SoftStart {
             self.limit.set_cap(cap);
         }
     }
@@ -306,7 +303,7 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     #[cold]
     fn end_soft_start(&mut self) {
         self.inner.set_reference(self.ramp.target());
-        self.limit.set_cap(self.ramp.bound());
+        self.limit.set_cap(self.limits.current_limit);
         self.pulses.end();
         self.inner.limit_pulses(None);
         self.sequence.regulating();

@@ -4,9 +4,7 @@
 //! to the setpoint over the configured time, the law's reference rises
 //! in steps of a fraction of a code, and the current limit's cap rises
 //! with it from an eighth of the limit to the limit: the inductor current
-//! is held to what the ramp needs rather than to the full limit (and to a
-//! light-load policy's bound, when the start's windows show light load:
-//! the ramp's pulses are then as small as regulation's). An analog
+//! is held to what the ramp needs rather than to the full limit. An analog
 //! comparator loop, whose reference firmware cannot move, starts under the
 //! rising cap, each pulse bounded to it through the guard
 //! (`start_pulses.rs`); its ramp begins as far along as the output stands
@@ -38,8 +36,6 @@ pub(super) struct SoftStartRamp {
     cap_from: Amps,
     /// Cap slope, `Amps` bits × 2⁸ per tick.
     cap_rate: u32,
-    /// The light-load policy's bound on the cap (the limit without one).
-    bound: Amps,
 }
 
 impl SoftStartRamp {
@@ -53,7 +49,6 @@ impl SoftStartRamp {
             rate: 0,
             cap_from: Amps::ZERO,
             cap_rate: 0,
-            bound: Amps::MAX,
         }
     }
 
@@ -75,18 +70,6 @@ impl SoftStartRamp {
         // Held within 128 A (2²³ bits): `cap_rate · elapsed` < 2³¹.
         let cap_span = (limit - self.cap_from).to_bits().clamp(0, 1 << 23) as u64;
         self.cap_rate = div_u64(cap_span << 8, ticks) as u32;
-        self.bound = limit;
-    }
-
-    /// Slow path: hold the cap at or below `bound` from now on (a light
-    /// load's smaller pulses, sized on the start's own windows).
-    pub(super) fn set_bound(&mut self, bound: Amps) {
-        self.bound = bound;
-    }
-
-    /// The bound on the cap.
-    pub(super) const fn bound(&self) -> Amps {
-        self.bound
     }
 
     /// Fast path: the reference and cap `elapsed` ticks into the start;
@@ -101,8 +84,7 @@ impl SoftStartRamp {
         let step = self.rate.wrapping_mul(elapsed) >> 16;
         let reference = (u32::from(self.from) + step).min(u32::from(self.target)) as u16;
         let rise = (self.cap_rate.wrapping_mul(elapsed) >> 8) as i32;
-        let cap = self.cap_from.saturating_add(Amps::from_bits(rise));
-        Some((reference, cap.min(self.bound)))
+        Some((reference, self.cap_from.saturating_add(Amps::from_bits(rise))))
     }
 
     /// `elapsed` ticks into the start, twice the ramp's time has passed.
