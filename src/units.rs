@@ -93,39 +93,82 @@ pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
 }
 
 /// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit (one
-/// instruction on a Cortex-M3/M4, a short library call on the M0; a 64-bit
-/// division is a long one on both).
+/// instruction on a Cortex-M3/M4 or an RV32 with `M`, [`div_u32`] on the
+/// M0; a 64-bit division is a long one on all).
 #[inline(never)]
 pub fn div_u64(n: u64, d: u64) -> u64 {
     if d == 0 {
         0
     } else if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) {
-        u64::from(n as u32 / d as u32)
+        u64::from(div_u32(n as u32, d as u32))
     } else {
         long_division(n, d)
     }
 }
 
-/// `n / d` for `d > 0` by shift and subtract, one turn per quotient bit
-/// (at most 64 turns). The same quotient as `n / d` in a few dozen bytes,
-/// where the compiler's 64-bit division helpers take about a kilobyte on a
-/// Cortex-M0; [`div_u64`] needs it only when an operand passes 32 bits.
+/// `n / d`, 0 for `d = 0`: the core's divide instruction where it has one;
+/// on a core without (Armv6-M: Cortex-M0, M0+) [`long_division`]'s shift
+/// and subtract, where the compiler's 32-bit division helper and the count
+/// of leading zeros it needs take about 500 bytes of a Cortex-M0's flash.
+/// The same quotient either way; a few hundred instructions on the M0
+/// (slow path only).
+#[inline]
+pub fn div_u32(n: u32, d: u32) -> u32 {
+    if d == 0 {
+        0
+    } else if NO_DIVIDE_INSTRUCTION {
+        long_division(u64::from(n), u64::from(d)) as u32
+    } else {
+        n / d
+    }
+}
+
+/// The core has no divide instruction: Armv6-M (the Thumb-2 cores from
+/// Armv7-M on have one; the crate's RISC-V targets have `M`).
+const NO_DIVIDE_INSTRUCTION: bool = cfg!(all(target_arch = "arm", not(target_feature = "thumb2")));
+
+/// `n / d` for `d > 0` by shift and subtract: one turn to align the
+/// divisor per quotient bit, one turn per quotient bit to subtract (at
+/// most 128 turns), and no count of leading zeros (a library call on a
+/// Cortex-M0 or an RV32IMC). The same quotient as `n / d` in a few hundred
+/// bytes, where the compiler's 64-bit division helpers take about a
+/// kilobyte on a Cortex-M0; [`div_u64`] needs it only when an operand
+/// passes 32 bits, and [`div_u32`] on a core without a divide instruction.
+#[inline(never)]
 fn long_division(n: u64, d: u64) -> u64 {
     if n < d {
         return 0;
     }
-    // n ≥ d > 0: d shifted left by `bits` has its top bit where n's is.
-    let bits = d.leading_zeros() - n.leading_zeros();
-    let (mut rest, mut step, mut q) = (n, d << bits, 0u64);
-    for _ in 0..=bits {
-        q <<= 1;
+    // n ≥ d > 0: `step` ≤ n < 2·step, `bit` its quotient bit.
+    let (mut step, mut bit) = (d, 1u64);
+    while step <= n >> 1 {
+        step <<= 1;
+        bit <<= 1;
+    }
+    let (mut rest, mut q) = (n, 0u64);
+    loop {
         if rest >= step {
             rest -= step;
-            q |= 1;
+            q |= bit;
+        }
+        if bit == 1 {
+            return q;
         }
         step >>= 1;
+        bit >>= 1;
     }
-    q
+}
+
+/// The number of bits `x` needs beyond its low 16 (0 for `x` < 2¹⁶), one
+/// turn a bit: `leading_zeros` is a library call on a Cortex-M0 or an
+/// RV32IMC (and the compiler makes a loop that stops at zero one).
+fn bits_above_16(x: u64) -> u32 {
+    let (mut n, mut x) = (0, x);
+    while x > 0xffff {
+        x >>= 1;
+        n += 1;
+    }
+    n
 }
 
 /// `n / d` rounded toward zero, 0 for `d = 0`, saturating (see
@@ -146,7 +189,7 @@ pub fn div_i64(n: i64, d: i64) -> i64 {
 /// more (relative error below 2⁻¹⁵).
 #[inline(never)]
 pub fn ratio(num: u64, den: u64) -> Fraction {
-    let shift = (64 - num.leading_zeros()).saturating_sub(16);
+    let shift = bits_above_16(num);
     let (n, d) = (num >> shift, den >> shift);
     if d == 0 {
         return if den == 0 { 0 } else { u32::MAX };
@@ -239,9 +282,10 @@ mod tests {
         assert_eq!(div_u64(1 << 40, 1 << 8), 1 << 32);
     }
 
-    /// The shift-and-subtract division against the language's own `/`
-    /// (an independent implementation) on edge cases and a spread of
-    /// operands of every width.
+    /// The shift-and-subtract division (at both widths) and the bit count
+    /// against the language's own `/` and `leading_zeros` (independent
+    /// implementations) on edge cases and a spread of operands of every
+    /// width.
     #[test]
     fn long_division_matches_the_builtin_division() {
         let edges = [1u64, 2, 3, 0xffff_ffff, 1 << 32, (1 << 32) + 1, u64::MAX - 1, u64::MAX];
@@ -262,6 +306,20 @@ mod tests {
             let d = (next() >> (next() % 64)).max(1);
             assert_eq!(long_division(n, d), n / d, "{n} / {d}");
             assert_eq!(div_u64(n, d), n / d, "{n} / {d}");
+            let (n32, d32) = (n as u32, (d as u32).max(1));
+            assert_eq!(div_u32(n32, d32), n32 / d32, "{n32} / {d32}");
+            let above = (64 - n.leading_zeros()).saturating_sub(16);
+            assert_eq!(bits_above_16(n), above, "{n}");
         }
+        for &n in &[0u32, 1, 2, 3, 0x8000_0000, u32::MAX - 1, u32::MAX] {
+            for &d in &[1u32, 2, 3, 0x7fff_ffff, 0x8000_0000, u32::MAX] {
+                assert_eq!(long_division(n.into(), d.into()), u64::from(n / d), "{n} / {d}");
+            }
+        }
+        for n in [0u64, 1, 2, 3, 1 << 31, 1 << 32, u64::MAX >> 1, u64::MAX] {
+            let above = (64 - n.leading_zeros()).saturating_sub(16);
+            assert_eq!(bits_above_16(n), above, "{n}");
+        }
+        assert_eq!(div_u32(7, 0), 0);
     }
 }

@@ -54,7 +54,7 @@ use crate::law::Gate;
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
 pub use crate::units::Amps;
-use crate::units::{clamp_i32, div_i64, div_u64, ratio, scale, to_fixed_i32, Fraction};
+use crate::units::{clamp_i32, div_i64, div_u32, div_u64, ratio, scale, to_fixed_i32, Fraction};
 use fixed::types::I8F24;
 
 /// Largest current magnitude held, in `Amps` bits: 2 048 A.
@@ -538,7 +538,9 @@ impl CurrentEstimator {
     /// stored).
     #[inline]
     pub fn current_at(&self, now: Instant) -> Amps {
-        Amps::from_bits(self.segment_end_of_either(self.gate.is_on(), now.ticks_since(self.since)).0)
+        Amps::from_bits(
+            self.segment_end_of_either(self.gate.is_on(), now.ticks_since(self.since)).0,
+        )
     }
 
     /// Ticks from the last edge until the current would reach `limit` while
@@ -721,7 +723,7 @@ impl CurrentEstimator {
         self.ticks_per_amp_on = match on {
             // 2³² / on by a 32-bit division, then 2⁸ more: the quotient
             // keeps 12 bits or more, a relative error below 2⁻¹².
-            1..=0x000f_ffff => (u32::MAX / on as u32).saturating_mul(256),
+            1..=0x000f_ffff => div_u32(u32::MAX, on as u32).saturating_mul(256),
             _ if on > 0 => div_u64(1 << 40, on as u64).min(u64::from(u32::MAX)) as u32,
             _ => 0,
         };
