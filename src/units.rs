@@ -92,77 +92,105 @@ pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
     I16F16::from_bits(clamp_i32((i64::from(x.to_bits()) * i64::from(f)) >> 16))
 }
 
-/// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit (one
-/// instruction on a Cortex-M3/M4 or an RV32 with `M`, [`div_u32`] on the
-/// M0; a 64-bit division is a long one on all).
+/// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit and the
+/// core has a divide instruction (one instruction on a Cortex-M3/M4 or an
+/// RV32 with `M`); else, and when an operand passes 32 bits (a 64-bit
+/// division is a long library call on all of them), [`long_division`].
 #[inline(never)]
 pub fn div_u64(n: u64, d: u64) -> u64 {
     if d == 0 {
         0
-    } else if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) {
-        u64::from(div_u32(n as u32, d as u32))
+    } else if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) && !NO_DIVIDE_INSTRUCTION {
+        u64::from(n as u32 / d as u32)
     } else {
         long_division(n, d)
     }
 }
 
 /// `n / d`, 0 for `d = 0`: the core's divide instruction where it has one;
-/// on a core without (Armv6-M: Cortex-M0, M0+) [`long_division`]'s shift
-/// and subtract, where the compiler's 32-bit division helper and the count
-/// of leading zeros it needs take about 500 bytes of a Cortex-M0's flash.
+/// on a core without (Armv6-M: Cortex-M0, M0+) [`div_u64`]'s shift and
+/// subtract, where the compiler's 32-bit division helper and the count of
+/// leading zeros it needs take about 500 bytes of a Cortex-M0's flash.
 /// The same quotient either way; a few hundred instructions on the M0
 /// (slow path only).
 #[inline]
 pub fn div_u32(n: u32, d: u32) -> u32 {
-    if d == 0 {
+    if NO_DIVIDE_INSTRUCTION {
+        div_u64(u64::from(n), u64::from(d)) as u32
+    } else if d == 0 {
         0
-    } else if NO_DIVIDE_INSTRUCTION {
-        long_division(u64::from(n), u64::from(d)) as u32
     } else {
         n / d
     }
 }
 
-/// The core has no divide instruction: Armv6-M (the Thumb-2 cores from
-/// Armv7-M on have one; the crate's RISC-V targets have `M`).
-const NO_DIVIDE_INSTRUCTION: bool = cfg!(all(target_arch = "arm", not(target_feature = "thumb2")));
+/// An Arm core of Armv6-M (Cortex-M0, M0+, M1), recognised by what its
+/// targets lack: 32-bit atomics (the profile's other targets, from
+/// Armv7-M and Armv8-M on, have them, and a divide instruction).
+const ARMV6M: bool = cfg!(all(target_arch = "arm", not(target_has_atomic = "32")));
 
-/// `n / d` for `d > 0` by shift and subtract: one turn to align the
-/// divisor per quotient bit, one turn per quotient bit to subtract (at
-/// most 128 turns), and no count of leading zeros (a library call on a
-/// Cortex-M0 or an RV32IMC). The same quotient as `n / d` in a few hundred
-/// bytes, where the compiler's 64-bit division helpers take about a
-/// kilobyte on a Cortex-M0; [`div_u64`] needs it only when an operand
-/// passes 32 bits, and [`div_u32`] on a core without a divide instruction.
-#[inline(never)]
+/// The core has no divide instruction: Armv6-M (the crate's RISC-V
+/// targets have `M`).
+const NO_DIVIDE_INSTRUCTION: bool = ARMV6M;
+
+/// The core counts leading zeros in one instruction: not Armv6-M, nor a
+/// RISC-V core without `Zbb` (RV32IMC), where `leading_zeros` is a library
+/// call of about 100 bytes.
+const COUNTS_LEADING_ZEROS: bool =
+    !(ARMV6M || cfg!(all(target_arch = "riscv32", not(target_feature = "zbb"))));
+
+/// `n / d` for `d > 0` by shift and subtract, one turn per quotient bit
+/// (at most 64 turns, and as many to align the divisor on a core that
+/// does not count leading zeros). The same quotient as `n / d` in a few
+/// hundred bytes, where the compiler's 64-bit division helpers take about
+/// a kilobyte on a Cortex-M0; [`div_u64`] needs it only when an operand
+/// passes 32 bits, or on a core without a divide instruction.
 fn long_division(n: u64, d: u64) -> u64 {
     if n < d {
         return 0;
     }
-    // n ≥ d > 0: `step` ≤ n < 2·step, `bit` its quotient bit.
-    let (mut step, mut bit) = (d, 1u64);
-    while step <= n >> 1 {
-        step <<= 1;
-        bit <<= 1;
-    }
-    let (mut rest, mut q) = (n, 0u64);
-    loop {
-        if rest >= step {
-            rest -= step;
-            q |= bit;
-        }
-        if bit == 1 {
-            return q;
-        }
-        step >>= 1;
-        bit >>= 1;
-    }
+    subtract_shifted(n, aligned(n, d, COUNTS_LEADING_ZEROS))
 }
 
-/// The number of bits `x` needs beyond its low 16 (0 for `x` < 2¹⁶), one
-/// turn a bit: `leading_zeros` is a library call on a Cortex-M0 or an
-/// RV32IMC (and the compiler makes a loop that stops at zero one).
+/// `n / d` from `(bits, d << bits)` with `d << bits` below `2·n` (see
+/// [`aligned`]): one turn per quotient bit.
+fn subtract_shifted(n: u64, (bits, mut step): (u32, u64)) -> u64 {
+    let (mut rest, mut q) = (n, 0u64);
+    for _ in 0..=bits {
+        q <<= 1;
+        if rest >= step {
+            rest -= step;
+            q |= 1;
+        }
+        step >>= 1;
+    }
+    q
+}
+
+/// For n ≥ d > 0: `bits` such that d shifted left by `bits` has its top
+/// bit where n's is, and d so shifted: from the leading zeros of both
+/// (`by_leading_zeros`; the shifted d may pass n), or by shifting d until
+/// one more shift would pass n.
+fn aligned(n: u64, d: u64, by_leading_zeros: bool) -> (u32, u64) {
+    if by_leading_zeros {
+        let bits = d.leading_zeros() - n.leading_zeros();
+        return (bits, d << bits);
+    }
+    let (mut bits, mut step) = (0, d);
+    while step <= n >> 1 {
+        step <<= 1;
+        bits += 1;
+    }
+    (bits, step)
+}
+
+/// The number of bits `x` needs beyond its low 16 (0 for `x` < 2¹⁶): from
+/// its leading zeros where the core counts them, else one turn a bit (a
+/// loop that stops at zero the compiler would make the library call).
 fn bits_above_16(x: u64) -> u32 {
+    if COUNTS_LEADING_ZEROS {
+        return (64 - x.leading_zeros()).saturating_sub(16);
+    }
     let (mut n, mut x) = (0, x);
     while x > 0xffff {
         x >>= 1;
@@ -310,6 +338,14 @@ mod tests {
             assert_eq!(div_u32(n32, d32), n32 / d32, "{n32} / {d32}");
             let above = (64 - n.leading_zeros()).saturating_sub(16);
             assert_eq!(bits_above_16(n), above, "{n}");
+            if n >= d {
+                // The Cortex-M0's alignment (by shifts) and the others' (by
+                // leading zeros).
+                for by_leading_zeros in [false, true] {
+                    let q = subtract_shifted(n, aligned(n, d, by_leading_zeros));
+                    assert_eq!(q, n / d, "{n} / {d}, {by_leading_zeros}");
+                }
+            }
         }
         for &n in &[0u32, 1, 2, 3, 0x8000_0000, u32::MAX - 1, u32::MAX] {
             for &d in &[1u32, 2, 3, 0x7fff_ffff, 0x8000_0000, u32::MAX] {
