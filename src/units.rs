@@ -139,50 +139,72 @@ const NO_DIVIDE_INSTRUCTION: bool = ARMV6M;
 const COUNTS_LEADING_ZEROS: bool =
     !(ARMV6M || cfg!(all(target_arch = "riscv32", not(target_feature = "zbb"))));
 
-/// `n / d` for `d > 0` by shift and subtract, one turn per quotient bit
-/// (at most 64 turns, and as many to align the divisor on a core that
-/// does not count leading zeros). The same quotient as `n / d` in a few
-/// hundred bytes, where the compiler's 64-bit division helpers take about
-/// a kilobyte on a Cortex-M0; [`div_u64`] needs it only when an operand
-/// passes 32 bits, or on a core without a divide instruction.
+/// `n / d` for `d > 0` by shift and subtract (see [`shifted_division`]),
+/// in 32-bit arithmetic when both fit (a third of the instructions on a
+/// Cortex-M0). The same quotient as `n / d` in a few hundred bytes, where
+/// the compiler's 64-bit division helpers take about a kilobyte on a
+/// Cortex-M0; [`div_u64`] needs it only when an operand passes 32 bits, or
+/// on a core without a divide instruction.
 fn long_division(n: u64, d: u64) -> u64 {
-    if n < d {
-        return 0;
+    if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) {
+        u64::from(shifted_division_u32(n as u32, d as u32, COUNTS_LEADING_ZEROS))
+    } else {
+        shifted_division(n, d, COUNTS_LEADING_ZEROS)
     }
-    subtract_shifted(n, aligned(n, d, COUNTS_LEADING_ZEROS))
 }
 
-/// `n / d` from `(bits, d << bits)` with `d << bits` below `2·n` (see
-/// [`aligned`]): one turn per quotient bit.
-fn subtract_shifted(n: u64, (bits, mut step): (u32, u64)) -> u64 {
-    let (mut rest, mut q) = (n, 0u64);
-    for _ in 0..=bits {
-        q <<= 1;
-        if rest >= step {
-            rest -= step;
-            q |= 1;
+/// A shift-and-subtract division for one unsigned width: `n / d` for
+/// `d > 0`, one turn per quotient bit after aligning d's top bit with n's
+/// (from the leading zeros of both when `by_leading_zeros`, else by
+/// shifting d until one more shift would pass n: one turn a bit, and no
+/// count of leading zeros, a library call on a Cortex-M0 or an RV32IMC).
+macro_rules! shifted_division {
+    ($(#[$doc:meta])* $name:ident, $t:ty) => {
+        $(#[$doc])*
+        #[inline(never)]
+        fn $name(n: $t, d: $t, by_leading_zeros: bool) -> $t {
+            if n < d {
+                return 0;
+            }
+            // n ≥ d > 0: d shifted left by `bits` has its top bit where n's
+            // is (by leading zeros the shifted d may pass n: its quotient
+            // bit is 0).
+            let (bits, mut step) = if by_leading_zeros {
+                let bits = d.leading_zeros() - n.leading_zeros();
+                (bits, d << bits)
+            } else {
+                let (mut bits, mut step) = (0, d);
+                while step <= n >> 1 {
+                    step <<= 1;
+                    bits += 1;
+                }
+                (bits, step)
+            };
+            let (mut rest, mut q): ($t, $t) = (n, 0);
+            for _ in 0..=bits {
+                q <<= 1;
+                if rest >= step {
+                    rest -= step;
+                    q |= 1;
+                }
+                step >>= 1;
+            }
+            q
         }
-        step >>= 1;
-    }
-    q
+    };
 }
 
-/// For n ≥ d > 0: `bits` such that d shifted left by `bits` has its top
-/// bit where n's is, and d so shifted: from the leading zeros of both
-/// (`by_leading_zeros`; the shifted d may pass n), or by shifting d until
-/// one more shift would pass n.
-fn aligned(n: u64, d: u64, by_leading_zeros: bool) -> (u32, u64) {
-    if by_leading_zeros {
-        let bits = d.leading_zeros() - n.leading_zeros();
-        return (bits, d << bits);
-    }
-    let (mut bits, mut step) = (0, d);
-    while step <= n >> 1 {
-        step <<= 1;
-        bits += 1;
-    }
-    (bits, step)
-}
+shifted_division!(
+    /// 64-bit shift and subtract.
+    shifted_division,
+    u64
+);
+
+shifted_division!(
+    /// 32-bit shift and subtract.
+    shifted_division_u32,
+    u32
+);
 
 /// The number of bits `x` needs beyond its low 16 (0 for `x` < 2¹⁶): from
 /// its leading zeros where the core counts them, else one turn a bit (a
@@ -342,7 +364,10 @@ mod tests {
                 // The Cortex-M0's alignment (by shifts) and the others' (by
                 // leading zeros).
                 for by_leading_zeros in [false, true] {
-                    let q = subtract_shifted(n, aligned(n, d, by_leading_zeros));
+                    let q = shifted_division(n, d, by_leading_zeros);
+                    assert_eq!(q, n / d, "{n} / {d}, {by_leading_zeros}");
+                    let (n, d) = (n as u32, (d as u32).max(1));
+                    let q = shifted_division_u32(n, d, by_leading_zeros);
                     assert_eq!(q, n / d, "{n} / {d}, {by_leading_zeros}");
                 }
             }
