@@ -95,7 +95,7 @@ pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
 /// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit and the
 /// core has a divide instruction (one instruction on a Cortex-M3/M4 or an
 /// RV32 with `M`); else, and when an operand passes 32 bits (a 64-bit
-/// division is a long library call on all of them), [`long_division`].
+/// division is a long library call on all of them), by shift and subtract.
 #[inline(never)]
 pub fn div_u64(n: u64, d: u64) -> u64 {
     if d == 0 {
@@ -117,10 +117,8 @@ pub fn div_u64(n: u64, d: u64) -> u64 {
 pub fn div_u32(n: u32, d: u32) -> u32 {
     if NO_DIVIDE_INSTRUCTION {
         div_u64(u64::from(n), u64::from(d)) as u32
-    } else if d == 0 {
-        0
     } else {
-        n / d
+        n.checked_div(d).unwrap_or(0)
     }
 }
 
