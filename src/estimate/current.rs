@@ -809,17 +809,21 @@ impl CurrentEstimator {
     }
 
     /// [`segment_end`](Self::segment_end) where the kind is known only at
-    /// run time (a reading, a timer or comparator event, a moved edge), out
-    /// of line: one copy for all of them, a call each (on a Cortex-M0 about
-    /// 500 bytes less than a copy per use; the edges keep their own).
-    #[inline(never)]
+    /// run time (a reading, a timer or comparator event, a moved edge). On
+    /// a Cortex-M0 (Armv6-M, told by its lack of 32-bit atomics) out of
+    /// line: one copy for all of them, a call each (about 500 bytes less
+    /// than a copy per use; the edges keep their own); elsewhere inlined,
+    /// the faster handlers the other cores' budgets were set with.
+    #[cfg_attr(all(target_arch = "arm", not(target_has_atomic = "32")), inline(never))]
+    #[cfg_attr(not(all(target_arch = "arm", not(target_has_atomic = "32"))), inline(always))]
     fn segment_end_of_either(&self, on: bool, ticks: u32) -> (i32, bool) {
         self.segment_end(on, ticks)
     }
 
     /// Close the present segment at `now`, whichever kind it is (a reading,
-    /// an update). Out of line, for the same reason.
-    #[inline(never)]
+    /// an update). Out of line on a Cortex-M0, for the same reason.
+    #[cfg_attr(all(target_arch = "arm", not(target_has_atomic = "32")), inline(never))]
+    #[cfg_attr(not(all(target_arch = "arm", not(target_has_atomic = "32"))), inline(always))]
     fn close_segment(&mut self, now: Instant) {
         let ticks = now.ticks_since(self.since);
         let end = self.segment_end_of_either(self.gate.is_on(), ticks);
