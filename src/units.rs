@@ -92,40 +92,131 @@ pub fn scale(x: I16F16, f: Fraction) -> I16F16 {
     I16F16::from_bits(clamp_i32((i64::from(x.to_bits()) * i64::from(f)) >> 16))
 }
 
-/// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit (one
-/// instruction on a Cortex-M3/M4, a short library call on the M0; a 64-bit
-/// division is a long one on both).
+/// `n / d`, 0 for `d = 0`, with a 32-bit division when both fit and the
+/// core has a divide instruction (one instruction on a Cortex-M3/M4 or an
+/// RV32 with `M`); else, and when an operand passes 32 bits (a 64-bit
+/// division is a long library call on all of them), by shift and subtract.
 #[inline(never)]
 pub fn div_u64(n: u64, d: u64) -> u64 {
     if d == 0 {
         0
-    } else if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) {
+    } else if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) && !NO_DIVIDE_INSTRUCTION {
         u64::from(n as u32 / d as u32)
     } else {
         long_division(n, d)
     }
 }
 
-/// `n / d` for `d > 0` by shift and subtract, one turn per quotient bit
-/// (at most 64 turns). The same quotient as `n / d` in a few dozen bytes,
-/// where the compiler's 64-bit division helpers take about a kilobyte on a
-/// Cortex-M0; [`div_u64`] needs it only when an operand passes 32 bits.
+/// `n / d`, 0 for `d = 0`: the core's divide instruction where it has one;
+/// on a core without (Armv6-M: Cortex-M0, M0+) [`div_u64`]'s shift and
+/// subtract, where the compiler's 32-bit division helper and the count of
+/// leading zeros it needs take about 500 bytes of a Cortex-M0's flash.
+/// The same quotient either way; a few hundred instructions on the M0
+/// (slow path only).
+#[inline]
+pub fn div_u32(n: u32, d: u32) -> u32 {
+    if NO_DIVIDE_INSTRUCTION {
+        div_u64(u64::from(n), u64::from(d)) as u32
+    } else {
+        n.checked_div(d).unwrap_or(0)
+    }
+}
+
+/// An Arm core of Armv6-M (Cortex-M0, M0+, M1), recognised by what its
+/// targets lack: 32-bit atomics (the profile's other targets, from
+/// Armv7-M and Armv8-M on, have them, and a divide instruction).
+const ARMV6M: bool = cfg!(all(target_arch = "arm", not(target_has_atomic = "32")));
+
+/// The core has no divide instruction: Armv6-M (the crate's RISC-V
+/// targets have `M`).
+const NO_DIVIDE_INSTRUCTION: bool = ARMV6M;
+
+/// The core counts leading zeros in one instruction: not Armv6-M, nor a
+/// RISC-V core without `Zbb` (RV32IMC), where `leading_zeros` is a library
+/// call of about 100 bytes.
+const COUNTS_LEADING_ZEROS: bool =
+    !(ARMV6M || cfg!(all(target_arch = "riscv32", not(target_feature = "zbb"))));
+
+/// `n / d` for `d > 0` by shift and subtract (see [`shifted_division`]),
+/// in 32-bit arithmetic when both fit (a third of the instructions on a
+/// Cortex-M0). The same quotient as `n / d` in a few hundred bytes, where
+/// the compiler's 64-bit division helpers take about a kilobyte on a
+/// Cortex-M0; [`div_u64`] needs it only when an operand passes 32 bits, or
+/// on a core without a divide instruction.
 fn long_division(n: u64, d: u64) -> u64 {
-    if n < d {
-        return 0;
+    if n <= u64::from(u32::MAX) && d <= u64::from(u32::MAX) {
+        u64::from(shifted_division_u32(n as u32, d as u32, COUNTS_LEADING_ZEROS))
+    } else {
+        shifted_division(n, d, COUNTS_LEADING_ZEROS)
     }
-    // n ≥ d > 0: d shifted left by `bits` has its top bit where n's is.
-    let bits = d.leading_zeros() - n.leading_zeros();
-    let (mut rest, mut step, mut q) = (n, d << bits, 0u64);
-    for _ in 0..=bits {
-        q <<= 1;
-        if rest >= step {
-            rest -= step;
-            q |= 1;
+}
+
+/// A shift-and-subtract division for one unsigned width: `n / d` for
+/// `d > 0`, one turn per quotient bit after aligning d's top bit with n's
+/// (from the leading zeros of both when `by_leading_zeros`, else by
+/// shifting d until one more shift would pass n: one turn a bit, and no
+/// count of leading zeros, a library call on a Cortex-M0 or an RV32IMC).
+macro_rules! shifted_division {
+    ($(#[$doc:meta])* $name:ident, $t:ty) => {
+        $(#[$doc])*
+        #[inline(never)]
+        fn $name(n: $t, d: $t, by_leading_zeros: bool) -> $t {
+            if n < d {
+                return 0;
+            }
+            // n ≥ d > 0: d shifted left by `bits` has its top bit where n's
+            // is (by leading zeros the shifted d may pass n: its quotient
+            // bit is 0).
+            let (bits, mut step) = if by_leading_zeros {
+                let bits = d.leading_zeros() - n.leading_zeros();
+                (bits, d << bits)
+            } else {
+                let (mut bits, mut step) = (0, d);
+                while step <= n >> 1 {
+                    step <<= 1;
+                    bits += 1;
+                }
+                (bits, step)
+            };
+            let (mut rest, mut q): ($t, $t) = (n, 0);
+            for _ in 0..=bits {
+                q <<= 1;
+                if rest >= step {
+                    rest -= step;
+                    q |= 1;
+                }
+                step >>= 1;
+            }
+            q
         }
-        step >>= 1;
+    };
+}
+
+shifted_division!(
+    /// 64-bit shift and subtract.
+    shifted_division,
+    u64
+);
+
+shifted_division!(
+    /// 32-bit shift and subtract.
+    shifted_division_u32,
+    u32
+);
+
+/// The number of bits `x` needs beyond its low 16 (0 for `x` < 2¹⁶): from
+/// its leading zeros where the core counts them, else one turn a bit (a
+/// loop that stops at zero the compiler would make the library call).
+fn bits_above_16(x: u64) -> u32 {
+    if COUNTS_LEADING_ZEROS {
+        return (64 - x.leading_zeros()).saturating_sub(16);
     }
-    q
+    let (mut n, mut x) = (0, x);
+    while x > 0xffff {
+        x >>= 1;
+        n += 1;
+    }
+    n
 }
 
 /// `n / d` rounded toward zero, 0 for `d = 0`, saturating (see
@@ -146,7 +237,7 @@ pub fn div_i64(n: i64, d: i64) -> i64 {
 /// more (relative error below 2⁻¹⁵).
 #[inline(never)]
 pub fn ratio(num: u64, den: u64) -> Fraction {
-    let shift = (64 - num.leading_zeros()).saturating_sub(16);
+    let shift = bits_above_16(num);
     let (n, d) = (num >> shift, den >> shift);
     if d == 0 {
         return if den == 0 { 0 } else { u32::MAX };
@@ -239,9 +330,10 @@ mod tests {
         assert_eq!(div_u64(1 << 40, 1 << 8), 1 << 32);
     }
 
-    /// The shift-and-subtract division against the language's own `/`
-    /// (an independent implementation) on edge cases and a spread of
-    /// operands of every width.
+    /// The shift-and-subtract division (at both widths) and the bit count
+    /// against the language's own `/` and `leading_zeros` (independent
+    /// implementations) on edge cases and a spread of operands of every
+    /// width.
     #[test]
     fn long_division_matches_the_builtin_division() {
         let edges = [1u64, 2, 3, 0xffff_ffff, 1 << 32, (1 << 32) + 1, u64::MAX - 1, u64::MAX];
@@ -262,6 +354,31 @@ mod tests {
             let d = (next() >> (next() % 64)).max(1);
             assert_eq!(long_division(n, d), n / d, "{n} / {d}");
             assert_eq!(div_u64(n, d), n / d, "{n} / {d}");
+            let (n32, d32) = (n as u32, (d as u32).max(1));
+            assert_eq!(div_u32(n32, d32), n32 / d32, "{n32} / {d32}");
+            let above = (64 - n.leading_zeros()).saturating_sub(16);
+            assert_eq!(bits_above_16(n), above, "{n}");
+            if n >= d {
+                // The Cortex-M0's alignment (by shifts) and the others' (by
+                // leading zeros).
+                for by_leading_zeros in [false, true] {
+                    let q = shifted_division(n, d, by_leading_zeros);
+                    assert_eq!(q, n / d, "{n} / {d}, {by_leading_zeros}");
+                    let (n, d) = (n as u32, (d as u32).max(1));
+                    let q = shifted_division_u32(n, d, by_leading_zeros);
+                    assert_eq!(q, n / d, "{n} / {d}, {by_leading_zeros}");
+                }
+            }
         }
+        for &n in &[0u32, 1, 2, 3, 0x8000_0000, u32::MAX - 1, u32::MAX] {
+            for &d in &[1u32, 2, 3, 0x7fff_ffff, 0x8000_0000, u32::MAX] {
+                assert_eq!(long_division(n.into(), d.into()), u64::from(n / d), "{n} / {d}");
+            }
+        }
+        for n in [0u64, 1, 2, 3, 1 << 31, 1 << 32, u64::MAX >> 1, u64::MAX] {
+            let above = (64 - n.leading_zeros()).saturating_sub(16);
+            assert_eq!(bits_above_16(n), above, "{n}");
+        }
+        assert_eq!(div_u32(7, 0), 0);
     }
 }

@@ -54,7 +54,7 @@ use crate::law::Gate;
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
 pub use crate::units::Amps;
-use crate::units::{clamp_i32, div_i64, div_u64, ratio, scale, to_fixed_i32, Fraction};
+use crate::units::{clamp_i32, div_i64, div_u32, div_u64, ratio, scale, to_fixed_i32, Fraction};
 use fixed::types::I8F24;
 
 /// Largest current magnitude held, in `Amps` bits: 2 048 A.
@@ -538,7 +538,9 @@ impl CurrentEstimator {
     /// stored).
     #[inline]
     pub fn current_at(&self, now: Instant) -> Amps {
-        Amps::from_bits(self.segment_end(self.gate.is_on(), now.ticks_since(self.since)).0)
+        Amps::from_bits(
+            self.segment_end_of_either(self.gate.is_on(), now.ticks_since(self.since)).0,
+        )
     }
 
     /// Ticks from the last edge until the current would reach `limit` while
@@ -615,7 +617,7 @@ impl CurrentEstimator {
         }
         let on = self.gate.is_on();
         // The segment before the edge was of the other kind.
-        let (current, _) = self.segment_end(!on, late);
+        let (current, _) = self.segment_end_of_either(!on, late);
         self.current = current;
         self.since = at;
         if on {
@@ -721,7 +723,7 @@ impl CurrentEstimator {
         self.ticks_per_amp_on = match on {
             // 2³² / on by a 32-bit division, then 2⁸ more: the quotient
             // keeps 12 bits or more, a relative error below 2⁻¹².
-            1..=0x000f_ffff => (u32::MAX / on as u32).saturating_mul(256),
+            1..=0x000f_ffff => div_u32(u32::MAX, on as u32).saturating_mul(256),
             _ if on > 0 => div_u64(1 << 40, on as u64).min(u64::from(u32::MAX)) as u32,
             _ => 0,
         };
@@ -792,7 +794,9 @@ impl CurrentEstimator {
 
     /// The current after `ticks` more of the present segment (an on-segment
     /// if `on`), and whether it reached an off-segment's floor (zero for a
-    /// diode stage), without storing anything.
+    /// diode stage), without storing anything. Inlined where the kind is
+    /// known (at an edge, [`close_segment_of`](Self::close_segment_of)):
+    /// the compiler keeps that kind's slope and floor alone.
     #[inline(always)]
     fn segment_end(&self, on: bool, ticks: u32) -> (i32, bool) {
         let slope = if on { self.on_base } else { self.off_base } - self.vout_term;
@@ -804,9 +808,26 @@ impl CurrentEstimator {
         (sum.min(CURRENT_LIMIT_BITS).max(floor), !on & (sum < floor))
     }
 
-    #[inline(always)]
+    /// [`segment_end`](Self::segment_end) where the kind is known only at
+    /// run time (a reading, a timer or comparator event, a moved edge). On
+    /// a Cortex-M0 (Armv6-M, told by its lack of 32-bit atomics) out of
+    /// line: one copy for all of them, a call each (about 500 bytes less
+    /// than a copy per use; the edges keep their own); elsewhere inlined,
+    /// the faster handlers the other cores' budgets were set with.
+    #[cfg_attr(all(target_arch = "arm", not(target_has_atomic = "32")), inline(never))]
+    #[cfg_attr(not(all(target_arch = "arm", not(target_has_atomic = "32"))), inline(always))]
+    fn segment_end_of_either(&self, on: bool, ticks: u32) -> (i32, bool) {
+        self.segment_end(on, ticks)
+    }
+
+    /// Close the present segment at `now`, whichever kind it is (a reading,
+    /// an update). Out of line on a Cortex-M0, for the same reason.
+    #[cfg_attr(all(target_arch = "arm", not(target_has_atomic = "32")), inline(never))]
+    #[cfg_attr(not(all(target_arch = "arm", not(target_has_atomic = "32"))), inline(always))]
     fn close_segment(&mut self, now: Instant) {
-        self.close_segment_of(self.gate.is_on(), now);
+        let ticks = now.ticks_since(self.since);
+        let end = self.segment_end_of_either(self.gate.is_on(), ticks);
+        self.store_segment(end, ticks, now);
     }
 
     /// [`close_segment`](Self::close_segment) where the segment's kind is
@@ -815,10 +836,17 @@ impl CurrentEstimator {
     #[inline(always)]
     fn close_segment_of(&mut self, on: bool, now: Instant) {
         let ticks = now.ticks_since(self.since);
-        let (i1, clamped) = self.segment_end(on, ticks);
+        let end = self.segment_end(on, ticks);
+        self.store_segment(end, ticks, now);
+    }
+
+    /// Keep a closed segment's `end` (current, floor reached) after `ticks`
+    /// more, up to `now`.
+    #[inline(always)]
+    fn store_segment(&mut self, (current, clamped): (i32, bool), ticks: u32, now: Instant) {
         self.cycle.dcm |= clamped;
         self.cycle.period_ticks = self.cycle.period_ticks.wrapping_add(ticks);
-        self.current = i1;
+        self.current = current;
         self.since = now;
     }
 }

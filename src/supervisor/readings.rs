@@ -5,6 +5,8 @@
 //! least every 65 535 readings (65 ms at 1 MHz). Averages carry 16 fraction
 //! bits (`u32`, code × 2¹⁶).
 
+use crate::units::div_u32;
+
 /// Readings and their window sums.
 #[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
 #[cfg_attr(feature = "defmt", derive(defmt::Format))]
@@ -80,6 +82,8 @@ fn average(sum: u32, count: u16) -> Option<u32> {
         return None;
     }
     let count = u32::from(count);
-    let (whole, rest) = (sum / count, sum % count);
-    Some((whole << 16).wrapping_add((rest << 16) / count))
+    let whole = div_u32(sum, count);
+    // whole · count ≤ sum: the remainder, below `count`.
+    let rest = sum.wrapping_sub(whole.wrapping_mul(count));
+    Some((whole << 16).wrapping_add(div_u32(rest << 16, count)))
 }
