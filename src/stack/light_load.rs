@@ -42,7 +42,7 @@
 
 use crate::estimate::{Amps, Phases};
 use crate::law::LockState;
-use crate::units::div_u64;
+use crate::units::div_u32;
 
 /// The adaptation's state.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -150,10 +150,32 @@ impl PulseSizer {
 /// of the target, or slower, takes a quarter; one within 3/4 of it still
 /// an eighth).
 fn toward(f_hz: u32, target_hz: u32) -> u32 {
-    let ratio = div_u64(u64::from(f_hz) << 16, u64::from(target_hz.max(1)));
-    // f ≥ target: no root needed, the 7/8 bound holds.
-    let root = if ratio >= 1 << 16 { 1 << 16 } else { ((ratio as u32) << 16).isqrt() };
-    root.clamp(1 << 14, 7 << 13)
+    let (mut f, mut target) = (f_hz, target_hz.max(1));
+    if f >= target {
+        return 7 << 13;
+    }
+    // f < target < 2¹⁶ after the shifts: f·2¹⁶ fits 32 bits.
+    while target >= 1 << 16 {
+        (f, target) = (f >> 1, target >> 1);
+    }
+    square_root(div_u32(f << 16, target) << 16).clamp(1 << 14, 7 << 13)
+}
+
+/// `⌊√n⌋`, digit by digit (two bits of `n` a turn, 16 turns). Not
+/// `u32::isqrt`: core's takes a 512-byte table, a sixteenth of a small
+/// core's flash, for a root taken once a window.
+fn square_root(mut n: u32) -> u32 {
+    let (mut root, mut bit) = (0u32, 1u32 << 30);
+    while bit != 0 {
+        if n >= root + bit {
+            n -= root + bit;
+            root = (root >> 1) + bit;
+        } else {
+            root >>= 1;
+        }
+        bit >>= 2;
+    }
+    root
 }
 
 /// `cap · factor`, the factor in 2⁻¹⁶ (≤ 1).
@@ -282,5 +304,19 @@ mod tests {
     fn assert_close(cap: Amps, expected: f64) {
         let err = (cap.to_num::<f64>() - expected).abs();
         assert!(err < 4.0 / 65_536.0, "cap {cap} A, expected {expected} A");
+    }
+
+    #[test]
+    fn the_square_root_is_core_s() {
+        // Against `u32::isqrt` (core's): the ends, squares and their
+        // neighbours, and a spread of values.
+        let mut cases = vec![0, 1, 2, 3, u32::MAX, u32::MAX - 1];
+        for r in [1u32, 2, 255, 256, 4095, 65_535] {
+            cases.extend([r * r - 1, r * r, r * r + 1]);
+        }
+        cases.extend((0..2000u32).map(|i| i.wrapping_mul(2_654_435_761)));
+        for n in cases {
+            assert_eq!(square_root(n), n.isqrt(), "n = {n}");
+        }
     }
 }
