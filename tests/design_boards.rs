@@ -90,13 +90,11 @@ fn full_load_frequency_agrees(p: &Proposal, runs: &[(f64, f64, Summary)]) {
 
 #[test]
 fn the_demo_board_s_design_regulates_over_its_range() {
-    // What `design` writes: the proposal that passed its simulated check,
-    // the hysteretic loop on edges, tried first. (Before the light-load
-    // sizer took its steps from the pulses' own peak it left the window
-    // for one period at 32 V and 1 A from a cold start, 19.8 kHz, and the
-    // on-time loop on edges was proposed.)
+    // What `design` writes: the proposal that passed its simulated check
+    // (the hysteretic loop on edges, tried first, leaves the window for
+    // one period at 32 V and 1 A from a cold start: 19.8 kHz).
     let (p, _) = propose_checked(&facts(Board::demo())).unwrap();
-    assert_eq!(p.plan.scheme, Scheme::HystereticEdge);
+    assert_eq!(p.plan.scheme, Scheme::OnTimeEdge);
     let runs = sweep(&p);
     full_load_frequency_agrees(&p, &runs);
 }

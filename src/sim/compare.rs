@@ -120,6 +120,10 @@ fn difference(a: Option<f64>, b: Option<f64>, unit: Unit) -> String {
     if !d.is_finite() {
         return String::new();
     }
+    // Rounding noise between two equal readings (a millionth of the
+    // figures, far under the four digits printed) is no difference: not
+    // "+0.007 nHz".
+    let d = if d.abs() <= 1e-6 * a.abs().max(b.abs()) { 0.0 } else { d };
     let sign = if d > 0.0 { "+" } else { "" };
     match unit {
         Unit::Si(u) => format!("{sign}{}", eng(d, u)),
@@ -161,4 +165,18 @@ pub fn table(a: &Summary, b: &Summary) -> String {
         );
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn equal_readings_differ_by_nothing() {
+        // 18.67 kHz both: a difference of 7e-12 Hz is rounding, not a figure.
+        let f = 18_666.666_666_7;
+        assert_eq!(difference(Some(f), Some(f + 7e-12), Unit::Si("Hz")), "0 Hz");
+        assert_eq!(difference(Some(f), Some(f + 1.0), Unit::Si("Hz")), "+1.000 Hz");
+        assert_eq!(difference(Some(2.0), Some(1.5), Unit::Si("A")), "-500.0 mA");
+    }
 }

@@ -251,12 +251,20 @@ impl SlowPath {
         let before = core::mem::replace(&mut self.binding_before, binding);
         let slow_before = core::mem::replace(&mut self.slow_before, counts.slow_periods);
         let slow = counts.slow_periods != slow_before;
-        self.size_pulses(sup, phases, slow);
         if !regulating {
             if let Some(dc) = self.dc.get_mut() {
                 dc.reset();
             }
+            if let Some(sizer) = self.sizer.get_mut() {
+                sizer.reset();
+            }
             return;
+        }
+        if let Some(sizer) = self.sizer.get_mut() {
+            let lock = sup.inner().frequency_lock();
+            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow, lock);
+            sup.set_pulse_cap(size.cap);
+            sup.inner_mut().set_forced_pulses(size.forced);
         }
         let conditions = Conditions {
             vin,
@@ -270,25 +278,6 @@ impl SlowPath {
         if let Some(dc) = self.dc.get_mut() {
             let mean = sup.output_average();
             dc.update(mean, sup.inner_mut());
-        }
-    }
-
-    /// The light-load policy's cap for the next window while regulating,
-    /// on the window and the law's lock; reset otherwise.
-    fn size_pulses<L: Law + Regulate, const LOG: usize>(
-        &mut self,
-        sup: &mut Supervisor<FrequencyGuard<L>, LOG>,
-        phases: &Phases,
-        slow: bool,
-    ) {
-        let Some(sizer) = self.sizer.get_mut() else { return };
-        match sup.state() {
-            State::Regulating => {
-                let size = sizer.update(phases, slow, sup.inner().frequency_lock());
-                sup.set_pulse_cap(size.cap);
-                sup.inner_mut().set_forced_pulses(size.forced);
-            }
-            _ => sizer.reset(),
         }
     }
 
