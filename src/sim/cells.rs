@@ -106,8 +106,13 @@ impl CellGrid {
         if whole_end > k {
             let (from, dt) = (self.from_s, self.dt_s);
             let curvature = q.c[2] * dt * dt / 12.0;
-            for (j, cell) in (k..).zip(&mut self.cells[k..whole_end]) {
-                *cell += q.at(from + (j as i64 as f64 + 0.5) * dt - t0_s) + curvature;
+            // Cell `k + i`'s centre in cells, `k + i + 0.5`, summed from
+            // `k + 0.5` and `i` (whole and half numbers far below 2⁵³: the
+            // same value exactly); `i` counted in i32, whose conversion
+            // the compiler does two cells at a time.
+            let centre_k = k as i64 as f64 + 0.5;
+            for (i, cell) in (0..i32::MAX).zip(&mut self.cells[k..whole_end]) {
+                *cell += q.at(from + (centre_k + f64::from(i)) * dt - t0_s) + curvature;
             }
             (t, k) = (self.edge(whole_end), whole_end);
         }
