@@ -26,7 +26,9 @@ pub struct CellGrid {
 }
 
 impl CellGrid {
-    /// `n` empty cells of width `dt_s` from `from_s`.
+    /// `n` empty cells of width `dt_s` from `from_s` (`n` below 2³¹, 16 GiB
+    /// of cells: [`add_quadratic`](Self::add_quadratic) counts them in
+    /// `i32`).
     pub fn new(from_s: f64, dt_s: f64, n: usize) -> Self {
         Self { from_s, dt_s, cells: vec![0.0; n] }
     }
