@@ -25,7 +25,8 @@ impl Scheme {
     /// The stack the counts table names.
     pub const fn stack_kind(self) -> &'static str {
         match self {
-            Self::HystereticEdge | Self::OnTimeEdge => "edge",
+            Self::HystereticEdge => "edge",
+            Self::OnTimeEdge => "cotedge",
             Self::OnTimeSampled => "cot",
         }
     }

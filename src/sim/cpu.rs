@@ -177,7 +177,8 @@ pub fn stack_kind(sc: &Scenario) -> &'static str {
     match sc.control.law {
         LawParams::Hysteretic { input: HystereticInput::Sampled, .. } => "hyst",
         LawParams::OnTime { input: HystereticInput::Sampled, .. } => "cot",
-        LawParams::Hysteretic { .. } | LawParams::OnTime { .. } => "edge",
+        LawParams::Hysteretic { .. } => "edge",
+        LawParams::OnTime { .. } => "cotedge",
         LawParams::AnalogRetrofit { .. } => "retrofit",
     }
 }
@@ -434,6 +435,7 @@ mod tests {
         assert_eq!(count(table, "rv32", "handler_hyst_conversion"), None);
         assert_eq!(handler_op("retrofit", Handler::Compare), "handler_edge_compare");
         assert_eq!(handler_op("retrofit", Handler::Comparator), "handler_retrofit_comparator");
+        assert_eq!(handler_op("cotedge", Handler::Comparator), "handler_cotedge_comparator");
     }
 
     #[test]

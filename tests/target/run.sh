@@ -257,11 +257,16 @@ handler_cot_conversion|handler: conversion done, on-time stack (mean)
 handler_cot_conversion_max|handler: conversion done, on-time stack (worst seen)
 handler_cot_compare|handler: compare (on-time ended), on-time stack
 handler_cot_housekeeping|handler: housekeeping, on-time stack
-handler_edge_conversion|handler: conversion done (protections only), edge-driven stack
-handler_edge_comparator|handler: comparator edge, edge-driven stack (mean)
-handler_edge_comparator_max|handler: comparator edge, edge-driven stack (worst seen)
-handler_edge_compare|handler: compare, edge-driven stack (at the armed deadline)
-handler_edge_housekeeping|handler: housekeeping, edge-driven stack
+handler_edge_conversion|handler: conversion done (protections only), hysteretic stack on comparator edges
+handler_edge_comparator|handler: comparator edge, hysteretic stack on comparator edges (mean)
+handler_edge_comparator_max|handler: comparator edge, hysteretic stack on comparator edges (worst seen)
+handler_edge_compare|handler: compare, hysteretic stack on comparator edges (at the armed deadline)
+handler_edge_housekeeping|handler: housekeeping, hysteretic stack on comparator edges
+handler_cotedge_conversion|handler: conversion done (protections only), on-time stack on comparator edges
+handler_cotedge_comparator|handler: comparator edge, on-time stack on comparator edges (mean)
+handler_cotedge_comparator_max|handler: comparator edge, on-time stack on comparator edges (worst seen)
+handler_cotedge_compare|handler: compare (on-time ended), on-time stack on comparator edges
+handler_cotedge_housekeeping|handler: housekeeping, on-time stack on comparator edges
 handler_retrofit_comparator|handler: comparator edge, analog retrofit (mean)
 handler_retrofit_comparator_max|handler: comparator edge, analog retrofit (worst seen)
 handler_retrofit_start_conversion|handler: conversion done, analog retrofit in its soft-start (pulse bound, mean)

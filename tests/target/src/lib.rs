@@ -118,6 +118,16 @@ pub const COT_PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
 pub const EDGE_PARTS: StackParts =
     unwrap_config(StackParts::new(&StackConfig { sensing: Sensing::Edge, ..CONFIG }));
 
+#[cfg(feature = "parts")]
+/// The on-time stack's parts with the law on comparator edges (the
+/// comparator armed at the reference; the ADC's readings serve the
+/// protections).
+pub const COT_EDGE_PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
+    sensing: Sensing::Edge,
+    slow: SlowPathConfig { dc_correction: true, ..CONFIG.slow },
+    ..CONFIG
+}));
+
 /// The demo's hysteretic law: 40 mV band around 5 V.
 pub const HYSTERETIC: Hysteretic = unwrap_config(Hysteretic::new(
     &HystereticConfig { setpoint_v: CONFIG.setpoint_v, band_v: 0.04 },

@@ -34,7 +34,9 @@ use ripplectl::stack::{Handlers, Stack, StackParts};
 use ripplectl::{Command, Gate, Instant, Law};
 use ripplectl_target::arch::{entry, CORE};
 use ripplectl_target::board::driver;
-use ripplectl_target::{Rig, COT_PARTS, EDGE_PARTS, HYSTERETIC, LOCKED, ON_TIME, PARTS, RETROFIT};
+use ripplectl_target::{
+    Rig, COT_EDGE_PARTS, COT_PARTS, EDGE_PARTS, HYSTERETIC, LOCKED, ON_TIME, PARTS, RETROFIT,
+};
 use semihosting::{println, process};
 
 const CALLS: u32 = 2_048;
@@ -356,9 +358,10 @@ fn handler_counts<L: Law + Regulate + Clone>(
     in_phase
 }
 
-/// Every handler count: the hysteretic, locked-and-dithered hysteretic,
-/// on-time and edge-driven stacks, and the analog retrofit regulating and
-/// in its soft-start (each pulse bounded through the guard).
+/// Every handler count: the hysteretic, locked-and-dithered hysteretic and
+/// on-time stacks on samples, both laws on comparator edges, and the analog
+/// retrofit regulating and in its soft-start (each pulse bounded through
+/// the guard).
 fn whole_handlers(meter: &Meter) -> bool {
     let all = ["conversion", "comparator", "compare", "housekeeping"];
     let sampled = ["conversion", "compare", "housekeeping"];
@@ -370,6 +373,8 @@ fn whole_handlers(meter: &Meter) -> bool {
     let lock = handler_counts(meter, "handler_lock", (LOCKED, PARTS), (none, run), &sampled);
     let cot = handler_counts(meter, "handler_cot", (ON_TIME, COT_PARTS), (none, run), &sampled);
     let edge = handler_counts(meter, "handler_edge", (HYSTERETIC, EDGE_PARTS), (armed, run), &all);
+    let cot_edge =
+        handler_counts(meter, "handler_cotedge", (ON_TIME, COT_EDGE_PARTS), (armed, run), &all);
     let retrofit = (RETROFIT, EDGE_PARTS);
     let regulating =
         handler_counts(meter, "handler_retrofit", retrofit, (board, run), &["comparator"]);
@@ -379,7 +384,7 @@ fn whole_handlers(meter: &Meter) -> bool {
     let start = ["conversion", "compare", "housekeeping"];
     let starting =
         handler_counts(meter, "handler_retrofit_start", retrofit, (board, Phase::Start), &start);
-    hyst && lock && cot && edge && regulating && starting
+    hyst && lock && cot && edge && cot_edge && regulating && starting
 }
 
 /// The per-call counts of the laws, the guard, the estimator and the
