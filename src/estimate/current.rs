@@ -761,7 +761,12 @@ impl CurrentEstimator {
     /// Phase currents of `totals` (slow path, integer only).
     pub fn phases(&self, totals: &WindowTotals) -> Phases {
         if totals.cycles == 0 || totals.period_ticks == 0 {
-            return Phases::default();
+            // All zero (no cycles, or their time wrapped to zero), but the
+            // time taken from the totals: the compiler then stores eight
+            // zero words and a copy instead of clearing all nine through
+            // a library routine (`__aeabi_memclr4`, 158 bytes on the
+            // Cortex-M0, linked for this alone).
+            return Phases { period_ticks: totals.period_ticks, ..Phases::default() };
         }
         let n = i64::from(totals.cycles);
         let mean = |sum: i64| Amps::from_bits(clamp_i32(div_i64(sum, n)));
