@@ -125,7 +125,7 @@ pub fn div_u32(n: u32, d: u32) -> u32 {
 /// An Arm core of Armv6-M (Cortex-M0, M0+, M1), recognised by what its
 /// targets lack: 32-bit atomics (the profile's other targets, from
 /// Armv7-M and Armv8-M on, have them, and a divide instruction).
-const ARMV6M: bool = cfg!(all(target_arch = "arm", not(target_has_atomic = "32")));
+pub(crate) const ARMV6M: bool = cfg!(all(target_arch = "arm", not(target_has_atomic = "32")));
 
 /// The core has no divide instruction: Armv6-M (the crate's RISC-V
 /// targets have `M`).

@@ -54,7 +54,9 @@ use crate::law::Gate;
 use crate::scale::{AdcChannel, TimerClock};
 use crate::tick::Instant;
 pub use crate::units::Amps;
-use crate::units::{clamp_i32, div_i64, div_u32, div_u64, ratio, scale, to_fixed_i32, Fraction};
+use crate::units::{
+    clamp_i32, div_i64, div_u32, div_u64, ratio, scale, to_fixed_i32, Fraction, ARMV6M,
+};
 use fixed::types::I8F24;
 
 /// Largest current magnitude held, in `Amps` bits: 2 048 A.
@@ -761,7 +763,14 @@ impl CurrentEstimator {
     /// Phase currents of `totals` (slow path, integer only).
     pub fn phases(&self, totals: &WindowTotals) -> Phases {
         if totals.cycles == 0 || totals.period_ticks == 0 {
-            return Phases::default();
+            // All zero (no cycles, or their time wrapped to zero). On a
+            // Cortex-M0 the time is taken from the totals (zero here too):
+            // the compiler then stores eight zero words and a copy instead
+            // of clearing all nine through a library routine
+            // (`__aeabi_memclr4`, 158 bytes, linked for this alone); other
+            // cores clear them inline either way.
+            let period_ticks = if ARMV6M { totals.period_ticks } else { 0 };
+            return Phases { period_ticks, ..Phases::default() };
         }
         let n = i64::from(totals.cycles);
         let mean = |sum: i64| Amps::from_bits(clamp_i32(div_i64(sum, n)));

@@ -48,6 +48,7 @@ pub use sequence::State;
 use crate::estimate::current::{Amps, CurrentEstimator, CycleCurrents};
 use crate::law::{Command, Event, Gate, Law, Regulate};
 use crate::tick::{earliest, Instant};
+use crate::units::ARMV6M;
 use detect::{CycleView, Detectors};
 use limit::CurrentLimit;
 use readings::Readings;
@@ -259,8 +260,14 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     /// current limit's cap, and for a law that does not follow the
     /// reference the pulses' bound (past the ramp's end too, while
     /// [`start_unfinished`](Self::start_unfinished)); at its end, the
-    /// setpoint, the full limit, and regulation.
-    #[inline(always)]
+    /// setpoint, the full limit, and regulation. On a Cortex-M0 (Armv6-M,
+    /// told by its lack of 32-bit atomics) out of line: one copy for the
+    /// sample, the output reading and housekeeping, a call each while the
+    /// start runs (about 550 bytes less than a copy per use); elsewhere
+    /// inlined, the faster soft-start handlers the other cores' counts were
+    /// set with.
+    #[cfg_attr(all(target_arch = "arm", not(target_has_atomic = "32")), inline(never))]
+    #[cfg_attr(not(all(target_arch = "arm", not(target_has_atomic = "32"))), inline(always))]
     fn soft_start_step(&mut self, now: Instant) {
         let elapsed = now.ticks_since(self.sequence.since());
         match self.ramp.at(elapsed) {
@@ -409,12 +416,20 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     }
 
     /// The limit ended this on-time. Out of line: once per limited cycle.
+    ///
+    /// The law sees its own turn-off and is asked what comes next. On a
+    /// Cortex-M0 through [`step`](Self::step) again, as a timer event
+    /// (one level deep: the gate is now off, so the limit cannot act
+    /// again, and the guard, its minimum off-time ahead, keeps it off):
+    /// the guard's filter is compiled once, in `step`, not a second time
+    /// here (about 400 bytes), for a few more instructions per limited
+    /// cycle only. Elsewhere the guarded law directly, the faster limited
+    /// cycle the other cores' counts were set with.
     #[inline(never)]
     fn limit_current(&mut self, now: Instant) -> Command {
         self.limit.note_acted();
         self.force_off(now);
-        // The law sees its own turn-off; ask it what comes next.
-        let next = self.inner.on_timer(now);
+        let next = if ARMV6M { self.step(Event::Timer, now) } else { self.inner.on_timer(now) };
         Command { gate: Gate::Off, wake: next.wake }
     }
 

@@ -169,10 +169,10 @@ done < <(grep '^insns ' "$out")
 declare -A ceiling=(
     [flash/m0/base/all-parts]=383 [ram/m0/base/all-parts]=22 [flash/m0/law_guard/all-parts]=7383
     [ram/m0/law_guard/all-parts]=225 [flash/m0/estimator/all-parts]=4303 [ram/m0/estimator/all-parts]=190
-    [flash/m0/supervisor/all-parts]=9909 [ram/m0/supervisor/all-parts]=568 [flash/m0/slow_path/all-parts]=10459
+    [flash/m0/supervisor/all-parts]=8998 [ram/m0/supervisor/all-parts]=568 [flash/m0/slow_path/all-parts]=10459
     [ram/m0/slow_path/all-parts]=911 [flash/m0/driver/all-parts]=572 [ram/m0/driver/all-parts]=53
-    [flash/m0/stack/all-parts]=18696 [ram/m0/stack/all-parts]=942 [flash/m0/firmware/all-parts]=16557
-    [ram/m0/firmware/all-parts]=920 [flash/m0/stack/none]=10490 [ram/m0/stack/none]=612
+    [flash/m0/stack/all-parts]=15528 [ram/m0/stack/all-parts]=942 [flash/m0/firmware/all-parts]=15057
+    [ram/m0/firmware/all-parts]=920 [flash/m0/stack/none]=9293 [ram/m0/stack/none]=612
     [flash/m4/base/all-parts]=1329 [ram/m4/base/all-parts]=22 [flash/m4/law_guard/all-parts]=6279
     [ram/m4/law_guard/all-parts]=225 [flash/m4/estimator/all-parts]=5404 [ram/m4/estimator/all-parts]=190
     [flash/m4/supervisor/all-parts]=9306 [ram/m4/supervisor/all-parts]=568 [flash/m4/slow_path/all-parts]=9606
