@@ -37,6 +37,7 @@ use crate::error::{attempt, positive, ConfigError, ErrorKind};
 use crate::law::{Command, Conditions, Event, Gate, Law, LockState, PulseLimit, Regulate};
 use crate::scale::TimerClock;
 use crate::tick::{earliest, Instant};
+use core::ops::ControlFlow;
 
 /// What the guard does when the law has not switched for longer than
 /// `1/f_min`.
@@ -323,15 +324,18 @@ impl<L: Law> FrequencyGuard<L> {
         self.turn_on_at = at.after(self.min_off.max(period_left));
     }
 
+    /// The gate is on: a command, or `Continue(demand)` after a turn-off
+    /// here, for [`while_off`](Self::while_off) to judge at once (one
+    /// inlined copy of it for every path that reaches it).
     #[inline(always)]
-    fn while_on(&mut self, demand: Gate, now: Instant) -> Command {
+    fn while_on(&mut self, demand: Gate, now: Instant) -> ControlFlow<Command, Gate> {
         if now.has_reached(self.max_on_end) {
             self.counts.max_on = self.counts.max_on.wrapping_add(1);
             self.switch_off(now);
-            return self.while_off(demand, now);
+            return ControlFlow::Continue(demand);
         }
         if demand.is_on() {
-            return Command::until(Gate::On, self.max_on_end);
+            return ControlFlow::Break(Command::until(Gate::On, self.max_on_end));
         }
         if now.has_reached(self.min_on_end) {
             self.switch_off(now);
@@ -339,13 +343,13 @@ impl<L: Law> FrequencyGuard<L> {
             // a comparator, its output still below the reference): it then
             // waits for the minimum off-time, not for a sample.
             let next = if self.inner.asks_on_after_off() { Gate::On } else { Gate::Off };
-            return self.while_off(next, now);
+            return ControlFlow::Continue(next);
         }
         if !self.on_clamp_noted {
             self.on_clamp_noted = true;
             self.counts.min_on = self.counts.min_on.wrapping_add(1);
         }
-        Command::until(Gate::On, self.min_on_end)
+        ControlFlow::Break(Command::until(Gate::On, self.min_on_end))
     }
 
     #[inline(always)]
@@ -407,9 +411,13 @@ impl<L: Law> FrequencyGuard<L> {
     #[inline(always)]
     fn filter(&mut self, demand: Command, now: Instant) -> Command {
         let before = self.gate;
-        let guarded = match self.gate {
+        let off_demand = match self.gate {
             Gate::On => self.while_on(demand.gate, now),
-            Gate::Off => self.while_off(demand.gate, now),
+            Gate::Off => ControlFlow::Continue(demand.gate),
+        };
+        let guarded = match off_demand {
+            ControlFlow::Break(command) => command,
+            ControlFlow::Continue(gate) => self.while_off(gate, now),
         };
         // After an edge the law has seen `on_gate`: its deadline (an
         // on-time's end, say) is fresh only now.

@@ -1,7 +1,6 @@
 //! Fault kinds and the fault log.
 
 use crate::tick::Instant;
-use heapless::Deque;
 
 /// Capacity of the fault log unless a firmware chooses another (the
 /// `LOG` parameter of [`FaultLog`], [`Supervisor`](super::Supervisor),
@@ -66,43 +65,65 @@ pub struct FaultRecord {
 /// The last `N` faults (at least one; [`FAULT_LOG_LEN`] unless chosen),
 /// oldest first; a full log drops its oldest entry. Only telemetry reads
 /// it: the supervisor's sequencing never depends on its length.
-#[derive(Clone, Debug)]
+///
+/// A ring of `N` slots, 8 bytes each, and two 16-bit counters (`N` at most
+/// 65 535, checked when the log is built).
+#[derive(Clone)]
 pub struct FaultLog<const N: usize = FAULT_LOG_LEN> {
-    entries: Deque<FaultRecord, N>,
+    // Slots `0..N`; the `len` entries end just before `next`, wrapping.
+    records: [Option<FaultRecord>; N],
+    // The slot the next entry goes to, always below `N` (0 when `N` is 0).
+    next: u16,
+    // Entries held, at most `N`.
+    len: u16,
 }
 
 impl<const N: usize> FaultLog<N> {
     /// An empty log.
     pub const fn new() -> Self {
-        Self { entries: Deque::new() }
+        const { assert!(N <= u16::MAX as usize, "a fault log holds at most 65 535 entries") };
+        Self { records: [None; N], next: 0, len: 0 }
     }
 
     /// Record `kind` at `at`.
     pub fn push(&mut self, kind: FaultKind, at: Instant) {
-        if self.entries.is_full() {
-            self.entries.pop_front();
+        let next = usize::from(self.next);
+        if let Some(slot) = self.records.get_mut(next) {
+            *slot = Some(FaultRecord { kind, at });
+            // Both below `N` ≤ 65 535: the casts keep every value.
+            self.next = if next + 1 < N { (next + 1) as u16 } else { 0 };
+            if usize::from(self.len) < N {
+                self.len += 1;
+            }
         }
-        let _ = self.entries.push_back(FaultRecord { kind, at });
     }
 
     /// The entries, oldest first.
     pub fn iter(&self) -> impl Iterator<Item = &FaultRecord> {
-        self.entries.iter()
+        // Past `next`: the older entries (slots never written hold `None`).
+        let (newer, older) = self.records.split_at(usize::from(self.next).min(N));
+        older.iter().chain(newer).flatten()
     }
 
     /// Entries held.
     pub fn len(&self) -> usize {
-        self.entries.len()
+        usize::from(self.len)
     }
 
     /// Whether the log is empty.
     pub fn is_empty(&self) -> bool {
-        self.entries.is_empty()
+        self.len == 0
     }
 
     /// Forget every entry.
     pub fn clear(&mut self) {
-        self.entries.clear();
+        *self = Self::new();
+    }
+}
+
+impl<const N: usize> core::fmt::Debug for FaultLog<N> {
+    fn fmt(&self, f: &mut core::fmt::Formatter<'_>) -> core::fmt::Result {
+        f.debug_list().entries(self.iter()).finish()
     }
 }
 
