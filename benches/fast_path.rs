@@ -2,7 +2,7 @@
 //! cores come from the QEMU runs under tests/target.)
 
 use criterion::{criterion_group, criterion_main, Criterion};
-use ripplectl::estimate::{CurrentEstimator, InductorModel};
+use ripplectl::estimate::{CurrentEstimator, InductorModel, SlopeScale};
 use ripplectl::law::{
     ComparatorPassThrough, EmulatedRipple, Hysteretic, HystereticConfig, OnTime, OnTimeConfig,
 };
@@ -60,9 +60,11 @@ fn bench_passthrough(c: &mut Criterion) {
 }
 
 fn demo_estimator(clock: &TimerClock, adc: &AdcChannel) -> CurrentEstimator {
-    let mut est = CurrentEstimator::new(&InductorModel::demo(), clock, 40.0).unwrap();
-    est.set_voltages(24.0, 5.0);
-    est.follow_output(adc);
+    let model = InductorModel::demo();
+    let mut est = CurrentEstimator::new(&model, clock, 40.0).unwrap();
+    let scale = SlopeScale::of(&model, clock);
+    est.set_voltages(scale, 24.0, 5.0);
+    est.follow_output(adc, scale);
     est
 }
 

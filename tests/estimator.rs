@@ -8,7 +8,7 @@
 use ripplectl::design;
 use ripplectl::estimate::{
     Amps, CurrentEstimator, CycleCurrents, InductorModel, LossConfig, LossModel,
-    MeasuredEfficiency, Observer, ObserverConfig, Steinmetz,
+    MeasuredEfficiency, Observer, ObserverConfig, SlopeScale, Steinmetz,
 };
 use ripplectl::units::{Fraction, Volts, ONE};
 use ripplectl::{ConfigError, ErrorKind, Gate, Instant, TimerClock};
@@ -54,9 +54,7 @@ fn ccm_ripple_matches_erickson() {
     let on = (period as f32 * 5.0 / vin).round() as u32;
     // The output that balances the whole-tick duty exactly.
     let vout = vin * on as f32 / period as f32;
-    let mut est =
-        CurrentEstimator::new(&lossless(l), &TimerClock::new(CLOCK).unwrap(), 40.0).unwrap();
-    est.set_voltages(vin, vout);
+    let mut est = at_voltages(l, &TimerClock::new(CLOCK).unwrap(), vin, vout);
     est.restart_at(Instant(u32::MAX - 1000));
     est.shift(Amps::from_num(2));
     let c = run_cycles(&mut est, u32::MAX - 1000, on, period, 20).unwrap();
@@ -77,8 +75,7 @@ fn ccm_dcm_boundary_matches_erickson() {
     let clock = TimerClock::new(CLOCK).unwrap();
     let period = 640u32;
     let on = (period as f32 * vout / vin).round() as u32;
-    let mut est = CurrentEstimator::new(&lossless(l), &clock, 40.0).unwrap();
-    est.set_voltages(vin, vout);
+    let mut est = at_voltages(l, &clock, vin, vout);
     let c = run_cycles(&mut est, 0, on, period, 5).unwrap();
     let d = f64::from(on) / f64::from(period);
     let vin_eff = f64::from(vout) / d;
@@ -94,8 +91,7 @@ fn ccm_dcm_boundary_matches_erickson() {
     let avg = f64::from(est.cycle_average(&c).to_num::<f32>());
     assert!((avg - i_crit).abs() / i_crit < 0.01, "boundary average {avg} vs {i_crit}");
     // A longer period at the same on-time idles at zero: DCM.
-    let mut light = CurrentEstimator::new(&lossless(l), &clock, 40.0).unwrap();
-    light.set_voltages(vin, vout);
+    let mut light = at_voltages(l, &clock, vin, vout);
     light.restart_at(Instant(0));
     light.take_window();
     let c = run_cycles(&mut light, 0, on, 2 * period, 5).unwrap();
@@ -119,8 +115,7 @@ fn inductance_error_scales_the_ripple() {
     // model 10 % high gives 1/1.1 of the true ripple.
     let clock = TimerClock::new(CLOCK).unwrap();
     let ripple = |l: f32| {
-        let mut est = CurrentEstimator::new(&lossless(l), &clock, 40.0).unwrap();
-        est.set_voltages(24.0, 5.0);
+        let mut est = at_voltages(l, &clock, 24.0, 5.0);
         est.restart_at(Instant(0));
         est.shift(Amps::from_num(2));
         let c = run_cycles(&mut est, 0, 133, 640, 10).unwrap();
@@ -143,11 +138,19 @@ fn steinmetz_worked_example() {
     assert!((p - 0.024_85).abs() / 0.024_85 < 0.002, "{p}");
 }
 
+/// A lossless estimator of inductance `l` on `clock` whose slopes use
+/// `vin` and `vout`, volts.
+fn at_voltages(l: f32, clock: &TimerClock, vin: f32, vout: f32) -> CurrentEstimator {
+    let model = lossless(l);
+    let mut est = CurrentEstimator::new(&model, clock, 40.0).unwrap();
+    est.set_voltages(SlopeScale::of(&model, clock), vin, vout);
+    est
+}
+
 fn flat_current_window(i_a: f32, vin: f32, vout: f32) -> ripplectl::estimate::Phases {
     // An estimator at constant current (no ripple: huge L), 100 cycles.
     let clock = TimerClock::new(CLOCK).unwrap();
-    let mut est = CurrentEstimator::new(&lossless(1.0), &clock, 40.0).unwrap();
-    est.set_voltages(vin, vout);
+    let mut est = at_voltages(1.0, &clock, vin, vout);
     est.restart_at(Instant(0));
     est.shift(Amps::from_num(i_a));
     let on = (640.0 * vout / vin) as u32;
@@ -227,8 +230,7 @@ fn fixed_point_core_loss_follows_steinmetz() {
     });
     for (period, on) in [(640u32, 133u32), (1_280, 266), (3_200, 660), (6_400, 1_330)] {
         let clock = TimerClock::new(CLOCK).unwrap();
-        let mut est = CurrentEstimator::new(&lossless(47e-6), &clock, 40.0).unwrap();
-        est.set_voltages(24.0, 24.0 * on as f32 / period as f32);
+        let mut est = at_voltages(47e-6, &clock, 24.0, 24.0 * on as f32 / period as f32);
         est.restart_at(Instant(0));
         est.shift(Amps::from_num(3));
         run_cycles(&mut est, 0, on, period, 10);
@@ -340,9 +342,9 @@ mod never_panics {
             events in prop::collection::vec((any::<u32>(), 0u8..4, any::<u16>()), 1..200),
         ) {
             let clock = TimerClock::new(CLOCK).unwrap();
-            let mut est = CurrentEstimator::new(&lossless(47e-6), &clock, 40.0).unwrap();
-            est.set_voltages(vin, vout);
-            est.follow_output(&ripplectl::AdcChannel::new(12, 3.3, 0.32, 0.0).unwrap());
+            let mut est = at_voltages(47e-6, &clock, vin, vout);
+            let adc = ripplectl::AdcChannel::new(12, 3.3, 0.32, 0.0).unwrap();
+            est.follow_output(&adc, SlopeScale::of(&lossless(47e-6), &clock));
             for (t, kind, code) in events {
                 let now = Instant(t);
                 match kind {

@@ -4,7 +4,7 @@ mod common;
 
 use common::cases;
 use proptest::prelude::*;
-use ripplectl::estimate::{Amps, CurrentEstimator, InductorModel};
+use ripplectl::estimate::{Amps, CurrentEstimator, InductorModel, SlopeScale};
 use ripplectl::law::{Hysteretic, HystereticConfig, Regulate};
 use ripplectl::supervisor::{FaultKind, Limits, ProtectionConfig, State, Supervisor};
 use ripplectl::{AdcChannel, FrequencyGuard, Gate, Instant, Law, TimerClock, Window, WindowConfig};
@@ -27,9 +27,11 @@ fn stack() -> Stack {
     let clock = TimerClock::new(64_000_000).unwrap();
     let law = Hysteretic::new(&HystereticConfig { setpoint_v: 5.0, band_v: 0.04 }, &vout).unwrap();
     let guard = FrequencyGuard::new(law, Window::new(&WindowConfig::demo(), &clock).unwrap());
-    let mut est = CurrentEstimator::new(&InductorModel::demo(), &clock, 40.0).unwrap();
-    est.follow_output(&vout);
-    est.follow_input(&vin);
+    let model = InductorModel::demo();
+    let mut est = CurrentEstimator::new(&model, &clock, 40.0).unwrap();
+    let scale = SlopeScale::of(&model, &clock);
+    est.follow_output(&vout, scale);
+    est.follow_input(&vin, scale);
     let limits = Limits::new(&protection(), &vout, &vin, &clock, 1984).unwrap();
     Supervisor::new(guard, est, limits)
 }

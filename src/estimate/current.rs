@@ -273,8 +273,6 @@ impl Phases {
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct CurrentEstimator {
     clock_hz: u32,
-    // Timer tick over the inductance, s/H (configuration only).
-    inv_l_tick: f64,
     // Resistive drops' slopes per ampere of mean current, I8F24 A/tick per
     // A, times 2¹⁶ (so `amps bits · k >> 32` is the slope's bits), held
     // within `i32` (a drop of R·tick/L below 2⁻⁹ per ampere).
@@ -305,6 +303,25 @@ pub struct CurrentEstimator {
     current: i32,
     cycle: CycleCurrents,
     totals: WindowTotals,
+}
+
+/// The timer tick over the inductance, s/H: what turns a voltage into the
+/// estimator's slope. Configuration only (floating point, `const fn`): the
+/// estimator does not keep it, so it costs no RAM on the target; hand it to
+/// [`CurrentEstimator::follow_output`], [`CurrentEstimator::follow_input`]
+/// and [`CurrentEstimator::set_voltages`], made from the model and clock
+/// the estimator was built with.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SlopeScale {
+    inv_l_tick: f64,
+}
+
+impl SlopeScale {
+    /// For `model` on `clock` (a model [`CurrentEstimator::new`] accepted:
+    /// a positive inductance).
+    pub const fn of(model: &InductorModel, clock: &TimerClock) -> Self {
+        Self { inv_l_tick: clock.tick_s() / model.l_h as f64 }
+    }
 }
 
 /// A channel's code as a slope share: `(code × term) >> shift` in `I8F24`
@@ -371,13 +388,12 @@ impl CurrentEstimator {
     ) -> Result<Self, ConfigError> {
         attempt!(model.check());
         let vin_max = attempt!(positive("vin_full_scale_v", vin_max_v as f64));
-        let inv_l_tick = clock.tick_s() / model.l_h as f64;
+        let inv_l_tick = SlopeScale::of(model, clock).inv_l_tick;
         // No slope can exceed the full input plus the freewheel drop.
         let cap = slope_bits((vin_max + model.diode_vf_v as f64) * inv_l_tick, i32::MAX);
         let cap = if cap < 1 { 1 } else { cap };
         Ok(Self {
             clock_hz: clock.hz(),
-            inv_l_tick,
             drop_on_per_amp: to_fixed_i32(model.on_resistance() as f64 * inv_l_tick, 40),
             drop_off_per_amp: to_fixed_i32(model.off_resistance() as f64 * inv_l_tick, 40),
             // |slope| ≤ 2·cap (see `on_base`), so slope × ticks fits.
@@ -434,13 +450,13 @@ impl CurrentEstimator {
             CycleCurrents { valley: Amps::from_bits(self.current), ..CycleCurrents::default() };
     }
 
-    /// The input and output voltages the slopes use, volts (configuration
-    /// and host tests: floating point; the slow path uses
-    /// [`set_voltage_codes`](Self::set_voltage_codes)).
-    pub fn set_voltages(&mut self, vin_v: f32, vout_v: f32) {
+    /// The input and output voltages the slopes use, volts, through the
+    /// estimator's `scale` (configuration and host tests: floating point;
+    /// the slow path uses [`set_voltage_codes`](Self::set_voltage_codes)).
+    pub fn set_voltages(&mut self, scale: SlopeScale, vin_v: f32, vout_v: f32) {
         let cap = self.slope_cap;
-        self.vin_term = slope_bits(f64::from(vin_v) * self.inv_l_tick, cap);
-        self.vout_term = slope_bits(f64::from(vout_v) * self.inv_l_tick, cap);
+        self.vin_term = slope_bits(f64::from(vin_v) * scale.inv_l_tick, cap);
+        self.vout_term = slope_bits(f64::from(vout_v) * scale.inv_l_tick, cap);
         self.refresh_bases();
         self.refresh_reciprocal();
     }
@@ -462,16 +478,16 @@ impl CurrentEstimator {
     /// Configuration, once: let [`on_output_code`](Self::on_output_code)
     /// and [`set_voltage_codes`](Self::set_voltage_codes) follow the output
     /// through `adc`'s codes (offset ignored: its share is below one code's
-    /// worth of slope).
-    pub const fn follow_output(&mut self, adc: &AdcChannel) {
-        self.out_code = CodeScale::new(adc, self.inv_l_tick);
+    /// worth of slope); `scale` the estimator's.
+    pub const fn follow_output(&mut self, adc: &AdcChannel, scale: SlopeScale) {
+        self.out_code = CodeScale::new(adc, scale.inv_l_tick);
     }
 
     /// Configuration, once: let [`on_input_code`](Self::on_input_code) and
     /// [`set_voltage_codes`](Self::set_voltage_codes) follow the input
-    /// through `adc`'s codes.
-    pub const fn follow_input(&mut self, adc: &AdcChannel) {
-        self.in_code = CodeScale::new(adc, self.inv_l_tick);
+    /// through `adc`'s codes; `scale` the estimator's.
+    pub const fn follow_input(&mut self, adc: &AdcChannel, scale: SlopeScale) {
+        self.in_code = CodeScale::new(adc, scale.inv_l_tick);
     }
 
     /// Fast path: a fresh output reading taken at `now`; the slopes follow

@@ -10,7 +10,9 @@ pub mod current;
 pub mod efficiency;
 pub mod observer;
 
-pub use current::{Amps, CurrentEstimator, CycleCurrents, InductorModel, Phases, WindowTotals};
+pub use current::{
+    Amps, CurrentEstimator, CycleCurrents, InductorModel, Phases, SlopeScale, WindowTotals,
+};
 pub use efficiency::{LossBreakdown, LossConfig, LossModel, MeasuredEfficiency, Steinmetz};
 pub use observer::{Observer, ObserverConfig};
 

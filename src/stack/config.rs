@@ -22,7 +22,7 @@
 
 use super::slow::{LightLoadSettings, SlowPath, SlowPathConfig};
 use crate::error::{attempt, ConfigError};
-use crate::estimate::{CurrentEstimator, InductorModel, LossConfig, Steinmetz};
+use crate::estimate::{CurrentEstimator, InductorModel, LossConfig, SlopeScale, Steinmetz};
 use crate::guard::{Window, WindowConfig};
 use crate::scale::{AdcChannel, TimerClock};
 use crate::supervisor::{Limits, ProtectionConfig};
@@ -148,8 +148,9 @@ impl StackParts {
         let window = attempt!(Window::new(&cfg.window, clock));
         let vin_full = vin.to_volts(vin.full_scale_code());
         let mut estimator = attempt!(CurrentEstimator::new(&cfg.model, clock, vin_full));
-        estimator.follow_output(vout);
-        estimator.follow_input(vin);
+        let scale = SlopeScale::of(&cfg.model, clock);
+        estimator.follow_output(vout, scale);
+        estimator.follow_input(vin, scale);
         let limits = attempt!(Limits::new(&cfg.protection, vout, vin, clock, setpoint));
         let light = LightLoadSettings {
             policy: cfg.window.light_load,

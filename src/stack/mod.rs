@@ -210,7 +210,7 @@ impl<L: Law + Regulate, const LOG: usize> Stack<L, LOG> {
             state: self.supervisor.state(),
             faults: self.supervisor.fault_log().len(),
             current: self.supervisor.estimator().current(),
-            observer_current: r.observer_current,
+            observer_current: self.slow.observer_current(),
             vin: r.vin,
             vout: r.vout,
             f_sw_hz: r.phases.f_sw_hz,

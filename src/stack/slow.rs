@@ -91,6 +91,9 @@ struct Averaged {
     input_steady: u32,
     last_vin: u32,
     hold: u8,
+    // The observer's inductor current at the last window (`None` while it
+    // is reset: not regulating, no cycles).
+    current: Option<Amps>,
 }
 
 /// The slow path's latest figures.
@@ -107,9 +110,6 @@ pub struct SlowReport {
     /// `loss-model`).
     #[cfg(feature = "loss-model")]
     pub losses: crate::estimate::LossBreakdown,
-    /// The observer's inductor current (`None` without an observer, or
-    /// while it is reset: not regulating, no cycles).
-    pub observer_current: Option<Amps>,
 }
 
 /// The slow path's state.
@@ -200,7 +200,6 @@ impl SlowPath {
                     gate: Volts::ZERO,
                     core: Volts::ZERO,
                 },
-                observer_current: None,
             },
         })
     }
@@ -208,6 +207,16 @@ impl SlowPath {
     /// The latest figures.
     pub const fn report(&self) -> &SlowReport {
         &self.report
+    }
+
+    /// The observer's inductor current at the last window (`None` without
+    /// an observer, or while it is reset: not regulating, no cycles). Held
+    /// with the observer, so a build without one spends no RAM on it.
+    pub const fn observer_current(&self) -> Option<Amps> {
+        match self.averaged.get() {
+            Some(a) => a.current,
+            None => None,
+        }
     }
 
     /// The output channel's code-to-volts scale.
@@ -291,8 +300,8 @@ impl SlowPath {
         vout: Volts,
         regulating: bool,
     ) {
-        self.report.observer_current = None;
         let Some(a) = self.averaged.get_mut() else { return };
+        a.current = None;
         a.note_input(vin_q16);
         let average = phases.average();
         if phases.cycles == 0 || !regulating {
@@ -300,7 +309,7 @@ impl SlowPath {
             return;
         }
         let i_obs = a.step(phases, vin, vout);
-        self.report.observer_current = Some(i_obs);
+        a.current = Some(i_obs);
         // CCM only: DCM anchors the estimate at zero every cycle.
         if phases.dcm_cycles == 0 && a.hold == 0 {
             let gap = i_obs.saturating_sub(average);
@@ -372,5 +381,6 @@ const fn averaged(
         input_steady: steady,
         last_vin: 0,
         hold: OBSERVER_HOLD,
+        current: None,
     })
 }
