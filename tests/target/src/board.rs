@@ -1,32 +1,51 @@
 //! Stand-ins for a board's peripherals, shared by the target binaries: the
-//! gate pin and the one-shot compare are words in RAM, inputs are volatile
-//! reads of words in RAM. Volatile accesses keep the compiler from folding
-//! any input into a constant or dropping any output, so an image links
-//! exactly what its calls can reach.
+//! gate pin and the one-shot compare are words of memory, inputs are
+//! volatile reads of words of memory. Volatile accesses keep the compiler
+//! from folding any input into a constant or dropping any output, so an
+//! image links exactly what its calls can reach.
+//!
+//! The words sit at fixed addresses in a block (`PERIPH`, 64 bytes) that
+//! `build.rs` keeps out of the linker's RAM region, as a real part's
+//! peripheral registers lie outside its RAM: an image's RAM figure is then
+//! the firmware's own state alone. The emulated machines clear the block at
+//! reset.
 
-use core::ptr::{addr_of, addr_of_mut, read_volatile, write_volatile};
+use core::ptr::{read_volatile, write_volatile};
 use embedded_hal::digital::{ErrorType, OutputPin};
 use ripplectl::drive::{GateDriver, OneShot, Polarity, PulseEnd};
 use ripplectl::Instant;
 
-static mut INPUT: [u32; 4] = [0; 4];
-static mut OUTPUT: u32 = 0;
-static mut PIN: u32 = 0;
-static mut COMPARE: u32 = 0;
-static mut COMPARE_MODE: u32 = 0;
-static mut COUNTER: u32 = 0;
+/// The block's first address (the start of the emulated machine's RAM,
+/// see `build.rs`).
+#[cfg(target_arch = "riscv32")]
+const BASE: usize = 0x8040_0000;
+#[cfg(not(target_arch = "riscv32"))]
+const BASE: usize = 0x2000_0000;
+
+/// The stand-in register at word `k` of the block.
+const fn reg(k: usize) -> *mut u32 {
+    (BASE + 4 * k) as *mut u32
+}
+
+/// Four input words.
+const INPUT: *mut u32 = reg(0);
+const OUTPUT: *mut u32 = reg(4);
+const PIN: *mut u32 = reg(5);
+const COMPARE: *mut u32 = reg(6);
+const COMPARE_MODE: *mut u32 = reg(7);
+const COUNTER: *mut u32 = reg(8);
 
 /// Input word `k` (of 4), read as a peripheral register would be.
 pub fn input(k: usize) -> u32 {
-    // SAFETY: in bounds (`k & 3`); single-threaded; volatile keeps the
+    // SAFETY: in the reserved block (`k & 3`); single-threaded; volatile keeps the
     // compiler from assuming the value.
-    unsafe { read_volatile(addr_of!(INPUT).cast::<u32>().add(k & 3)) }
+    unsafe { read_volatile(INPUT.add(k & 3)) }
 }
 
 /// A result, stored where the compiler cannot drop it.
 pub fn output(x: u32) {
-    // SAFETY: single-threaded.
-    unsafe { write_volatile(addr_of_mut!(OUTPUT), x) }
+    // SAFETY: a word of the reserved block; single-threaded.
+    unsafe { write_volatile(OUTPUT, x) }
 }
 
 /// The gate pin: its level is a word in RAM.
@@ -39,13 +58,13 @@ impl ErrorType for Pin {
 
 impl OutputPin for Pin {
     fn set_low(&mut self) -> Result<(), Self::Error> {
-        // SAFETY: single-threaded.
-        unsafe { write_volatile(addr_of_mut!(PIN), 0) };
+        // SAFETY: a word of the reserved block; single-threaded.
+        unsafe { write_volatile(PIN, 0) };
         Ok(())
     }
     fn set_high(&mut self) -> Result<(), Self::Error> {
-        // SAFETY: single-threaded.
-        unsafe { write_volatile(addr_of_mut!(PIN), 1) };
+        // SAFETY: a word of the reserved block; single-threaded.
+        unsafe { write_volatile(PIN, 1) };
         Ok(())
     }
 }
@@ -62,37 +81,37 @@ pub struct Compare;
 
 impl OneShot for Compare {
     fn arm(&mut self, at: Instant, ends_pulse: bool) {
-        // SAFETY: single-threaded.
+        // SAFETY: a word of the reserved block; single-threaded.
         unsafe {
-            write_volatile(addr_of_mut!(COMPARE), at.0);
+            write_volatile(COMPARE, at.0);
             write_volatile(
-                addr_of_mut!(COMPARE_MODE),
+                COMPARE_MODE,
                 ARMED | (ENDS_PULSE * u32::from(ends_pulse)),
             );
         }
     }
     fn disarm(&mut self) {
-        // SAFETY: single-threaded.
-        unsafe { write_volatile(addr_of_mut!(COMPARE_MODE), 0) };
+        // SAFETY: a word of the reserved block; single-threaded.
+        unsafe { write_volatile(COMPARE_MODE, 0) };
     }
     fn now(&self) -> Instant {
-        // SAFETY: single-threaded.
-        Instant(unsafe { read_volatile(addr_of!(COUNTER)) })
+        // SAFETY: a word of the reserved block; single-threaded.
+        Instant(unsafe { read_volatile(COUNTER) })
     }
 }
 
 /// Set what the timer's counter reads (the instant a handler's pin write
 /// sees).
 pub fn set_counter(at: Instant) {
-    // SAFETY: single-threaded.
-    unsafe { write_volatile(addr_of_mut!(COUNTER), at.0) }
+    // SAFETY: a word of the reserved block; single-threaded.
+    unsafe { write_volatile(COUNTER, at.0) }
 }
 
 /// The deadline armed on the compare, if any.
 pub fn armed_compare() -> Option<Instant> {
-    // SAFETY: single-threaded.
+    // SAFETY: a word of the reserved block; single-threaded.
     let (at, mode) =
-        unsafe { (read_volatile(addr_of!(COMPARE)), read_volatile(addr_of!(COMPARE_MODE))) };
+        unsafe { (read_volatile(COMPARE), read_volatile(COMPARE_MODE)) };
     (mode & ARMED != 0).then_some(Instant(at))
 }
 
@@ -139,12 +158,12 @@ pub struct Registers([u32; 3]);
 impl Registers {
     /// Their present values.
     pub fn save() -> Self {
-        // SAFETY: single-threaded.
+        // SAFETY: a word of the reserved block; single-threaded.
         unsafe {
             Self([
-                read_volatile(addr_of!(PIN)),
-                read_volatile(addr_of!(COMPARE)),
-                read_volatile(addr_of!(COMPARE_MODE)),
+                read_volatile(PIN),
+                read_volatile(COMPARE),
+                read_volatile(COMPARE_MODE),
             ])
         }
     }
@@ -152,11 +171,11 @@ impl Registers {
     /// Put them back.
     pub fn restore(self) {
         let [pin, compare, mode] = self.0;
-        // SAFETY: single-threaded.
+        // SAFETY: a word of the reserved block; single-threaded.
         unsafe {
-            write_volatile(addr_of_mut!(PIN), pin);
-            write_volatile(addr_of_mut!(COMPARE), compare);
-            write_volatile(addr_of_mut!(COMPARE_MODE), mode);
+            write_volatile(PIN, pin);
+            write_volatile(COMPARE, compare);
+            write_volatile(COMPARE_MODE, mode);
         }
     }
 }
