@@ -203,23 +203,60 @@ fn light_load_stays_above_the_window_floor() {
     }
 }
 
-/// Dithering the locked band spreads the switching harmonics: on the
-/// steady full-load run, the average detector's worst margin against
-/// CISPR 32 class B improves, and every period stays in the window.
+/// Dithering the locked band spreads the switching frequency: at 24 V and
+/// full and half load, with a ±40 % dither the 10th to 90th percentiles of
+/// the settled cycles' frequencies (the last 10 ms) span at least 20 % of
+/// the lock target and at least 4 % of it more than the locked loop's own
+/// span without it, and every period stays in the window. The spread is
+/// far narrower than the band's ±40 %: on comparator edges the handler's
+/// delay, not the band, sets most of the ripple. Its effect on the
+/// conducted-emission estimate's worst margin is printed, not asserted: it
+/// moved by −1.1 to +4.8 dB over 18–32 V at 2.5 and 5 Ω when last
+/// measured (README).
 #[test]
-fn dithering_lowers_the_average_emission() {
-    let plain = steady(24.0, 2.5, |_| {});
-    let dithered = steady(24.0, 2.5, |s| {
-        if let LawParams::Hysteretic { dither_depth, .. } = &mut s.control.law {
-            *dither_depth = Some(0.4);
-        }
-    });
-    let (a, b) = (margin(&plain), margin(&dithered));
-    eprintln!("margin without dither {a:.2} dB, with ±40 % {b:.2} dB");
-    assert!(b > a + 1.0, "margin {a} dB plain, {b} dB dithered");
+fn dithering_spreads_the_frequency_within_the_window() {
+    let target = lock_hz(&locked());
     let w = locked().control.window;
-    assert!(dithered.fsw_max_hz <= f64::from(w.f_max_hz) * 1.001);
-    assert!(dithered.fsw_min_hz >= f64::from(w.f_min_hz) * 0.999);
+    for ohms in [2.5, 5.0] {
+        let (plain, plain_span) = steady_spread(24.0, ohms, None);
+        let (dithered, dithered_span) = steady_spread(24.0, ohms, Some(0.4));
+        eprintln!(
+            "24 V, {ohms} Ω: 10-90 % span {:.1} % of the target plain, {:.1} % dithered; \
+             margin {:.2} dB plain, {:.2} dB dithered",
+            100.0 * plain_span / target,
+            100.0 * dithered_span / target,
+            margin(&plain),
+            margin(&dithered)
+        );
+        assert!(dithered_span >= 0.2 * target, "{ohms} Ω: dithered span {dithered_span} Hz");
+        assert!(
+            dithered_span >= plain_span + 0.04 * target,
+            "{ohms} Ω: {plain_span} vs {dithered_span} Hz"
+        );
+        assert!(dithered.fsw_max_hz <= f64::from(w.f_max_hz) * 1.001);
+        assert!(dithered.fsw_min_hz >= f64::from(w.f_min_hz) * 0.999);
+    }
+}
+
+/// A steady run (as [`steady`]) with the dither at `depth`, and the span
+/// between the 10th and 90th percentiles of its last 10 ms of cycles'
+/// frequencies, Hz.
+fn steady_spread(vin: f64, ohms: f64, depth: Option<f32>) -> (Summary, f64) {
+    let mut s = locked();
+    s.input = InputProfile { points: vec![[0.0, vin]] };
+    s.load = vec![LoadChange { at_s: 0.0, load: Load::Resistive { ohms } }];
+    s.duration_s = 20e-3;
+    if let LawParams::Hysteretic { dither_depth, .. } = &mut s.control.law {
+        *dither_depth = depth;
+    }
+    let out = sim::run(&s).unwrap();
+    let mut f: Vec<f64> =
+        out.recorder.cycles.iter().filter(|c| c.t_s >= 10e-3).map(|c| 1.0 / c.period_s).collect();
+    f.sort_by(f64::total_cmp);
+    let span = f[f.len() * 9 / 10] - f[f.len() / 10];
+    let summary =
+        Summary::of(&out, &s.name, 0.0).with_emission(&emission::estimate(&s, &out.recorder));
+    (summary, span)
 }
 
 fn margin(s: &Summary) -> f64 {
