@@ -1,4 +1,4 @@
-// Written by `ripplectl design`: 18-32 V to 5 V / 2 A, on-time on ADC samples.
+// Written by `ripplectl design`: 18-32 V to 5 V / 2 A, on-time on comparator edges.
 //
 // The firmware's configuration as `const` items: the compiler converts
 // volts and seconds into codes, ticks and fixed-point coefficients, and a
@@ -14,7 +14,7 @@ pub const CONFIG: ripplectl::stack::StackConfig = ripplectl::stack::StackConfig 
     output_adc: ripplectl::unwrap_config(ripplectl::AdcChannel::new(12, 3.3, 0.319728, 0.0)),
     input_adc: ripplectl::unwrap_config(ripplectl::AdcChannel::new(12, 3.3, 0.075786, 0.0)),
     setpoint_v: 5.0,
-    sensing: ripplectl::stack::Sensing::Sampled,
+    sensing: ripplectl::stack::Sensing::Edge,
     window: ripplectl::WindowConfig {
         f_min_hz: 20000.0,
         f_max_hz: 140000.0,
@@ -37,10 +37,10 @@ pub const CONFIG: ripplectl::stack::StackConfig = ripplectl::stack::StackConfig 
         vin_max_v: 35.5,
         vin_max_hysteresis_v: 1.1,
         ovp_v: 5.5,
-        current_limit_a: 4.4,
+        current_limit_a: 3.7,
         short_cycles: 8,
         hiccup_s: 0.002,
-        soft_start_s: 0.0022,
+        soft_start_s: 0.0024,
         stuck_low_v: 0.3,
         stuck_implied_v: 2.0,
         stuck_cycles: 3,
@@ -73,7 +73,7 @@ pub const PARTS: ripplectl::stack::StackParts =
 
 /// The on-time law before what is added to it.
 const BASE: ripplectl::law::OnTime = ripplectl::unwrap_config(ripplectl::law::OnTime::new(
-    &ripplectl::law::OnTimeConfig { setpoint_v: CONFIG.setpoint_v, on_time_s: 6.67e-6 },
+    &ripplectl::law::OnTimeConfig { setpoint_v: CONFIG.setpoint_v, on_time_s: 4e-6 },
     &CONFIG.output_adc,
     &CONFIG.clock,
 ));
@@ -82,11 +82,11 @@ const BASE: ripplectl::law::OnTime = ripplectl::unwrap_config(ripplectl::law::On
 pub const LAW: ripplectl::law::OnTime = BASE
     .with_feed_forward(ripplectl::unwrap_config(ripplectl::law::OnTimeFeedForward::new(
         CONFIG.setpoint_v,
-        30000.0,
+        50000.0,
         &CONFIG.clock,
     )))
     .with_trim(ripplectl::unwrap_config(ripplectl::law::FrequencyTrim::new(
-        30000.0,
+        50000.0,
         0.05,
         0.5,
         1.5,
