@@ -211,7 +211,7 @@ fn light_load_stays_above_the_window_floor() {
 /// far narrower than the band's ±40 %: on comparator edges the handler's
 /// delay, not the band, sets most of the ripple. Its effect on the
 /// conducted-emission estimate's worst margin is printed, not asserted: it
-/// moved by −1.1 to +4.8 dB over 18–32 V at 2.5 and 5 Ω when last
+/// moved by −1.4 to +3.3 dB over 18–32 V at 2.5 and 5 Ω when last
 /// measured (README).
 #[test]
 fn dithering_spreads_the_frequency_within_the_window() {
