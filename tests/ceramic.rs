@@ -66,8 +66,8 @@ fn plain_loop_doubles_its_period_and_emulated_ripple_steadies_it() {
             j_stable, j_plain
         );
         assert!(j_plain > 0.20, "{vin} V {load} A: the plain loop should be unstable ({j_plain})");
-        // Stable: cycle-to-cycle period jitter at most 5 % (the target of
-        // issue 4; measured 0.5-1.1 % with the on-time ended by the timer's
+        // Stable: cycle-to-cycle period jitter at most 5 % (the project's
+        // acceptance bound; measured 0.5-1.1 % with the on-time ended by the timer's
         // compare at its tick).
         assert!(j_stable <= 0.05, "{vin} V {load} A: jitter {j_stable}");
         assert!(j_plain > 8.0 * j_stable, "{vin} V {load} A: {j_plain} vs {j_stable}");

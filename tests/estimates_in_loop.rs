@@ -2,7 +2,7 @@
 //! range 18–32 V and loads 10–100 % of the rated 2 A, with the firmware's
 //! inductance off by ±10 %.
 //!
-//! Bounds (the targets, read as fractions of full load for both
+//! Bounds (the project's acceptance targets, read as fractions of full load for both
 //! current figures): average inductor current within 5 % of full load
 //! (0.1 A), cycle peak within 10 % of full load (0.2 A); model-based
 //! efficiency within 2 percentage points of the energy-accounted one.

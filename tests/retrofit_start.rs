@@ -3,7 +3,7 @@
 //! soft-start of its own) started from 0 V with the over-voltage threshold
 //! at 125 % of the setpoint.
 //!
-//! Bounds: the (no over-voltage trip, true inductor peak ≤ 1.5 × the
+//! Bounds: the project's acceptance (no over-voltage trip, true inductor peak ≤ 1.5 × the
 //! current limit, output within 1 % of the setpoint); the pulses' peak
 //! against the buck's on-state relation `ΔI = (V_in − V_out) · t_on / L`
 //! (Erickson & Maksimović, Fundamentals of Power Electronics, 3rd ed.,
@@ -51,7 +51,7 @@ fn run(sc: &Scenario, bound: bool) -> RunOutput {
     .unwrap()
 }
 
-/// The three conditions; `Err` says which failed.
+/// The acceptance's three conditions; `Err` says which failed.
 fn started_well(sc: &Scenario, out: &RunOutput) -> Result<(), String> {
     let limit = f64::from(sc.firmware.protection.current_limit_a);
     let s = Summary::without_audible(out, &sc.name, 0.0);

@@ -14,8 +14,8 @@
 //! input shares follow every reading ([`CurrentEstimator::on_output_code`],
 //! [`CurrentEstimator::on_input_code`], one multiply each); the resistive drop
 //! `i·R` (taken at the window's mean current, so neither phase is biased by
-//! its starting current) comes from the slow path ([`CurrentEstimator::set_voltages`],
-//! [`CurrentEstimator::take_window`]). Charge and RMS sums per phase are
+//! its starting current) comes from the slow path
+//! ([`CurrentEstimator::set_voltage_codes`], [`CurrentEstimator::take_window`]). Charge and RMS sums per phase are
 //! formed on the slow path from the cycles' peak, valley and tick sums:
 //! trapezoids in CCM, triangles in DCM.
 //!

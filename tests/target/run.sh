@@ -14,7 +14,8 @@
 #   float_symbols core=<m0|m4|rv32> part=<name> features=<all-parts|none> n=<count>
 #   stack core=m4-c op=<init|calls> bytes=<n>
 # Writes counts.csv (every insns line of every core). Exits non-zero on a
-# mismatch, a budget overrun or a reachable panic; the README's tables go to
+# mismatch, a budget overrun, a reachable panic, a footprint over its
+# ceiling or the Cortex-M0 stack's targets, or a float routine linked; the README's tables go to
 # stderr either way. `features=` says which of the crate's optional parts
 # the image was built with: `all-parts` (every one: the vectors, counts and
 # every probe but one), or `none` (the `stack` probe of a hysteretic
@@ -207,7 +208,7 @@ done < <(grep -E '^(flash|ram|float_symbols) ' "$out")
 
 # The footprint targets of the whole stack on the Cortex-M0, for a
 # hysteretic firmware built without optional parts: 8 KiB of flash, 512 B
-# of RAM (issue 13). Enforced: a build over either fails.
+# of RAM. Enforced: a build over either fails.
 for kind in flash ram; do
     target=8192; [ "$kind" = ram ] && target=512
     n=$(sed -n "s/^$kind core=m0 part=stack features=none bytes=\([0-9]*\)$/\1/p" "$out")

@@ -7,8 +7,8 @@
 //! The words sit at fixed addresses in a block (`PERIPH`, 64 bytes) that
 //! `build.rs` keeps out of the linker's RAM region, as a real part's
 //! peripheral registers lie outside its RAM: an image's RAM figure is then
-//! the firmware's own state alone. The emulated machines clear the block at
-//! reset.
+//! the firmware's own state alone. The emulated machines' memory is zero
+//! when QEMU starts, so every register reads 0 until written.
 
 use core::ptr::{read_volatile, write_volatile};
 use embedded_hal::digital::{ErrorType, OutputPin};
@@ -22,8 +22,12 @@ const BASE: usize = 0x8040_0000;
 #[cfg(not(target_arch = "riscv32"))]
 const BASE: usize = 0x2000_0000;
 
+/// The block's size, bytes (`PERIPH`'s length in `build.rs`).
+const BLOCK_BYTES: usize = 64;
+
 /// The stand-in register at word `k` of the block.
 const fn reg(k: usize) -> *mut u32 {
+    assert!(4 * (k + 1) <= BLOCK_BYTES, "a stand-in register outside the reserved block");
     (BASE + 4 * k) as *mut u32
 }
 
@@ -37,8 +41,8 @@ const COUNTER: *mut u32 = reg(8);
 
 /// Input word `k` (of 4), read as a peripheral register would be.
 pub fn input(k: usize) -> u32 {
-    // SAFETY: in the reserved block (`k & 3`); single-threaded; volatile keeps the
-    // compiler from assuming the value.
+    // SAFETY: in the reserved block (`k & 3`); single-threaded; volatile
+    // keeps the compiler from assuming the value.
     unsafe { read_volatile(INPUT.add(k & 3)) }
 }
 
@@ -48,7 +52,7 @@ pub fn output(x: u32) {
     unsafe { write_volatile(OUTPUT, x) }
 }
 
-/// The gate pin: its level is a word in RAM.
+/// The gate pin: its level is a word of the reserved block.
 #[derive(Clone, Debug)]
 pub struct Pin;
 
@@ -75,7 +79,7 @@ const ARMED: u32 = 1;
 const ENDS_PULSE: u32 = 2;
 
 /// The one-shot compare: its compare register and its mode register
-/// (armed, clear the output on match) are words in RAM.
+/// (armed, clear the output on match) are words of the reserved block.
 #[derive(Clone, Debug)]
 pub struct Compare;
 
@@ -84,10 +88,7 @@ impl OneShot for Compare {
         // SAFETY: a word of the reserved block; single-threaded.
         unsafe {
             write_volatile(COMPARE, at.0);
-            write_volatile(
-                COMPARE_MODE,
-                ARMED | (ENDS_PULSE * u32::from(ends_pulse)),
-            );
+            write_volatile(COMPARE_MODE, ARMED | (ENDS_PULSE * u32::from(ends_pulse)));
         }
     }
     fn disarm(&mut self) {
@@ -110,8 +111,7 @@ pub fn set_counter(at: Instant) {
 /// The deadline armed on the compare, if any.
 pub fn armed_compare() -> Option<Instant> {
     // SAFETY: a word of the reserved block; single-threaded.
-    let (at, mode) =
-        unsafe { (read_volatile(COMPARE), read_volatile(COMPARE_MODE)) };
+    let (at, mode) = unsafe { (read_volatile(COMPARE), read_volatile(COMPARE_MODE)) };
     (mode & ARMED != 0).then_some(Instant(at))
 }
 
@@ -159,13 +159,7 @@ impl Registers {
     /// Their present values.
     pub fn save() -> Self {
         // SAFETY: a word of the reserved block; single-threaded.
-        unsafe {
-            Self([
-                read_volatile(PIN),
-                read_volatile(COMPARE),
-                read_volatile(COMPARE_MODE),
-            ])
-        }
+        unsafe { Self([read_volatile(PIN), read_volatile(COMPARE), read_volatile(COMPARE_MODE)]) }
     }
 
     /// Put them back.
