@@ -23,7 +23,7 @@
 //! the core loss's non-integer exponents through fixed-point `log₂` and
 //! `2^x` ([`crate::math::log2`]).
 
-use super::current::Phases;
+use super::phases::Phases;
 use crate::error::{attempt, non_negative, positive, ConfigError};
 use crate::math::config::log2;
 use crate::math::log2::{exp2_q32, log2_q16};

@@ -2,19 +2,23 @@
 //!
 //! | module | what |
 //! |---|---|
-//! | [`current`] | piecewise-linear inductor current from the switching edges (fast path), phase sums (slow path) |
+//! | [`model`] | what the estimator assumes about the power stage (configuration) |
+//! | [`current`] | piecewise-linear inductor current from the switching edges (fast path) |
+//! | [`phases`] | a cycle's currents, a window's sums and phases (slow path) |
 //! | [`observer`] | averaged-model Luenberger observer that holds the current's DC level (slow path) |
 //! | [`efficiency`] | efficiency: measured, or from a loss model of the current estimate (slow path) |
 
 pub mod current;
 pub mod efficiency;
+pub mod model;
 pub mod observer;
+pub mod phases;
 
-pub use current::{
-    Amps, CurrentEstimator, CycleCurrents, InductorModel, Phases, SlopeScale, WindowTotals,
-};
+pub use current::{Amps, CurrentEstimator, SlopeScale};
 pub use efficiency::{LossBreakdown, LossConfig, LossModel, MeasuredEfficiency, Steinmetz};
+pub use model::InductorModel;
 pub use observer::{Observer, ObserverConfig};
+pub use phases::{CycleCurrents, Phases, WindowTotals};
 
 /// Amperes as [`Amps`], saturating at the range's edges; NaN gives zero
 /// (never panics, unlike the `fixed` crate's own saturating conversion).

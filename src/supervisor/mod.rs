@@ -45,7 +45,7 @@ pub use config::{Limits, ProtectionConfig};
 pub use fault::{FaultKind, FaultLog, FaultRecord, FAULT_LOG_LEN};
 pub use sequence::State;
 
-use crate::estimate::current::{Amps, CurrentEstimator, CycleCurrents};
+use crate::estimate::{Amps, CurrentEstimator, CycleCurrents};
 use crate::law::{Command, Event, Gate, Law, Regulate};
 use crate::tick::{earliest, Instant};
 use crate::units::ARMV6M;
