@@ -106,11 +106,13 @@ pub const CONFIG: StackConfig = StackConfig { sensing: Sensing::Sampled, ..Stack
 pub const PARTS: StackParts = unwrap_config(StackParts::new(&CONFIG));
 
 #[cfg(feature = "parts")]
-/// The on-time stack's parts: the demo with DC correction.
-pub const COT_PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
-    slow: SlowPathConfig { dc_correction: true, ..CONFIG.slow },
-    ..CONFIG
-}));
+/// The on-time stack's configuration: the demo with DC correction.
+const COT_CONFIG: StackConfig =
+    StackConfig { slow: SlowPathConfig { dc_correction: true, ..CONFIG.slow }, ..CONFIG };
+
+#[cfg(feature = "parts")]
+/// The on-time stack's parts.
+pub const COT_PARTS: StackParts = unwrap_config(StackParts::new(&COT_CONFIG));
 
 #[cfg(feature = "parts")]
 /// The demo stack's parts with an edge-driven law (an analog comparator
@@ -122,11 +124,8 @@ pub const EDGE_PARTS: StackParts =
 /// The on-time stack's parts with the law on comparator edges (the
 /// comparator armed at the reference; the ADC's readings serve the
 /// protections).
-pub const COT_EDGE_PARTS: StackParts = unwrap_config(StackParts::new(&StackConfig {
-    sensing: Sensing::Edge,
-    slow: SlowPathConfig { dc_correction: true, ..CONFIG.slow },
-    ..CONFIG
-}));
+pub const COT_EDGE_PARTS: StackParts =
+    unwrap_config(StackParts::new(&StackConfig { sensing: Sensing::Edge, ..COT_CONFIG }));
 
 /// The demo's hysteretic law: 40 mV band around 5 V.
 pub const HYSTERETIC: Hysteretic = unwrap_config(Hysteretic::new(
