@@ -15,7 +15,8 @@
 //! [`CurrentEstimator::on_input_code`], one multiply each); the resistive drop
 //! `i·R` (taken at the window's mean current, so neither phase is biased by
 //! its starting current) comes from the slow path
-//! ([`CurrentEstimator::set_voltage_codes`], [`CurrentEstimator::take_window`]). Charge and RMS sums per phase are
+//! ([`CurrentEstimator::set_voltage_codes`],
+//! [`CurrentEstimator::take_window`]). Charge and RMS sums per phase are
 //! formed on the slow path from the cycles' peak, valley and tick sums
 //! ([`Phases`]).
 //!
