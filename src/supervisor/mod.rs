@@ -202,6 +202,17 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         self.limit.cap()
     }
 
+    /// Slow path, during a soft-start: end the ramp's pulses at `ramp`, and
+    /// from its last sixteenth on (regulation included, until
+    /// [`set_pulse_cap`](Self::set_pulse_cap)) at `end`; the ramp's own
+    /// rising cap still applies below both. A start of bounded pulses (a law
+    /// that does not follow the reference) ignores them.
+    pub fn size_start_pulses(&mut self, ramp: Amps, end: Amps) {
+        if !self.pulses.active() {
+            self.ramp.size(ramp, end);
+        }
+    }
+
     /// Slow path: end pulses at `cap` (held within the configured limit)
     /// from the next turn-on: a light-load policy's smaller pulses. The
     /// soft-start ramp sets its own cap while it runs, and ignores this.
@@ -310,7 +321,7 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     #[cold]
     fn end_soft_start(&mut self) {
         self.inner.set_reference(self.ramp.target());
-        self.limit.set_cap(self.limits.current_limit);
+        self.limit.set_cap(self.ramp.end_cap(self.limits.current_limit));
         self.pulses.end();
         self.inner.limit_pulses(None);
         self.sequence.regulating();
