@@ -39,7 +39,16 @@
 //! finishes its rise from below on pulses sized for what follows, rather
 //! than ending the ramp one ramp-sized pulse above the band (a wait of
 //! `pulse charge / load` for the next pulse). A window mostly in CCM (a
-//! heavy load) leaves the ramp's own cap.
+//! heavy load) leaves the ramp's own cap; one whose mean current does not
+//! exceed the ramp's charging current (`C` above its configured value, or
+//! the estimate low: an inductance below the model's) cannot tell the load
+//! from the charge, and ends the ramp at the full limit.
+//!
+//! **A starved output.** The end's size rests on the estimate and on `C`.
+//! Where it fell short, the output stops below the setpoint under capped
+//! pulses: a window whose output mean is more than 1/32 short and rose by
+//! less than a quarter of the way raises the cap by half (2.25 times the
+//! charge a pulse), before anything else is weighed.
 //!
 //! **Where it ends.** The cap does not go below a floor of 1/32 of the
 //! limit. If periods still run long there (almost no load: even the
@@ -65,6 +74,8 @@ pub struct PulseSizer {
     f_low: u32,
     /// Above this one it rises again, Hz.
     f_high: u32,
+    /// The output's mean over the last window, code × 2¹⁶.
+    last_output: u32,
     /// The soft-start's charging current, `C·setpoint/ramp time`.
     start_charge: Amps,
     /// The ramp's cap while a soft-start runs.
@@ -101,6 +112,7 @@ impl PulseSizer {
             cap: limit,
             f_low: (f_min_hz * 1.25) as u32,
             f_high: (f_min_hz * 2.5) as u32,
+            last_output: 0,
             start_charge,
             start_cap: limit,
         }
@@ -108,9 +120,12 @@ impl PulseSizer {
 
     /// One window of a soft-start (see the module notes): the caps for the
     /// ramp and for its end, the latter also the cap regulation begins
-    /// with. Without a law that reports cut pulses both are the limit; a
-    /// window of fewer than two cycles changes nothing.
-    pub fn size_start(&mut self, w: &Phases, lock: Option<LockState>) -> StartCaps {
+    /// with; `output` is the window's output mean (code × 2¹⁶, kept for the
+    /// first window of regulation). Without a law that reports cut pulses
+    /// both are the limit; a window of fewer than two cycles changes
+    /// nothing.
+    pub fn size_start(&mut self, w: &Phases, lock: Option<LockState>, output: u32) -> StartCaps {
+        self.last_output = output;
         let target = match lock {
             Some(l) if l.cut_reported => l.target_hz,
             _ => {
@@ -129,23 +144,31 @@ impl PulseSizer {
             // window at most, but not shrink.
             let grown = w.peak.saturating_add(w.peak / 2);
             self.start_cap = if light { ramp } else { ramp.min(grown).max(w.peak) };
-            self.cap =
-                if light { self.sized(w.peak, self.load_share(w, f, target)) } else { self.limit };
+            self.cap = match self.load_share(w, f, target) {
+                Some(share) if light => self.sized(w.peak, share),
+                _ => self.limit,
+            };
         }
         StartCaps { ramp: self.start_cap, end: self.cap }
     }
 
     /// `f/f_target` times the load's share of the window's mean current
-    /// (the rest charges the ramp), `Q16.16`.
-    fn load_share(&self, w: &Phases, f: u64, target: u32) -> u32 {
+    /// (the rest charges the ramp), `Q16.16`; none where the mean does not
+    /// exceed the ramp's charging current (the estimate then cannot tell
+    /// the load from the charge: the current estimated low, or the output
+    /// capacitance above its configured value).
+    fn load_share(&self, w: &Phases, f: u64, target: u32) -> Option<u32> {
         // The current's mean over the window: the conducting time's share
         // times the mean of its ramps (the valley is 0 in DCM).
         let conducting = i64::from(w.duty) + i64::from(w.off_fraction);
         let ends = i64::from(w.peak.to_bits()) + i64::from(w.valley.to_bits());
         let mean = Amps::from_bits(clamp_i32((ends * conducting) >> 17)).max(Amps::from_bits(1));
-        let load = mean.saturating_sub(self.start_charge).max(mean / 64);
+        if mean <= self.start_charge {
+            return None;
+        }
+        let load = (mean - self.start_charge).max(mean / 64);
         let share = u64::from(ratio(load.to_bits() as u64, mean.to_bits() as u64));
-        ratio(f * share, u64::from(target) << 17)
+        Some(ratio(f * share, u64::from(target) << 17))
     }
 
     /// `peak·√share`, within the floor and the limit.
@@ -156,16 +179,31 @@ impl PulseSizer {
     /// One window while regulating: its frequency (Hz), its cycles, how
     /// many of them were DCM, whether a period ran past `1/f_min`, whether
     /// the window's shortest period or longest on-time bound (the
-    /// frequency was then the guard's: a high one raises no cap), and the
-    /// law's frequency lock, if it has one (see the module notes).
+    /// frequency was then the guard's: a high one raises no cap), the
+    /// output's mean over the window and its setpoint (codes × 2¹⁶: a mean
+    /// more than 1/32 below, rising less than a quarter of the way a
+    /// window, is a load the cap starves), and the law's frequency lock, if
+    /// it has one (see the module notes).
     pub fn update(
         &mut self,
         f_sw_hz: u32,
         (cycles, dcm_cycles): (u32, u32),
         slow: bool,
         binding: bool,
+        (output, setpoint): (u32, u32),
         lock: Option<LockState>,
     ) -> PulseSize {
+        let rise = output.saturating_sub(core::mem::replace(&mut self.last_output, output));
+        let short = setpoint.saturating_sub(output);
+        if short > setpoint / 32 && rise < short / 4 && self.cap < self.limit {
+            // The output below the setpoint, and rising too slowly to reach
+            // it within four windows, under capped pulses: the load needs
+            // more than the cap lets through (a soft-start's end sized on a
+            // load estimate that fell short). Half as much again, each such
+            // window: the charge a pulse carries 2.25-fold.
+            self.cap = self.cap.saturating_add(self.cap / 2).min(self.limit);
+            return PulseSize { cap: self.cap, forced: false };
+        }
         let light = dcm_cycles >= cycles - cycles / 2;
         let (low, high) = match lock {
             // The cap ends the pulses: it sets the frequency, toward the
@@ -214,27 +252,33 @@ impl PulseSizer {
 mod tests {
     use super::*;
 
+    /// An output at its setpoint (code 1 000 × 2¹⁶).
+    const AT_SETPOINT: (u32, u32) = (1_000 << 16, 1_000 << 16);
+
     #[test]
     fn the_cap_falls_while_slow_and_recovers() {
         let mut s = PulseSizer::new(Amps::from_num(4), 20e3, Amps::from_num(0.75));
         let mut last = s.cap();
         for _ in 0..10 {
-            let size = s.update(15_000, (2, 2), true, false, None);
+            let size = s.update(15_000, (2, 2), true, false, AT_SETPOINT, None);
             assert!(size.cap < last || size.cap == Amps::from_num(0.125));
             last = size.cap;
         }
         for _ in 0..40 {
-            s.update(10_000, (1, 1), true, false, None);
+            s.update(10_000, (1, 1), true, false, AT_SETPOINT, None);
         }
         assert_eq!(s.cap(), Amps::from_num(0.125), "held at the floor, 1/32 of the limit");
         assert!(
-            s.update(10_000, (1, 1), true, false, None).forced,
+            s.update(10_000, (1, 1), true, false, AT_SETPOINT, None).forced,
             "forced pulses only at the floor"
         );
         // In the middle band nothing moves; above 50 kHz it rises.
-        assert_eq!(s.update(40_000, (4, 4), false, false, None).cap, Amps::from_num(0.125));
+        assert_eq!(
+            s.update(40_000, (4, 4), false, false, AT_SETPOINT, None).cap,
+            Amps::from_num(0.125)
+        );
         for _ in 0..60 {
-            s.update(80_000, (8, 8), false, false, None);
+            s.update(80_000, (8, 8), false, false, AT_SETPOINT, None);
         }
         assert_eq!(s.cap(), Amps::from_num(4));
     }
@@ -251,27 +295,33 @@ mod tests {
         let mut s = PulseSizer::new(Amps::from_num(4), 20e3, Amps::from_num(0.75));
         // Long periods at light load: the cap falls an eighth a window.
         for _ in 0..4 {
-            s.update(15_000, (3, 3), true, false, Some(lock(true)));
+            s.update(15_000, (3, 3), true, false, AT_SETPOINT, Some(lock(true)));
         }
         assert!(s.cap() < Amps::from_num(2.4));
         // Cut pulses, too low a frequency: the cap falls by 1/32 a window
         // (a frequency that goes as 1/cap² moves about 6 %).
         let before = s.cap();
-        s.update(30_000, (6, 6), false, false, Some(lock(true)));
+        s.update(30_000, (6, 6), false, false, AT_SETPOINT, Some(lock(true)));
         assert_eq!(s.cap(), before - before / 32);
         // Within ±1/32 of the target it holds; above, it rises by an
         // eighth, clear of the band's own peak.
         let held = s.cap();
-        assert_eq!(s.update(36_000, (7, 7), false, false, Some(lock(true))).cap, held);
-        assert_eq!(s.update(34_000, (7, 7), false, false, Some(lock(true))).cap, held);
-        assert_eq!(s.update(36_500, (8, 8), false, false, Some(lock(true))).cap, held + held / 8);
+        assert_eq!(s.update(36_000, (7, 7), false, false, AT_SETPOINT, Some(lock(true))).cap, held);
+        assert_eq!(s.update(34_000, (7, 7), false, false, AT_SETPOINT, Some(lock(true))).cap, held);
+        assert_eq!(
+            s.update(36_500, (8, 8), false, false, AT_SETPOINT, Some(lock(true))).cap,
+            held + held / 8
+        );
         // A period past 1/f_min: a full eighth down.
         let now = s.cap();
-        assert_eq!(s.update(30_000, (6, 6), true, false, Some(lock(true))).cap, now - now / 8);
+        assert_eq!(
+            s.update(30_000, (6, 6), true, false, AT_SETPOINT, Some(lock(true))).cap,
+            now - now / 8
+        );
         // The band, not the cap, ends the pulses: a frequency below the
         // target with the lock not at its bound leaves the cap alone.
         let now = s.cap();
-        assert_eq!(s.update(30_000, (6, 6), false, false, Some(lock(false))).cap, now);
+        assert_eq!(s.update(30_000, (6, 6), false, false, AT_SETPOINT, Some(lock(false))).cap, now);
     }
 
     #[test]
@@ -279,21 +329,31 @@ mod tests {
         let mut s = PulseSizer::new(Amps::from_num(4), 20e3, Amps::from_num(0.75));
         // Heavy load at a low frequency: the cap stays at the limit.
         for _ in 0..10 {
-            assert_eq!(s.update(15_000, (15, 0), true, false, None).cap, Amps::from_num(4));
+            assert_eq!(
+                s.update(15_000, (15, 0), true, false, AT_SETPOINT, None).cap,
+                Amps::from_num(4)
+            );
         }
         // Light load lowers it; the load coming back (CCM) raises it again
         // whatever the frequency.
         for _ in 0..10 {
-            s.update(15_000, (15, 15), true, false, None);
+            s.update(15_000, (15, 15), true, false, AT_SETPOINT, None);
         }
         assert!(s.cap() < Amps::from_num(2));
         for _ in 0..40 {
-            s.update(30_000, (30, 10), false, false, None);
+            s.update(30_000, (30, 10), false, false, AT_SETPOINT, None);
         }
         assert_eq!(s.cap(), Amps::from_num(4));
     }
 
-    /// A cut-reporting lock at 35 kHz and a window of the start.
+    impl PulseSizer {
+        /// A window of a start, its output at code 500.
+        fn size_start_at(&mut self, w: &Phases, lock: Option<LockState>) -> StartCaps {
+            self.size_start(w, lock, 500 << 16)
+        }
+    }
+
+    /// A window of the start.
     fn start_window(f_sw_hz: u32, cycles: u32, dcm: u32, peak: f64, valley: f64) -> Phases {
         Phases {
             cycles,
@@ -322,7 +382,7 @@ mod tests {
         // the peak times √½ (Erickson & Maksimović, Fundamentals of Power
         // Electronics, the DCM buck: the pulse's charge ½·i_pk·(t_on +
         // t_off), each time ∝ i_pk).
-        let caps = s.size_start(&start_window(17_500, 4, 4, 2.0, 0.0), lock);
+        let caps = s.size_start_at(&start_window(17_500, 4, 4, 2.0, 0.0), lock);
         let want = 2.0 * 0.5f64.sqrt();
         assert!((caps.ramp.to_num::<f64>() - want).abs() < 1e-3, "{}", caps.ramp);
         // Its end: the load alone, the window's mean current
@@ -332,19 +392,45 @@ mod tests {
         assert!((caps.end.to_num::<f64>() - end).abs() < 2e-3, "{} vs {end}", caps.end);
         // Mostly CCM (the output lagging): the pulses grow by half a
         // window's peak at most, and do not shrink below it.
-        let caps = s.size_start(&start_window(100_000, 20, 0, 1.0, 0.8), lock);
+        let caps = s.size_start_at(&start_window(100_000, 20, 0, 1.0, 0.8), lock);
         assert_eq!(caps.ramp, Amps::from_num(1.5));
         assert_eq!(caps.end, Amps::from_num(4));
-        let caps = s.size_start(&start_window(30_000, 6, 0, 1.0, 0.8), lock);
+        let caps = s.size_start_at(&start_window(30_000, 6, 0, 1.0, 0.8), lock);
         assert_eq!(caps.ramp, Amps::from_num(1));
         // A window of one cycle changes nothing.
         assert_eq!(
-            s.size_start(&start_window(5_000, 1, 1, 3.0, 0.0), lock).ramp,
+            s.size_start_at(&start_window(5_000, 1, 1, 3.0, 0.0), lock).ramp,
             Amps::from_num(1)
         );
+        // A ramp charging more than the window's whole mean current: the
+        // estimate cannot tell the load from the charge, so the end is the
+        // limit.
+        let mut t = PulseSizer::new(Amps::from_num(4), 20e3, Amps::from_num(0.5));
+        let caps = t.size_start_at(&start_window(17_500, 4, 4, 2.0, 0.0), lock);
+        assert!((caps.ramp.to_num::<f64>() - want).abs() < 1e-3);
+        assert_eq!(caps.end, Amps::from_num(4));
         // A law that does not report cut pulses: the limit, and reset.
         let plain = lock.map(|l| LockState { cut_reported: false, ..l });
-        let caps = s.size_start(&start_window(17_500, 4, 4, 2.0, 0.0), plain);
+        let caps = s.size_start_at(&start_window(17_500, 4, 4, 2.0, 0.0), plain);
         assert_eq!((caps.ramp, caps.end), (Amps::from_num(4), Amps::from_num(4)));
+    }
+
+    #[test]
+    fn a_starved_output_raises_the_cap_by_half() {
+        let mut s = PulseSizer::new(Amps::from_num(4), 20e3, Amps::from_num(0.5));
+        for _ in 0..10 {
+            s.update(15_000, (2, 2), true, false, AT_SETPOINT, None);
+        }
+        let low = s.cap();
+        assert!(low < Amps::from_num(2));
+        let at = |code: u32| (code << 16, 1_000 << 16);
+        // 5 % short and not rising: half as much again.
+        assert_eq!(s.update(40_000, (8, 8), false, false, at(950), None).cap, low + low / 2);
+        // Still 4 % short, but it rose a quarter of the way: left alone
+        // (40 kHz is inside the plain sizer's band).
+        let raised = s.cap();
+        assert_eq!(s.update(40_000, (8, 8), false, false, at(960), None).cap, raised);
+        // Within 1/32: no starving, however slowly it rises.
+        assert_eq!(s.update(40_000, (8, 8), false, false, at(970), None).cap, raised);
     }
 }

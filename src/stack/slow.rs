@@ -270,7 +270,11 @@ impl SlowPath {
             }
             if let Some(sizer) = self.sizer.get_mut() {
                 if sup.state() == State::SoftStart {
-                    let caps = sizer.size_start(phases, sup.inner().frequency_lock());
+                    let caps = sizer.size_start(
+                        phases,
+                        sup.inner().frequency_lock(),
+                        sup.output_average(),
+                    );
                     sup.size_start_pulses(caps.ramp, caps.end);
                 } else {
                     sizer.reset();
@@ -281,7 +285,8 @@ impl SlowPath {
         if let Some(sizer) = self.sizer.get_mut() {
             let lock = sup.inner().frequency_lock();
             let window = (phases.cycles, phases.dcm_cycles);
-            let size = sizer.update(phases.f_sw_hz, window, slow, binding != before, lock);
+            let output = (sup.output_average(), u32::from(sup.setpoint_code()) << 16);
+            let size = sizer.update(phases.f_sw_hz, window, slow, binding != before, output, lock);
             sup.set_pulse_cap(size.cap);
             sup.inner_mut().set_forced_pulses(size.forced);
         }

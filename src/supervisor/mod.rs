@@ -191,6 +191,11 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         self.out_average
     }
 
+    /// The output setpoint, code.
+    pub const fn setpoint_code(&self) -> u16 {
+        self.ramp.target()
+    }
+
     /// The last output reading, code.
     pub const fn last_output(&self) -> u16 {
         self.readings.last_out
