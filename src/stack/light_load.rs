@@ -173,7 +173,7 @@ impl PulseSizer {
 
     /// `peak·√share`, within the floor and the limit.
     fn sized(&self, peak: Amps, share: u32) -> Amps {
-        scale(peak, sqrt_fraction(share)).clamp(self.floor, self.limit)
+        scale(peak, sqrt_fraction(share)).max(self.floor).min(self.limit)
     }
 
     /// One window while regulating: its frequency (Hz), its cycles, how
