@@ -61,7 +61,7 @@
 
 use crate::estimate::{Amps, Phases};
 use crate::law::LockState;
-use crate::units::{clamp_i32, ratio, scale, sqrt_fraction};
+use crate::units::{clamp_i32, ratio, scale, sqrt_fraction, Fraction};
 
 /// The adaptation's state.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -76,7 +76,7 @@ pub struct PulseSizer {
     f_high: u32,
     /// The output's mean over the last window, code × 2¹⁶.
     last_output: u32,
-    /// The soft-start's charging current, `C·setpoint/ramp time`.
+    /// A soft-start's charging current from zero, `C·setpoint/ramp time`.
     start_charge: Amps,
     /// The ramp's cap while a soft-start runs.
     start_cap: Amps,
@@ -121,10 +121,17 @@ impl PulseSizer {
     /// One window of a soft-start (see the module notes): the caps for the
     /// ramp and for its end, the latter also the cap regulation begins
     /// with; `output` is the window's output mean (code × 2¹⁶, kept for the
-    /// first window of regulation). Without a law that reports cut pulses
+    /// first window of regulation), `span` the share of the setpoint the
+    /// start covers (a start from a pre-biased output charges less).
+    /// Without a law that reports cut pulses
     /// both are the limit; a window of fewer than two cycles changes
     /// nothing.
-    pub fn size_start(&mut self, w: &Phases, lock: Option<LockState>, output: u32) -> StartCaps {
+    pub fn size_start(
+        &mut self,
+        w: &Phases,
+        lock: Option<LockState>,
+        (output, span): (u32, Fraction),
+    ) -> StartCaps {
         self.last_output = output;
         let target = match lock {
             Some(l) if l.cut_reported => l.target_hz,
@@ -144,7 +151,8 @@ impl PulseSizer {
             // window at most, but not shrink.
             let grown = w.peak.saturating_add(w.peak / 2);
             self.start_cap = if light { ramp } else { ramp.min(grown).max(w.peak) };
-            self.cap = match self.load_share(w, f, target) {
+            let charge = scale(self.start_charge, span);
+            self.cap = match self.load_share(w, f, target, charge) {
                 Some(share) if light => self.sized(w.peak, share),
                 _ => self.limit,
             };
@@ -157,16 +165,16 @@ impl PulseSizer {
     /// exceed the ramp's charging current (the estimate then cannot tell
     /// the load from the charge: the current estimated low, or the output
     /// capacitance above its configured value).
-    fn load_share(&self, w: &Phases, f: u64, target: u32) -> Option<u32> {
+    fn load_share(&self, w: &Phases, f: u64, target: u32, charge: Amps) -> Option<u32> {
         // The current's mean over the window: the conducting time's share
         // times the mean of its ramps (the valley is 0 in DCM).
         let conducting = i64::from(w.duty) + i64::from(w.off_fraction);
         let ends = i64::from(w.peak.to_bits()) + i64::from(w.valley.to_bits());
         let mean = Amps::from_bits(clamp_i32((ends * conducting) >> 17)).max(Amps::from_bits(1));
-        if mean <= self.start_charge {
+        if mean <= charge {
             return None;
         }
-        let load = (mean - self.start_charge).max(mean / 64);
+        let load = (mean - charge).max(mean / 64);
         let share = u64::from(ratio(load.to_bits() as u64, mean.to_bits() as u64));
         Some(ratio(f * share, u64::from(target) << 17))
     }
@@ -251,6 +259,7 @@ impl PulseSizer {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::units::ONE;
 
     /// An output at its setpoint (code 1 000 × 2¹⁶).
     const AT_SETPOINT: (u32, u32) = (1_000 << 16, 1_000 << 16);
@@ -349,7 +358,7 @@ mod tests {
     impl PulseSizer {
         /// A window of a start, its output at code 500.
         fn size_start_at(&mut self, w: &Phases, lock: Option<LockState>) -> StartCaps {
-            self.size_start(w, lock, 500 << 16)
+            self.size_start(w, lock, (500 << 16, ONE))
         }
     }
 

@@ -270,11 +270,8 @@ impl SlowPath {
             }
             if let Some(sizer) = self.sizer.get_mut() {
                 if sup.state() == State::SoftStart {
-                    let caps = sizer.size_start(
-                        phases,
-                        sup.inner().frequency_lock(),
-                        sup.output_average(),
-                    );
+                    let window = (sup.output_average(), sup.start_span());
+                    let caps = sizer.size_start(phases, sup.inner().frequency_lock(), window);
                     sup.size_start_pulses(caps.ramp, caps.end);
                 } else {
                     sizer.reset();

@@ -48,7 +48,7 @@ pub use sequence::State;
 use crate::estimate::{Amps, CurrentEstimator, CycleCurrents};
 use crate::law::{Command, Event, Gate, Law, Regulate};
 use crate::tick::{earliest, Instant};
-use crate::units::ARMV6M;
+use crate::units::{Fraction, ARMV6M};
 use detect::{CycleView, Detectors};
 use limit::CurrentLimit;
 use readings::Readings;
@@ -189,6 +189,13 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     /// code × 2¹⁶.
     pub const fn output_average(&self) -> u32 {
         self.out_average
+    }
+
+    /// Slow path: the share of the setpoint the soft-start covers (from
+    /// where the output stood to the setpoint, `Q16.16`, 0–1): its ramp's
+    /// charging current is that share of `C·setpoint/ramp time`.
+    pub fn start_span(&self) -> Fraction {
+        self.ramp.span()
     }
 
     /// The output setpoint, code.

@@ -24,7 +24,7 @@
 
 use crate::estimate::Amps;
 use crate::part::{self, Part};
-use crate::units::div_u64;
+use crate::units::{div_u64, ratio, Fraction};
 
 /// The ramp of one start.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -127,6 +127,12 @@ impl SoftStartRamp {
     /// `elapsed` ticks into the start, twice the ramp's time has passed.
     pub(super) const fn overdue(&self, elapsed: u32) -> bool {
         elapsed.saturating_add(self.lead) / 2 >= self.ticks
+    }
+
+    /// The share of the setpoint this start covers, `(setpoint − start
+    /// level)/setpoint` (`Q16.16`, 0–1). Slow path: one division.
+    pub(super) fn span(&self) -> Fraction {
+        ratio(u64::from(self.target.saturating_sub(self.from)), u64::from(self.target.max(1)))
     }
 
     /// The setpoint.
