@@ -245,6 +245,30 @@ pub fn ratio(num: u64, den: u64) -> Fraction {
     div_u64(n << 16, d).min(u64::from(u32::MAX)) as u32
 }
 
+/// `√x` of a [`Fraction`] (`Q16.16`), held below 4 (a root below 2), to
+/// 2⁻¹⁵: the integer root digit by digit (the core library's integer root
+/// links a 512-byte table on a Cortex-M0). Slow path only: about 16 rounds
+/// of a compare, a subtract and two shifts.
+#[inline(never)]
+pub fn sqrt_fraction(x: Fraction) -> Fraction {
+    // x·2¹⁴ < 2³²; its root is √x·2¹⁵.
+    let mut rest = x.min((4 << 16) - 1) << 14;
+    let (mut root, mut bit) = (0u32, 1u32 << 30);
+    while bit > rest {
+        bit >>= 2;
+    }
+    while bit != 0 {
+        if rest >= root + bit {
+            rest -= root + bit;
+            root = (root >> 1) + bit;
+        } else {
+            root >>= 1;
+        }
+        bit >>= 2;
+    }
+    root << 1
+}
+
 /// ADC codes to volts at the sensed node, integer only: the channel's
 /// transfer `V = (code·LSB_pin − offset)/ratio` as one multiply and one
 /// subtraction.
@@ -301,6 +325,18 @@ mod tests {
             let want = f64::from(adc.to_volts(code));
             assert!((got - want).abs() < 2e-4, "{code}: {got} vs {want}");
         }
+    }
+
+    #[test]
+    fn the_root_of_a_fraction_is_f64_s_to_its_resolution() {
+        // Against f64's correctly rounded `sqrt` (IEEE 754): floor of the
+        // root to 2⁻¹⁵, so within 2⁻¹⁵ below it.
+        for bits in (0u32..(4 << 16)).step_by(37).chain([1, 65_536, (4 << 16) - 1]) {
+            let want = (f64::from(bits) / 65_536.0).sqrt();
+            let got = f64::from(sqrt_fraction(bits)) / 65_536.0;
+            assert!(got <= want + 1e-12 && want - got < 1.0 / 32_768.0, "{bits}: {got} {want}");
+        }
+        assert_eq!(sqrt_fraction(u32::MAX), sqrt_fraction((4 << 16) - 1), "held below 4");
     }
 
     #[test]

@@ -51,7 +51,7 @@
  * Size of the state, 64-bit words, on a target with 32-bit pointers
  * (Cortex-M, RV32).
  */
-#define RIPPLECTL_STATE_WORDS 119
+#define RIPPLECTL_STATE_WORDS 122
 #endif
 
 #if defined(RIPPLECTL_POINTERS_64)
@@ -59,7 +59,7 @@
  * Size of the state, 64-bit words, on a target with 64-bit pointers (a
  * host build).
  */
-#define RIPPLECTL_STATE_WORDS 122
+#define RIPPLECTL_STATE_WORDS 125
 #endif
 
 /**

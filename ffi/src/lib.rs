@@ -91,11 +91,11 @@ const _: () = assert!(RIPPLECTL_FAULT_LOG_LEN == FAULT_LOG_LEN);
 /// Size of the state, 64-bit words, on a target with 32-bit pointers
 /// (Cortex-M, RV32).
 #[cfg(target_pointer_width = "32")]
-pub const RIPPLECTL_STATE_WORDS: usize = 119;
+pub const RIPPLECTL_STATE_WORDS: usize = 122;
 /// Size of the state, 64-bit words, on a target with 64-bit pointers (a
 /// host build).
 #[cfg(target_pointer_width = "64")]
-pub const RIPPLECTL_STATE_WORDS: usize = 122;
+pub const RIPPLECTL_STATE_WORDS: usize = 125;
 
 /// The firmware's state: declare one per power stage, in static memory
 /// (`static ripplectl fw;`), and hand its address to every call. Opaque:

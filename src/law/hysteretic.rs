@@ -325,6 +325,6 @@ impl Regulate for Hysteretic {
 
     fn frequency_lock(&self) -> Option<LockState> {
         let pulses_cut = self.cut_in_window;
-        self.lock.get().map(|lock| LockState { pulses_cut, ..lock.state() })
+        self.lock.get().map(|lock| LockState { pulses_cut, cut_reported: true, ..lock.state() })
     }
 }

@@ -234,6 +234,11 @@ pub struct LockState {
     /// light-load cap or the current limit ended them): the lock did not
     /// set the frequency and held; the pulses' size did.
     pub pulses_cut: bool,
+    /// The law reports [`pulses_cut`](Self::pulses_cut) and its pulses end
+    /// at a threshold, so a cap below their own peak sets their size (the
+    /// light-load sizer may then size a soft-start's pulses too); false
+    /// for a law whose pulses are timed.
+    pub cut_reported: bool,
 }
 
 /// A law whose regulation reference can be moved on the slow path

@@ -115,6 +115,7 @@ impl FrequencyTrim {
             at_min: self.trim <= self.min,
             at_max: self.trim >= self.max,
             pulses_cut: false,
+            cut_reported: false,
         }
     }
 

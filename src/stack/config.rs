@@ -22,10 +22,11 @@
 
 use super::slow::{LightLoadSettings, SlowPath, SlowPathConfig};
 use crate::error::{attempt, ConfigError};
-use crate::estimate::{CurrentEstimator, InductorModel, LossConfig, SlopeScale, Steinmetz};
+use crate::estimate::{Amps, CurrentEstimator, InductorModel, LossConfig, SlopeScale, Steinmetz};
 use crate::guard::{Window, WindowConfig};
 use crate::scale::{AdcChannel, TimerClock};
 use crate::supervisor::{Limits, ProtectionConfig};
+use crate::units::to_fixed_i32;
 use crate::unwrap_config;
 
 /// How the law gets the output.
@@ -156,6 +157,11 @@ impl StackParts {
             policy: cfg.window.light_load,
             f_min_hz: cfg.window.f_min_hz,
             current_limit: limits.current_limit,
+            start_charge: Amps::from_bits(to_fixed_i32(
+                cfg.slow.output_capacitance_f as f64 * cfg.setpoint_v as f64
+                    / cfg.protection.soft_start_s as f64,
+                16,
+            )),
         };
         let slow =
             attempt!(SlowPath::new(&cfg.slow, &cfg.model, vout, vin, clock, setpoint, light));

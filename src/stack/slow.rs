@@ -74,6 +74,8 @@ pub(super) struct LightLoadSettings {
     pub(super) policy: LightLoad,
     pub(super) f_min_hz: f32,
     pub(super) current_limit: Amps,
+    /// The soft-start's charging current, `C·setpoint/ramp time`.
+    pub(super) start_charge: Amps,
 }
 
 /// The observer with what its input needs.
@@ -163,7 +165,9 @@ impl SlowPath {
             None
         };
         let sizer = match light.policy {
-            LightLoad::SmallerPulses => Some(PulseSizer::new(light.current_limit, light.f_min_hz)),
+            LightLoad::SmallerPulses => {
+                Some(PulseSizer::new(light.current_limit, light.f_min_hz, light.start_charge))
+            }
             _ => None,
         };
         Ok(Self {
@@ -265,13 +269,21 @@ impl SlowPath {
                 dc.reset();
             }
             if let Some(sizer) = self.sizer.get_mut() {
-                sizer.reset();
+                if sup.state() == State::SoftStart {
+                    let window = (sup.output_average(), sup.start_span());
+                    let caps = sizer.size_start(phases, sup.inner().frequency_lock(), window);
+                    sup.size_start_pulses(caps.ramp, caps.end);
+                } else {
+                    sizer.reset();
+                }
             }
             return;
         }
         if let Some(sizer) = self.sizer.get_mut() {
             let lock = sup.inner().frequency_lock();
-            let size = sizer.update(phases.f_sw_hz, phases.cycles, phases.dcm_cycles, slow, lock);
+            let window = (phases.cycles, phases.dcm_cycles);
+            let output = (sup.output_average(), u32::from(sup.setpoint_code()) << 16);
+            let size = sizer.update(phases.f_sw_hz, window, slow, binding != before, output, lock);
             sup.set_pulse_cap(size.cap);
             sup.inner_mut().set_forced_pulses(size.forced);
         }

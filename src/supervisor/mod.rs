@@ -48,7 +48,7 @@ pub use sequence::State;
 use crate::estimate::{Amps, CurrentEstimator, CycleCurrents};
 use crate::law::{Command, Event, Gate, Law, Regulate};
 use crate::tick::{earliest, Instant};
-use crate::units::ARMV6M;
+use crate::units::{Fraction, ARMV6M};
 use detect::{CycleView, Detectors};
 use limit::CurrentLimit;
 use readings::Readings;
@@ -191,6 +191,18 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         self.out_average
     }
 
+    /// Slow path: the share of the setpoint the soft-start covers (from
+    /// where the output stood to the setpoint, `Q16.16`, 0–1): its ramp's
+    /// charging current is that share of `C·setpoint/ramp time`.
+    pub fn start_span(&self) -> Fraction {
+        self.ramp.span()
+    }
+
+    /// The output setpoint, code.
+    pub const fn setpoint_code(&self) -> u16 {
+        self.ramp.target()
+    }
+
     /// The last output reading, code.
     pub const fn last_output(&self) -> u16 {
         self.readings.last_out
@@ -200,6 +212,17 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     /// lower during the soft-start or under a light-load policy.
     pub const fn pulse_cap(&self) -> Amps {
         self.limit.cap()
+    }
+
+    /// Slow path, during a soft-start: end the ramp's pulses at `ramp`, and
+    /// from its last sixteenth on (regulation included, until
+    /// [`set_pulse_cap`](Self::set_pulse_cap)) at `end`; the ramp's own
+    /// rising cap still applies below both. A start of bounded pulses (a law
+    /// that does not follow the reference) ignores them.
+    pub fn size_start_pulses(&mut self, ramp: Amps, end: Amps) {
+        if !self.pulses.active() {
+            self.ramp.size(ramp, end);
+        }
     }
 
     /// Slow path: end pulses at `cap` (held within the configured limit)
@@ -310,7 +333,7 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     #[cold]
     fn end_soft_start(&mut self) {
         self.inner.set_reference(self.ramp.target());
-        self.limit.set_cap(self.limits.current_limit);
+        self.limit.set_cap(self.ramp.end_cap(self.limits.current_limit));
         self.pulses.end();
         self.inner.limit_pulses(None);
         self.sequence.regulating();

@@ -11,6 +11,10 @@
 //! (a lead of `ticks · from / setpoint`), so a pre-biased output is not
 //! left to the load under pulses sized for a cold start.
 //!
+//! Under smaller pulses at light load the slow path may size the ramp's
+//! pulses below that cap, and those of its last sixteenth for the load
+//! alone (`stack/light_load.rs`); regulation then begins at that size.
+//!
 //! The slow path works out both slopes once per start (two divisions); the
 //! fast path then takes one 32-bit multiply each (a 64-bit one is a library
 //! call on the Cortex-M0): the reference slope in codes × 2¹⁶ per tick, so
@@ -19,7 +23,8 @@
 //! within 128 A, so its product stays below 2³¹.
 
 use crate::estimate::Amps;
-use crate::units::div_u64;
+use crate::part::{self, Part};
+use crate::units::{div_u64, ratio, Fraction};
 
 /// The ramp of one start.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -36,6 +41,19 @@ pub(super) struct SoftStartRamp {
     cap_from: Amps,
     /// Cap slope, `Amps` bits × 2⁸ per tick.
     cap_rate: u32,
+    /// The light-load sizer's caps for this start, if it sized them
+    /// (nothing at all without the `light-load` feature).
+    sized: Part<StartSize, { part::LIGHT_LOAD }>,
+}
+
+/// The caps the light-load sizer gave a start's pulses.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[cfg_attr(feature = "defmt", derive(defmt::Format))]
+struct StartSize {
+    /// Through the ramp, below its own rising cap.
+    ramp: Amps,
+    /// From the ramp's last sixteenth on, and for regulation after it.
+    end: Amps,
 }
 
 impl SoftStartRamp {
@@ -49,6 +67,7 @@ impl SoftStartRamp {
             rate: 0,
             cap_from: Amps::ZERO,
             cap_rate: 0,
+            sized: Part::none(),
         }
     }
 
@@ -70,6 +89,20 @@ impl SoftStartRamp {
         // Held within 128 A (2²³ bits): `cap_rate · elapsed` < 2³¹.
         let cap_span = (limit - self.cap_from).to_bits().clamp(0, 1 << 23) as u64;
         self.cap_rate = div_u64(cap_span << 8, ticks) as u32;
+        self.sized = Part::none();
+    }
+
+    /// Slow path: cap the ramp's pulses at `ramp`, and from its last
+    /// sixteenth on at `end` (the light-load sizer's caps; without the
+    /// `light-load` feature there is no sizer and this keeps nothing).
+    pub(super) fn size(&mut self, ramp: Amps, end: Amps) {
+        self.sized = Part::some(StartSize { ramp, end });
+    }
+
+    /// The cap regulation begins with: the sizer's for the ramp's end, or
+    /// `limit`.
+    pub(super) fn end_cap(&self, limit: Amps) -> Amps {
+        self.sized.get().map_or(limit, |s| s.end)
     }
 
     /// Fast path: the reference and cap `elapsed` ticks into the start;
@@ -84,7 +117,11 @@ impl SoftStartRamp {
         let step = self.rate.wrapping_mul(elapsed) >> 16;
         let reference = (u32::from(self.from) + step).min(u32::from(self.target)) as u16;
         let rise = (self.cap_rate.wrapping_mul(elapsed) >> 8) as i32;
-        Some((reference, self.cap_from.saturating_add(Amps::from_bits(rise))))
+        let mut cap = self.cap_from.saturating_add(Amps::from_bits(rise));
+        if let Some(s) = self.sized.get() {
+            cap = cap.min(if elapsed >= self.ticks - self.ticks / 16 { s.end } else { s.ramp });
+        }
+        Some((reference, cap))
     }
 
     /// `elapsed` ticks into the start, twice the ramp's time has passed.
@@ -92,8 +129,46 @@ impl SoftStartRamp {
         elapsed.saturating_add(self.lead) / 2 >= self.ticks
     }
 
+    /// The share of the setpoint this start covers, `(setpoint − start
+    /// level)/setpoint` (`Q16.16`, 0–1). Slow path: one division.
+    pub(super) fn span(&self) -> Fraction {
+        ratio(u64::from(self.target.saturating_sub(self.from)), u64::from(self.target.max(1)))
+    }
+
     /// The setpoint.
     pub(super) const fn target(&self) -> u16 {
         self.target
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A start of 160 ticks to code 1 000 under a 4 A limit: the cap rises
+    /// from 0.5 A; sized, it is held at the ramp's size, from the last
+    /// sixteenth (tick 150) at the end's, which regulation then begins
+    /// with; a new start forgets both.
+    #[test]
+    fn a_sized_start_caps_the_ramp_and_its_end() {
+        let limit = Amps::from_num(4);
+        let mut ramp = SoftStartRamp::new(160, 1_000);
+        ramp.begin(0, limit, false);
+        let cap = |r: &SoftStartRamp, t| r.at(t).unwrap().1;
+        assert_eq!(cap(&ramp, 0), Amps::from_num(0.5));
+        assert!(cap(&ramp, 80) > Amps::from_num(2.2), "{}", cap(&ramp, 80));
+        assert_eq!(ramp.end_cap(limit), limit);
+
+        ramp.size(Amps::from_num(1), Amps::from_num(0.25));
+        assert_eq!(cap(&ramp, 0), Amps::from_num(0.5), "below the size, the ramp's own cap");
+        assert_eq!(cap(&ramp, 80), Amps::from_num(1));
+        assert_eq!(cap(&ramp, 149), Amps::from_num(1));
+        assert_eq!(cap(&ramp, 150), Amps::from_num(0.25));
+        assert_eq!(ramp.at(160), None);
+        assert_eq!(ramp.end_cap(limit), Amps::from_num(0.25));
+
+        ramp.begin(0, limit, false);
+        assert_eq!(ramp.end_cap(limit), limit);
+        assert!(cap(&ramp, 150) > Amps::from_num(3.7));
     }
 }

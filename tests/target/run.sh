@@ -166,19 +166,21 @@ done < <(grep '^insns ' "$out")
 # Footprint ceilings, bytes, per kind, core, part and feature set: each
 # figure's value when it was last reviewed plus 10 %, or the earlier ceiling
 # where that was lower (a regression guard, not a target; a review never
-# loosens one). No part may link a float
+# loosens one; a new part's code may raise one, said where it does: the
+# slow path's on M0 and M4, from 10 459 and 9 606, for the light-load
+# start's sizing, 436 and 392 bytes). No part may link a float
 # routine, but for the C firmware, whose configuration runs at start-up
 # (its runtime without it links none).
 declare -A ceiling=(
     [flash/m0/base/all-parts]=379 [ram/m0/base/all-parts]=0 [flash/m0/law_guard/all-parts]=5087
     [ram/m0/law_guard/all-parts]=221 [flash/m0/estimator/all-parts]=4303 [ram/m0/estimator/all-parts]=159
-    [flash/m0/supervisor/all-parts]=8066 [ram/m0/supervisor/all-parts]=555 [flash/m0/slow_path/all-parts]=10459
+    [flash/m0/supervisor/all-parts]=8066 [ram/m0/supervisor/all-parts]=555 [flash/m0/slow_path/all-parts]=10850
     [ram/m0/slow_path/all-parts]=898 [flash/m0/driver/all-parts]=572 [ram/m0/driver/all-parts]=18
     [flash/m0/stack/all-parts]=14573 [ram/m0/stack/all-parts]=916 [flash/m0/firmware/all-parts]=14450
     [ram/m0/firmware/all-parts]=920 [flash/m0/stack/none]=8932 [ram/m0/stack/none]=564
     [flash/m4/base/all-parts]=1329 [ram/m4/base/all-parts]=0 [flash/m4/law_guard/all-parts]=6090
     [ram/m4/law_guard/all-parts]=221 [flash/m4/estimator/all-parts]=5078 [ram/m4/estimator/all-parts]=159
-    [flash/m4/supervisor/all-parts]=9271 [ram/m4/supervisor/all-parts]=555 [flash/m4/slow_path/all-parts]=9606
+    [flash/m4/supervisor/all-parts]=9271 [ram/m4/supervisor/all-parts]=555 [flash/m4/slow_path/all-parts]=10000
     [ram/m4/slow_path/all-parts]=898 [flash/m4/driver/all-parts]=1501 [ram/m4/driver/all-parts]=18
     [flash/m4/stack/all-parts]=14406 [ram/m4/stack/all-parts]=916 [flash/m4/firmware/all-parts]=15739
     [ram/m4/firmware/all-parts]=920 [flash/m4/stack/none]=10222 [ram/m4/stack/none]=564
