@@ -22,10 +22,12 @@
 //! | `energy` | the energy ledger and its loss table |
 //! | `events` | DCM zero-crossings, band edges, output levels, on the closed form |
 //! | `scan` | the first of them in an interval ahead, without moving the plant |
+//! | `hermite` | the cubic through a level's ends: turns ruled out, crossings started |
 
 mod conduction;
 mod energy;
 mod events;
+mod hermite;
 mod params;
 mod saturation;
 mod scan;

@@ -10,7 +10,8 @@
 //! level that crosses and comes back within one interval is found too.
 
 use super::conduction::Conduction;
-use super::events::{current_less, refine, Bracket, Stop, Watch};
+use super::events::{chord_zero, current_less, refine_from, Bracket, Stop, Watch};
+use super::hermite::Hermite;
 use super::Plant;
 use crate::sim::linear::{Affine, Followed, Trajectory, Vec2};
 
@@ -160,57 +161,54 @@ impl Interval<'_> {
             return None;
         }
         let path = self.trajectory.follow(level);
-        let bracket = if turns {
+        // The bracket, with the level's rates at its ends (zero at a turn).
+        let (bracket, r_lo, r_hi) = if turns {
             let (tm, fm) = turn(&path, a, ra, b, rb);
             if !reached(fa) && reached(fm) {
-                Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }
+                (Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }, ra, 0.0)
             } else if !reached(fm) && reached(fb) {
-                Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }
+                (Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }, 0.0, rb)
             } else {
                 return None;
             }
         } else if !reached(fa) && reached(fb) {
-            Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }
+            (Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }, ra, rb)
         } else {
             return None;
         };
-        Some(refine(&path, bracket, &reached))
+        let start = start_of(&bracket, r_lo, r_hi);
+        Some(refine_from(&path, bracket, start, &reached))
     }
 }
 
 /// Whether a level that turns inside an interval of length `h` (value and
 /// rate `fa`, `ra` at its start, `fb`, `rb` at its end) surely stays on
 /// the side away from `toward`: the cubic through the ends' values and
-/// rates (Hermite) turns farther from the level than a thousandth of the
-/// level's scale over the interval, where the cubic's own error,
+/// rates ([`Hermite`]) turns farther from the level than a thousandth of
+/// the level's scale over the interval, where the cubic's own error,
 /// `h⁴·f⁗/384`, is a few millionths of it on the plant's short intervals.
 fn clear_of_level(fa: f64, ra: f64, fb: f64, rb: f64, h: f64, toward: Toward) -> bool {
-    let (ra, rb) = (h * ra, h * rb);
-    // p(s) = fa·(2s³ − 3s² + 1) + ra·(s³ − 2s² + s) + fb·(3s² − 2s³) + rb·(s³ − s²),
-    // p'(s) = A·s² + B·s + C.
-    let cubic = |s: f64| {
-        let (s2, s3) = (s * s, s * s * s);
-        fa * (2.0 * s3 - 3.0 * s2 + 1.0)
-            + ra * (s3 - 2.0 * s2 + s)
-            + fb * (3.0 * s2 - 2.0 * s3)
-            + rb * (s3 - s2)
-    };
-    let (qa, qb, qc) =
-        (6.0 * (fa - fb) + 3.0 * (ra + rb), 6.0 * (fb - fa) - 4.0 * ra - 2.0 * rb, ra);
-    let turns: [f64; 2] = if qa == 0.0 {
-        [-qc / qb, f64::NAN]
-    } else {
-        let disc = (qb * qb - 4.0 * qa * qc).max(0.0).sqrt();
-        [(-qb - disc) / (2.0 * qa), (-qb + disc) / (2.0 * qa)]
-    };
-    let margin = 1e-3 * fa.abs().max(fb.abs()).max(ra.abs()).max(rb.abs());
-    turns.into_iter().filter(|s| *s > 0.0 && *s < 1.0).all(|s| {
-        let v = cubic(s);
+    let cubic = Hermite::new(fa, ra, fb, rb, h);
+    let margin = 1e-3 * fa.abs().max(fb.abs()).max(cubic.ra.abs()).max(cubic.rb.abs());
+    cubic.turns().into_iter().filter(|s| *s > 0.0 && *s < 1.0).all(|s| {
+        let v = cubic.value(s);
         match toward {
             Toward::Above => v < -margin,
             Toward::Below => v > margin,
         }
     })
+}
+
+/// Where to start refining the crossing in `bracket`, whose ends the level
+/// leaves and reaches at rates `r_lo` and `r_hi`: the zero of the cubic
+/// through the ends' values and rates ([`Hermite`]), or the chord's when
+/// the cubic's is not inside.
+fn start_of(bracket: &Bracket, r_lo: f64, r_hi: f64) -> f64 {
+    let Bracket { lo, f_lo, hi, f_hi } = *bracket;
+    match Hermite::new(f_lo, r_lo, f_hi, r_hi, hi - lo).zero() {
+        Some(s) => lo + (hi - lo) * s,
+        None => chord_zero(bracket),
+    }
 }
 
 /// Where a level whose rate is `ra` at `a` and `rb` (of the other sign) at
