@@ -163,7 +163,7 @@ impl Interval<'_> {
         let path = self.trajectory.follow(level);
         // The bracket, with the level's rates at its ends (zero at a turn).
         let (bracket, r_lo, r_hi) = if turns {
-            let (tm, fm) = turn(&path, a, ra, b, rb);
+            let (tm, fm) = turn(&path, (a, fa, ra), (b, fb, rb));
             if !reached(fa) && reached(fm) {
                 (Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }, ra, 0.0)
             } else if !reached(fm) && reached(fb) {
@@ -211,13 +211,26 @@ fn start_of(bracket: &Bracket, r_lo: f64, r_hi: f64) -> f64 {
     }
 }
 
-/// Where a level whose rate is `ra` at `a` and `rb` (of the other sign) at
-/// `b` turns, with its value there: Newton on the rate from the rates'
-/// linear interpolation, kept inside the interval.
-pub(super) fn turn(path: &Followed<'_>, a: f64, ra: f64, b: f64, rb: f64) -> (f64, f64) {
+/// Where a level whose value and rate are `fa`, `ra` at `a` and `fb`, `rb`
+/// (a rate of the other sign) at `b` turns, with its value there: Newton
+/// on the rate from the turn of the cubic through the ends' values and
+/// rates ([`Hermite`]; the rates' linear interpolation when that turn is
+/// not inside), kept inside the interval.
+pub(super) fn turn(
+    path: &Followed<'_>,
+    (a, fa, ra): (f64, f64, f64),
+    (b, fb, rb): (f64, f64, f64),
+) -> (f64, f64) {
     let (mut lo, mut hi) = (a, b);
-    let mut t = a + (b - a) * ra / (ra - rb);
-    let mut value = path.value(t);
+    let mut t = match Hermite::new(fa, ra, fb, rb, b - a)
+        .turns()
+        .into_iter()
+        .find(|s| *s > 0.0 && *s < 1.0)
+    {
+        Some(s) => a + (b - a) * s,
+        None => a + (b - a) * ra / (ra - rb),
+    };
+    let mut value = fa;
     for _ in 0..20 {
         let [v, r, c] = path.value_rate_curvature(t);
         value = v;
