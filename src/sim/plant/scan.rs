@@ -99,17 +99,20 @@ impl Plant {
                 }
             }
         };
+        let current = |amps: f64, toward: Toward| {
+            if interval.current_may_reach(amps, toward) {
+                interval.first(&current_less(amps), toward)
+            } else {
+                None
+            }
+        };
         match self.mode {
-            Conduction::Diode => {
-                consider(interval.first(&current_less(0.0), Toward::Below), Stop::CurrentZero)
-            }
-            Conduction::HighBody => {
-                consider(interval.first(&current_less(0.0), Toward::Above), Stop::CurrentZero)
-            }
+            Conduction::Diode => consider(current(0.0, Toward::Below), Stop::CurrentZero),
+            Conduction::HighBody => consider(current(0.0, Toward::Above), Stop::CurrentZero),
             _ => {}
         }
         for (edge, toward) in self.band_edges(from.x[0]) {
-            consider(interval.first(&current_less(edge), toward), Stop::BandEdge);
+            consider(current(edge, toward), Stop::BandEdge);
         }
         if let Some(w) = watch {
             let toward = if w.rising { Toward::Above } else { Toward::Below };
@@ -145,6 +148,18 @@ struct Interval<'a> {
 }
 
 impl Interval<'_> {
+    /// Whether the inductor current may reach `amps` in the interval, by
+    /// the first test [`first`](Self::first) makes (the level past at the
+    /// end, or turning), on the current itself: most levels a scan watches
+    /// are currents far from the present one.
+    #[inline]
+    fn current_may_reach(&self, amps: f64, toward: Toward) -> bool {
+        let (fa, fb) = (self.from.x[0] - amps, self.to.x[0] - amps);
+        let (ra, rb) = (self.moving[0][0], self.moving[1][0]);
+        let turns = ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum();
+        turns || (!toward.reached(fa) && toward.reached(fb))
+    }
+
     /// The first time in the interval `level` is reached from the side
     /// away from `toward`, just past the crossing.
     fn first(&self, level: &Affine, toward: Toward) -> Option<f64> {
