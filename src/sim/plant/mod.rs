@@ -37,7 +37,7 @@ pub use energy::{EnergyLedger, Loss};
 pub use events::{Stop, Watch};
 pub use params::{CoreLoss, Environment, PlantParams, Stage};
 pub use saturation::Saturation;
-pub use scan::{Ahead, Scan};
+pub use scan::{Ahead, Event, Scan};
 
 use crate::sim::linear::{Affine, Trajectory, Vec2};
 use conduction::{output_map, Solutions};

@@ -29,9 +29,23 @@ pub struct Ahead {
 pub struct Scan {
     /// The interval's end.
     pub end: Ahead,
-    /// The first event in the interval: its time after the plant's, s,
-    /// with its kind.
-    pub event: Option<(f64, Stop)>,
+    /// The first event in the interval.
+    pub event: Option<Event>,
+}
+
+/// The first event in a scanned interval.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Event {
+    /// Its time after the plant's, s.
+    pub t: f64,
+    /// Its kind.
+    pub stop: Stop,
+    /// For the watched crossing when it is the interval's only event and
+    /// the output does not turn in the interval: what is known past it.
+    /// Up to the interval's end (given here) the output stays past the
+    /// level, so the same level watched the other way is not reached, and
+    /// no other level is.
+    pub clear_to: Option<Ahead>,
 }
 
 /// Which side of a level counts as crossed.
@@ -92,13 +106,14 @@ impl Plant {
             moving: [trajectory.rate(&from.x, from.t), trajectory.rate(&end.x, end.t)],
         };
         let mut first: Option<(f64, Stop)> = None;
-        let mut consider = |found: Option<f64>, make: fn(f64) -> Stop| {
-            if let Some(t) = found {
-                if first.is_none_or(|(f, _)| t < f) {
-                    first = Some((t, make(t)));
+        let consider =
+            |first: &mut Option<(f64, Stop)>, found: Option<f64>, make: fn(f64) -> Stop| {
+                if let Some(t) = found {
+                    if first.is_none_or(|(f, _)| t < f) {
+                        *first = Some((t, make(t)));
+                    }
                 }
-            }
-        };
+            };
         let current = |amps: f64, toward: Toward| {
             if interval.current_may_reach(amps, toward) {
                 interval.first(&current_less(amps), toward)
@@ -107,18 +122,29 @@ impl Plant {
             }
         };
         match self.mode {
-            Conduction::Diode => consider(current(0.0, Toward::Below), Stop::CurrentZero),
-            Conduction::HighBody => consider(current(0.0, Toward::Above), Stop::CurrentZero),
+            Conduction::Diode => {
+                consider(&mut first, current(0.0, Toward::Below), Stop::CurrentZero)
+            }
+            Conduction::HighBody => {
+                consider(&mut first, current(0.0, Toward::Above), Stop::CurrentZero)
+            }
             _ => {}
         }
         for (edge, toward) in self.band_edges(from.x[0]) {
-            consider(current(edge, toward), Stop::BandEdge);
+            consider(&mut first, current(edge, toward), Stop::BandEdge);
         }
+        let alone = first.is_none();
+        let mut clear_to = None;
         if let Some(w) = watch {
             let toward = if w.rising { Toward::Above } else { Toward::Below };
-            consider(interval.first(&self.output.less(w.level_v), toward), Stop::Crossing);
+            let level = self.output.less(w.level_v);
+            consider(&mut first, interval.first(&level, toward), Stop::Crossing);
+            let crossed = matches!(first, Some((_, Stop::Crossing(_))));
+            if crossed && alone && !interval.turns(&level) {
+                clear_to = Some(end);
+            }
         }
-        Scan { end, event: first }
+        Scan { end, event: first.map(|(t, stop)| Event { t, stop, clear_to }) }
     }
 
     /// The present band's edges as signed currents, with the side past
@@ -148,6 +174,13 @@ struct Interval<'a> {
 }
 
 impl Interval<'_> {
+    /// Whether `level`'s rate has opposite signs at the interval's ends
+    /// (it turns inside).
+    fn turns(&self, level: &Affine) -> bool {
+        let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
+        ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum()
+    }
+
     /// Whether the inductor current may reach `amps` in the interval, by
     /// the first test [`first`](Self::first) makes (the level past at the
     /// end, or turning), on the current itself: most levels a scan watches
@@ -168,7 +201,7 @@ impl Interval<'_> {
         let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
         let reached = |v: f64| toward.reached(v);
         let (a, b) = (self.from.t, self.to.t);
-        let turns = ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum();
+        let turns = self.turns(level);
         if !turns && (reached(fa) || !reached(fb)) {
             return None;
         }
