@@ -22,12 +22,14 @@
 //! | `energy` | the energy ledger and its loss table |
 //! | `events` | DCM zero-crossings, band edges, output levels, on the closed form |
 //! | `scan` | the first of them in an interval ahead, without moving the plant |
+//! | `interval` | one level over an interval ahead: whether, and where, it is first reached |
 //! | `hermite` | the cubic through a level's ends: turns ruled out, crossings started |
 
 mod conduction;
 mod energy;
 mod events;
 mod hermite;
+mod interval;
 mod params;
 mod saturation;
 mod scan;
@@ -330,7 +332,7 @@ impl Plant {
     ) -> Option<(f64, f64)> {
         let (r0, r1) = (self.output.rate(&rates[0]), self.output.rate(&rates[1]));
         (r0 * r1 < 0.0).then(|| {
-            scan::turn(&trajectory.follow(&self.output), (0.0, ends[0], r0), (h, ends[1], r1))
+            interval::turn(&trajectory.follow(&self.output), (0.0, ends[0], r0), (h, ends[1], r1))
         })
     }
 
