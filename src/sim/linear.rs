@@ -118,6 +118,18 @@ const TAYLOR_TERMS: usize = 14;
 /// of the demo stage (see `plant::scan`), without an exponential.
 const TAYLOR_LIMIT: f64 = 0.25;
 
+/// Terms of the Taylor series kept for the shortest steps, up to
+/// [`SHORT_LIMIT`]: the first term left out is below
+/// `(1/16)¹⁰/10! < 3e-19`.
+const SHORT_TERMS: usize = 10;
+
+/// Largest `ρ·h` evaluated with [`SHORT_TERMS`] terms: the look ahead of
+/// a scan and the refinement of a crossing inside it (see `plant::scan`).
+const SHORT_LIMIT: f64 = 1.0 / 16.0;
+
+// `estrin_short` sums five pairs.
+const _: () = assert!(SHORT_TERMS == 10 && SHORT_TERMS <= TAYLOR_TERMS);
+
 #[derive(Clone, Copy, Debug, PartialEq)]
 struct Coupled {
     s: f64,
@@ -276,7 +288,12 @@ fn taylor_coefficients(s: f64, det: f64) -> [[f64; 2]; TAYLOR_TERMS] {
 impl Coupled {
     #[inline]
     fn flow(&self, t: f64) -> Flow {
-        if self.radius * t <= TAYLOR_LIMIT {
+        let reach = self.radius * t;
+        if reach <= SHORT_LIMIT {
+            let [p, q] = estrin_short(&self.taylor, t);
+            return Flow { p, q, r: 0.0 };
+        }
+        if reach <= TAYLOR_LIMIT {
             let [p, q] = estrin(&self.taylor, t);
             return Flow { p, q, r: 0.0 };
         }
@@ -311,6 +328,19 @@ fn estrin(c: &[[f64; 2]; TAYLOR_TERMS], t: f64) -> [f64; 2] {
         let low = (a[j] + b[j] * t2) + (d[j] + e[j] * t2) * t4;
         let high = (f[j] + g[j] * t2) + h[j] * t4;
         low + high * t8
+    })
+}
+
+/// [`estrin`] on the first [`SHORT_TERMS`] coefficients: five pairs
+/// combined with `t²`, `t⁴`, `t⁸`.
+#[inline]
+fn estrin_short(c: &[[f64; 2]; TAYLOR_TERMS], t: f64) -> [f64; 2] {
+    let (t2, pair) = (t * t, |k: usize| [c[k][0] + c[k + 1][0] * t, c[k][1] + c[k + 1][1] * t]);
+    let (t4, [a, b, d, e, f]) = (t2 * t2, [pair(0), pair(2), pair(4), pair(6), pair(8)]);
+    let t8 = t4 * t4;
+    core::array::from_fn(|j| {
+        let low = (a[j] + b[j] * t2) + (d[j] + e[j] * t2) * t4;
+        low + f[j] * t8
     })
 }
 

@@ -60,7 +60,7 @@ impl<F: Firmware> Engine<F> {
         self.plant_tick >= target || {
             let to = self.ahead_to(target);
             match self.found {
-                Some((t, _)) => t > to,
+                Some(found) => found.t > to,
                 None => to <= self.scanned.t,
             }
         }
@@ -72,8 +72,8 @@ impl<F: Firmware> Engine<F> {
     fn scan_until(&mut self, mut target: u64) -> u64 {
         while self.plant_tick < target {
             let to = self.ahead_to(target);
-            let (t, stop) = match self.found {
-                Some((t, _)) if t > to => break,
+            let found = match self.found {
+                Some(found) if found.t > to => break,
                 Some(found) => found,
                 None if to <= self.scanned.t => break,
                 None => {
@@ -87,11 +87,19 @@ impl<F: Firmware> Engine<F> {
                 }
             };
             self.found = None;
-            if let Stop::Crossing(_) = stop {
+            let t = found.t;
+            if let Stop::Crossing(_) = found.stop {
                 // Nothing changes in the plant: look on from the crossing
-                // for the level the comparator watches now.
-                self.scanned = self.plant.ahead(t);
+                // for the level the comparator watches now (the same level
+                // the other way, past which the scan may have seen the
+                // interval clear).
+                let crossed = self.comparator.watch().map(|w| w.level_v);
                 self.comparator.flip();
+                let same_level = self.comparator.watch().map(|w| w.level_v) == crossed;
+                self.scanned = match found.clear_to {
+                    Some(end) if same_level => end,
+                    _ => self.plant.ahead(t),
+                };
                 self.peripherals.set_comparator(self.comparator.level);
                 self.schedule_edge_interrupt(self.t_s() + t, self.plant_tick);
                 if let Some(edge) = self.schedule.edge {
@@ -107,7 +115,7 @@ impl<F: Firmware> Engine<F> {
             self.recorder.estimate_knot(self.t_s() + t, e, e);
             self.move_plant(t);
             self.frac += t;
-            self.plant.take_event(stop);
+            self.plant.take_event(found.stop);
             self.forget_ahead();
         }
         target

@@ -70,9 +70,12 @@ impl<F: Firmware> Engine<F> {
             return None;
         }
         let at = |k: u64| self.estimate_at(self.instant_at(k));
-        let span = (b - a) as f64;
+        // Tick counts through i64: one instruction where u64 takes several,
+        // the same value (a run's ticks stay far below 2⁵³).
+        let float = |ticks: u64| ticks as i64 as f64;
+        let span = float(b - a);
         let m = a + (b - a) / 2;
-        let chord = e_a + (e_b - e_a) * ((m - a) as f64 / span);
+        let chord = e_a + (e_b - e_a) * (float(m - a) / span);
         if (at(m) - chord).abs() <= STRAIGHT_WITHIN_A {
             return None;
         }
@@ -82,6 +85,6 @@ impl<F: Firmware> Engine<F> {
         }
         // e_a + s_a·k = e_b + s_b·(k − span), k ticks after a.
         let k = (e_b - e_a - s_b * span) / (s_a - s_b);
-        (k > 0.0 && k < span).then_some(((a as f64 + k) * self.tick_s, e_a + s_a * k))
+        (k > 0.0 && k < span).then_some(((float(a) + k) * self.tick_s, e_a + s_a * k))
     }
 }

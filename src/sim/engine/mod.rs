@@ -34,7 +34,7 @@ use super::firmware::Firmware;
 use super::hardware::{sensed_input_channel, sensed_output_channel, true_clock_hz};
 use super::mcu::{Adc, Comparator, ComparatorSource};
 use super::peripherals::Peripherals;
-use super::plant::{Ahead, EnergyLedger, Plant, Stage, Stop};
+use super::plant::{Ahead, EnergyLedger, Event, Plant, Stage};
 use super::profile::Profile;
 use super::record::Recorder;
 use super::run_control::{RunControl, CHECK_EVERY};
@@ -129,9 +129,9 @@ struct Engine<F> {
     /// How far ahead of the plant it has been scanned for events, and its
     /// state there.
     scanned: Ahead,
-    /// The first event ahead of the plant a scan found beyond `scanned`
-    /// (its time after the plant's, s), not yet reached.
-    found: Option<(f64, Stop)>,
+    /// The first event ahead of the plant a scan found beyond `scanned`,
+    /// not yet reached.
+    found: Option<Event>,
     /// The DAC code the comparator's level was last settled for.
     synced_dac: Option<u16>,
     /// The firmware's estimate at this tick was given to the recorder.

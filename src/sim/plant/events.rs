@@ -138,8 +138,25 @@ pub(super) struct Bracket {
 /// inside the bracket, to within 1e-15 s; the result lies just past the
 /// crossing (`crossed` holds there).
 pub(super) fn refine(path: &Followed<'_>, bracket: Bracket, crossed: &impl Fn(f64) -> bool) -> f64 {
-    let Bracket { mut lo, f_lo, mut hi, f_hi } = bracket;
-    let mut t = lo + (hi - lo) * f_lo / (f_lo - f_hi);
+    let start = chord_zero(&bracket);
+    refine_from(path, bracket, start, crossed)
+}
+
+/// Where the chord across `bracket` crosses zero (regula falsi).
+pub(super) fn chord_zero(bracket: &Bracket) -> f64 {
+    let Bracket { lo, f_lo, hi, f_hi } = *bracket;
+    lo + (hi - lo) * f_lo / (f_lo - f_hi)
+}
+
+/// [`refine`] from `start`, a time inside the bracket.
+pub(super) fn refine_from(
+    path: &Followed<'_>,
+    bracket: Bracket,
+    start: f64,
+    crossed: &impl Fn(f64) -> bool,
+) -> f64 {
+    let Bracket { mut lo, mut hi, .. } = bracket;
+    let mut t = start;
     for _ in 0..60 {
         let (fv, dfv) = path.value_and_rate(t);
         if crossed(fv) {

@@ -22,10 +22,14 @@
 //! | `energy` | the energy ledger and its loss table |
 //! | `events` | DCM zero-crossings, band edges, output levels, on the closed form |
 //! | `scan` | the first of them in an interval ahead, without moving the plant |
+//! | `interval` | one level over an interval ahead: whether, and where, it is first reached |
+//! | `hermite` | the cubic through a level's ends: turns ruled out, crossings started |
 
 mod conduction;
 mod energy;
 mod events;
+mod hermite;
+mod interval;
 mod params;
 mod saturation;
 mod scan;
@@ -35,7 +39,7 @@ pub use energy::{EnergyLedger, Loss};
 pub use events::{Stop, Watch};
 pub use params::{CoreLoss, Environment, PlantParams, Stage};
 pub use saturation::Saturation;
-pub use scan::{Ahead, Scan};
+pub use scan::{Ahead, Event, Scan};
 
 use crate::sim::linear::{Affine, Trajectory, Vec2};
 use conduction::{output_map, Solutions};
@@ -301,13 +305,13 @@ impl Plant {
             // energies' end corrections alike.
             let rates =
                 [solution.system().rate(&x0, tau0), solution.system().rate(&end, tau0 + step)];
-            let vo_turn = self.output_turn(&trajectory, step, &rates);
-            self.accumulate_corrected(step, [&x0, &mid, &end], &rates);
             let vo = [
                 self.output.value(&x0, tau0),
                 self.output.value(&mid, tau0 + 0.5 * step),
                 self.output.value(&end, tau0 + step),
             ];
+            let vo_turn = self.output_turn(&trajectory, step, [vo[0], vo[2]], &rates);
+            self.accumulate_corrected(step, [&x0, &mid, &end], &rates);
             record(&Panel { tau0, h: step, states: [x0, mid, end], vo, vo_turn });
             self.x = end;
             self.tau += step;
@@ -315,17 +319,21 @@ impl Plant {
         }
     }
 
-    /// Where the output turns on `trajectory` over `h`, the state's
-    /// `rates` at its start and end, when the output's rate has opposite
-    /// signs at the two: time after the start, s, and value, V.
+    /// Where the output turns on `trajectory` over `h` (its values `ends`
+    /// and the state's `rates` at its start and end), when the output's
+    /// rate has opposite signs at the two: time after the start, s, and
+    /// value, V.
     fn output_turn(
         &self,
         trajectory: &Trajectory<'_>,
         h: f64,
+        ends: [f64; 2],
         rates: &[Vec2; 2],
     ) -> Option<(f64, f64)> {
         let (r0, r1) = (self.output.rate(&rates[0]), self.output.rate(&rates[1]));
-        (r0 * r1 < 0.0).then(|| scan::turn(&trajectory.follow(&self.output), 0.0, r0, h, r1))
+        (r0 * r1 < 0.0).then(|| {
+            interval::turn(&trajectory.follow(&self.output), (0.0, ends[0], r0), (h, ends[1], r1))
+        })
     }
 
     /// Act on an event [`scan`](Self::scan) found, once the plant has been

@@ -4,15 +4,14 @@
 //!
 //! The event loop scans each interval between its events, so an event is
 //! known before anything after it happens, and moves the plant only where
-//! it is changed or an event falls. A level is crossed in an interval when
-//! it is past the level at the interval's end, or when it turns inside the
-//! interval (its rate changes sign) and is past the level at the turn: a
-//! level that crosses and comes back within one interval is found too.
+//! it is changed or an event falls. Each level is tested over the interval
+//! by [`super::interval`].
 
 use super::conduction::Conduction;
-use super::events::{current_less, refine, Bracket, Stop, Watch};
+use super::events::{current_less, Stop, Watch};
+use super::interval::{Interval, Toward};
 use super::Plant;
-use crate::sim::linear::{Affine, Followed, Trajectory, Vec2};
+use crate::sim::linear::Vec2;
 
 /// A point ahead of the plant: its time (s after the plant's) and state.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -28,27 +27,23 @@ pub struct Ahead {
 pub struct Scan {
     /// The interval's end.
     pub end: Ahead,
-    /// The first event in the interval: its time after the plant's, s,
-    /// with its kind.
-    pub event: Option<(f64, Stop)>,
+    /// The first event in the interval.
+    pub event: Option<Event>,
 }
 
-/// Which side of a level counts as crossed.
+/// The first event in a scanned interval.
 #[derive(Clone, Copy, Debug, PartialEq)]
-enum Toward {
-    /// At or above the level.
-    Above,
-    /// At or below it.
-    Below,
-}
-
-impl Toward {
-    fn reached(self, v: f64) -> bool {
-        match self {
-            Toward::Above => v >= 0.0,
-            Toward::Below => v <= 0.0,
-        }
-    }
+pub struct Event {
+    /// Its time after the plant's, s.
+    pub t: f64,
+    /// Its kind.
+    pub stop: Stop,
+    /// For the watched crossing when it is the interval's only event and
+    /// the output does not turn in the interval: what is known past it.
+    /// Up to the interval's end (given here) the output stays past the
+    /// level, so the same level watched the other way is not reached, and
+    /// no other level is.
+    pub clear_to: Option<Ahead>,
 }
 
 /// How far ahead of the plant one scan looks at most, as a fraction of the
@@ -57,7 +52,7 @@ impl Toward {
 /// beyond the next one costs no second scan, and a step this short keeps
 /// to the flow's power series. The Hermite cubic that rules out a turn back
 /// to a level errs by about `(ρ·h)⁴/384` of the level's scale, well inside
-/// the margin of [`clear_of_level`].
+/// the margin `super::interval` rules out a turn with.
 pub const LOOKAHEAD_OF_FASTEST: f64 = 1.0 / 16.0;
 
 /// The longest look ahead, s, for a plant without a fast response (an idle
@@ -91,30 +86,45 @@ impl Plant {
             moving: [trajectory.rate(&from.x, from.t), trajectory.rate(&end.x, end.t)],
         };
         let mut first: Option<(f64, Stop)> = None;
-        let mut consider = |found: Option<f64>, make: fn(f64) -> Stop| {
-            if let Some(t) = found {
-                if first.is_none_or(|(f, _)| t < f) {
-                    first = Some((t, make(t)));
+        let consider =
+            |first: &mut Option<(f64, Stop)>, found: Option<f64>, make: fn(f64) -> Stop| {
+                if let Some(t) = found {
+                    if first.is_none_or(|(f, _)| t < f) {
+                        *first = Some((t, make(t)));
+                    }
                 }
+            };
+        let current = |amps: f64, toward: Toward| {
+            if interval.current_may_reach(amps, toward) {
+                interval.first(&current_less(amps), toward)
+            } else {
+                None
             }
         };
         match self.mode {
             Conduction::Diode => {
-                consider(interval.first(&current_less(0.0), Toward::Below), Stop::CurrentZero)
+                consider(&mut first, current(0.0, Toward::Below), Stop::CurrentZero)
             }
             Conduction::HighBody => {
-                consider(interval.first(&current_less(0.0), Toward::Above), Stop::CurrentZero)
+                consider(&mut first, current(0.0, Toward::Above), Stop::CurrentZero)
             }
             _ => {}
         }
         for (edge, toward) in self.band_edges(from.x[0]) {
-            consider(interval.first(&current_less(edge), toward), Stop::BandEdge);
+            consider(&mut first, current(edge, toward), Stop::BandEdge);
         }
+        let alone = first.is_none();
+        let mut clear_to = None;
         if let Some(w) = watch {
             let toward = if w.rising { Toward::Above } else { Toward::Below };
-            consider(interval.first(&self.output.less(w.level_v), toward), Stop::Crossing);
+            let level = self.output.less(w.level_v);
+            consider(&mut first, interval.first(&level, toward), Stop::Crossing);
+            let crossed = matches!(first, Some((_, Stop::Crossing(_))));
+            if crossed && alone && !interval.turns(&level) {
+                clear_to = Some(end);
+            }
         }
-        Scan { end, event: first }
+        Scan { end, event: first.map(|(t, stop)| Event { t, stop, clear_to }) }
     }
 
     /// The present band's edges as signed currents, with the side past
@@ -129,112 +139,4 @@ impl Plant {
             .into_iter()
             .filter(move |&(edge, _)| saturating && edge.is_finite())
     }
-}
-
-/// An interval ahead of the plant on its present trajectory.
-struct Interval<'a> {
-    trajectory: &'a Trajectory<'a>,
-    /// The plant's `τ`.
-    tau: f64,
-    from: Ahead,
-    to: Ahead,
-    /// The state's rates at `from` and `to` (each level's rate there is
-    /// its map of them).
-    moving: [Vec2; 2],
-}
-
-impl Interval<'_> {
-    /// The first time in the interval `level` is reached from the side
-    /// away from `toward`, just past the crossing.
-    fn first(&self, level: &Affine, toward: Toward) -> Option<f64> {
-        let value = |p: &Ahead| level.value(&p.x, self.tau + p.t);
-        let (fa, fb) = (value(&self.from), value(&self.to));
-        let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
-        let reached = |v: f64| toward.reached(v);
-        let (a, b) = (self.from.t, self.to.t);
-        let turns = ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum();
-        if !turns && (reached(fa) || !reached(fb)) {
-            return None;
-        }
-        if turns && !reached(fb) && clear_of_level(fa, ra, fb, rb, b - a, toward) {
-            return None;
-        }
-        let path = self.trajectory.follow(level);
-        let bracket = if turns {
-            let (tm, fm) = turn(&path, a, ra, b, rb);
-            if !reached(fa) && reached(fm) {
-                Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }
-            } else if !reached(fm) && reached(fb) {
-                Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }
-            } else {
-                return None;
-            }
-        } else if !reached(fa) && reached(fb) {
-            Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }
-        } else {
-            return None;
-        };
-        Some(refine(&path, bracket, &reached))
-    }
-}
-
-/// Whether a level that turns inside an interval of length `h` (value and
-/// rate `fa`, `ra` at its start, `fb`, `rb` at its end) surely stays on
-/// the side away from `toward`: the cubic through the ends' values and
-/// rates (Hermite) turns farther from the level than a thousandth of the
-/// level's scale over the interval, where the cubic's own error,
-/// `h⁴·f⁗/384`, is a few millionths of it on the plant's short intervals.
-fn clear_of_level(fa: f64, ra: f64, fb: f64, rb: f64, h: f64, toward: Toward) -> bool {
-    let (ra, rb) = (h * ra, h * rb);
-    // p(s) = fa·(2s³ − 3s² + 1) + ra·(s³ − 2s² + s) + fb·(3s² − 2s³) + rb·(s³ − s²),
-    // p'(s) = A·s² + B·s + C.
-    let cubic = |s: f64| {
-        let (s2, s3) = (s * s, s * s * s);
-        fa * (2.0 * s3 - 3.0 * s2 + 1.0)
-            + ra * (s3 - 2.0 * s2 + s)
-            + fb * (3.0 * s2 - 2.0 * s3)
-            + rb * (s3 - s2)
-    };
-    let (qa, qb, qc) =
-        (6.0 * (fa - fb) + 3.0 * (ra + rb), 6.0 * (fb - fa) - 4.0 * ra - 2.0 * rb, ra);
-    let turns: [f64; 2] = if qa == 0.0 {
-        [-qc / qb, f64::NAN]
-    } else {
-        let disc = (qb * qb - 4.0 * qa * qc).max(0.0).sqrt();
-        [(-qb - disc) / (2.0 * qa), (-qb + disc) / (2.0 * qa)]
-    };
-    let margin = 1e-3 * fa.abs().max(fb.abs()).max(ra.abs()).max(rb.abs());
-    turns.into_iter().filter(|s| *s > 0.0 && *s < 1.0).all(|s| {
-        let v = cubic(s);
-        match toward {
-            Toward::Above => v < -margin,
-            Toward::Below => v > margin,
-        }
-    })
-}
-
-/// Where a level whose rate is `ra` at `a` and `rb` (of the other sign) at
-/// `b` turns, with its value there: Newton on the rate from the rates'
-/// linear interpolation, kept inside the interval.
-pub(super) fn turn(path: &Followed<'_>, a: f64, ra: f64, b: f64, rb: f64) -> (f64, f64) {
-    let (mut lo, mut hi) = (a, b);
-    let mut t = a + (b - a) * ra / (ra - rb);
-    let mut value = path.value(t);
-    for _ in 0..20 {
-        let [v, r, c] = path.value_rate_curvature(t);
-        value = v;
-        if r.signum() == ra.signum() {
-            lo = t;
-        } else {
-            hi = t;
-        }
-        let step = r / c;
-        // The value is flat at the turn: a nanosecond is plenty.
-        if step.abs() < 1e-12 || hi - lo < 1e-12 {
-            break;
-        }
-        let newton = t - step;
-        t = if c != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
-    }
-    (t, value)
 }

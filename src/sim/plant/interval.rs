@@ -1,0 +1,170 @@
+//! A level over an interval ahead of the plant: whether and where it is
+//! first reached, on the closed form, from its values and rates at the
+//! interval's ends.
+//!
+//! A level is crossed in an interval when it is past the level at the
+//! interval's end, or when it turns inside the interval (its rate changes
+//! sign) and is past the level at the turn: a level that crosses and comes
+//! back within one interval is found too. A turn the cubic through the
+//! ends ([`Hermite`]) keeps clear of the level is ruled out without the
+//! closed form.
+
+use super::events::{chord_zero, refine_from, Bracket};
+use super::hermite::Hermite;
+use super::scan::Ahead;
+use crate::sim::linear::{Affine, Followed, Trajectory, Vec2};
+
+/// Which side of a level counts as crossed.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(super) enum Toward {
+    /// At or above the level.
+    Above,
+    /// At or below it.
+    Below,
+}
+
+impl Toward {
+    pub(super) fn reached(self, v: f64) -> bool {
+        match self {
+            Toward::Above => v >= 0.0,
+            Toward::Below => v <= 0.0,
+        }
+    }
+}
+
+/// An interval ahead of the plant on its present trajectory.
+pub(super) struct Interval<'a> {
+    pub trajectory: &'a Trajectory<'a>,
+    /// The plant's `τ`.
+    pub tau: f64,
+    pub from: Ahead,
+    pub to: Ahead,
+    /// The state's rates at `from` and `to` (each level's rate there is
+    /// its map of them).
+    pub moving: [Vec2; 2],
+}
+
+impl Interval<'_> {
+    /// Whether `level`'s rate has opposite signs at the interval's ends
+    /// (it turns inside).
+    pub fn turns(&self, level: &Affine) -> bool {
+        let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
+        ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum()
+    }
+
+    /// Whether the inductor current may reach `amps` in the interval, by
+    /// the first test [`first`](Self::first) makes (the level past at the
+    /// end, or turning), on the current itself: most levels a scan watches
+    /// are currents far from the present one.
+    #[inline]
+    pub fn current_may_reach(&self, amps: f64, toward: Toward) -> bool {
+        let (fa, fb) = (self.from.x[0] - amps, self.to.x[0] - amps);
+        let (ra, rb) = (self.moving[0][0], self.moving[1][0]);
+        let turns = ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum();
+        turns || (!toward.reached(fa) && toward.reached(fb))
+    }
+
+    /// The first time in the interval `level` is reached from the side
+    /// away from `toward`, just past the crossing.
+    pub fn first(&self, level: &Affine, toward: Toward) -> Option<f64> {
+        let value = |p: &Ahead| level.value(&p.x, self.tau + p.t);
+        let (fa, fb) = (value(&self.from), value(&self.to));
+        let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
+        let reached = |v: f64| toward.reached(v);
+        let (a, b) = (self.from.t, self.to.t);
+        let turns = self.turns(level);
+        if !turns && (reached(fa) || !reached(fb)) {
+            return None;
+        }
+        if turns && !reached(fb) && clear_of_level(fa, ra, fb, rb, b - a, toward) {
+            return None;
+        }
+        let path = self.trajectory.follow(level);
+        // The bracket, with the level's rates at its ends (zero at a turn).
+        let (bracket, r_lo, r_hi) = if turns {
+            let (tm, fm) = turn(&path, (a, fa, ra), (b, fb, rb));
+            if !reached(fa) && reached(fm) {
+                (Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }, ra, 0.0)
+            } else if !reached(fm) && reached(fb) {
+                (Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }, 0.0, rb)
+            } else {
+                return None;
+            }
+        } else if !reached(fa) && reached(fb) {
+            (Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }, ra, rb)
+        } else {
+            return None;
+        };
+        let start = start_of(&bracket, r_lo, r_hi);
+        Some(refine_from(&path, bracket, start, &reached))
+    }
+}
+
+/// Whether a level that turns inside an interval of length `h` (value and
+/// rate `fa`, `ra` at its start, `fb`, `rb` at its end) surely stays on
+/// the side away from `toward`: the cubic through the ends' values and
+/// rates ([`Hermite`]) turns farther from the level than a thousandth of
+/// the level's scale over the interval, where the cubic's own error,
+/// `h⁴·f⁗/384`, is a few millionths of it on the plant's short intervals.
+fn clear_of_level(fa: f64, ra: f64, fb: f64, rb: f64, h: f64, toward: Toward) -> bool {
+    let cubic = Hermite::new(fa, ra, fb, rb, h);
+    let margin = 1e-3 * fa.abs().max(fb.abs()).max(cubic.ra.abs()).max(cubic.rb.abs());
+    cubic.turns().into_iter().filter(|s| *s > 0.0 && *s < 1.0).all(|s| {
+        let v = cubic.value(s);
+        match toward {
+            Toward::Above => v < -margin,
+            Toward::Below => v > margin,
+        }
+    })
+}
+
+/// Where to start refining the crossing in `bracket`, whose ends the level
+/// leaves and reaches at rates `r_lo` and `r_hi`: the zero of the cubic
+/// through the ends' values and rates ([`Hermite`]), or the chord's when
+/// the cubic's is not inside.
+fn start_of(bracket: &Bracket, r_lo: f64, r_hi: f64) -> f64 {
+    let Bracket { lo, f_lo, hi, f_hi } = *bracket;
+    match Hermite::new(f_lo, r_lo, f_hi, r_hi, hi - lo).zero() {
+        Some(s) => lo + (hi - lo) * s,
+        None => chord_zero(bracket),
+    }
+}
+
+/// Where a level whose value and rate are `fa`, `ra` at `a` and `fb`, `rb`
+/// (a rate of the other sign) at `b` turns, with its value there: Newton
+/// on the rate from the turn of the cubic through the ends' values and
+/// rates ([`Hermite`]; the rates' linear interpolation when that turn is
+/// not inside), kept inside the interval.
+pub(super) fn turn(
+    path: &Followed<'_>,
+    (a, fa, ra): (f64, f64, f64),
+    (b, fb, rb): (f64, f64, f64),
+) -> (f64, f64) {
+    let (mut lo, mut hi) = (a, b);
+    let mut t = match Hermite::new(fa, ra, fb, rb, b - a)
+        .turns()
+        .into_iter()
+        .find(|s| *s > 0.0 && *s < 1.0)
+    {
+        Some(s) => a + (b - a) * s,
+        None => a + (b - a) * ra / (ra - rb),
+    };
+    let mut value = fa;
+    for _ in 0..20 {
+        let [v, r, c] = path.value_rate_curvature(t);
+        value = v;
+        if r.signum() == ra.signum() {
+            lo = t;
+        } else {
+            hi = t;
+        }
+        let step = r / c;
+        // The value is flat at the turn: a nanosecond is plenty.
+        if step.abs() < 1e-12 || hi - lo < 1e-12 {
+            break;
+        }
+        let newton = t - step;
+        t = if c != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
+    }
+    (t, value)
+}
