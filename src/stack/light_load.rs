@@ -123,9 +123,8 @@ impl PulseSizer {
     /// with; `output` is the window's output mean (code × 2¹⁶, kept for the
     /// first window of regulation), `span` the share of the setpoint the
     /// start covers (a start from a pre-biased output charges less).
-    /// Without a law that reports cut pulses
-    /// both are the limit; a window of fewer than two cycles changes
-    /// nothing.
+    /// Without a law that reports cut pulses both are the limit; a window
+    /// of fewer than two cycles changes nothing.
     pub fn size_start(
         &mut self,
         w: &Phases,
