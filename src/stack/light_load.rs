@@ -61,7 +61,7 @@
 
 use crate::estimate::{Amps, Phases};
 use crate::law::LockState;
-use crate::units::{clamp_i32, ratio, scale, sqrt_fraction, Fraction};
+use crate::units::{ratio, scale, sqrt_fraction, Fraction};
 
 /// The adaptation's state.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -165,11 +165,7 @@ impl PulseSizer {
     /// the load from the charge: the current estimated low, or the output
     /// capacitance above its configured value).
     fn load_share(&self, w: &Phases, f: u64, target: u32, charge: Amps) -> Option<u32> {
-        // The current's mean over the window: the conducting time's share
-        // times the mean of its ramps (the valley is 0 in DCM).
-        let conducting = i64::from(w.duty) + i64::from(w.off_fraction);
-        let ends = i64::from(w.peak.to_bits()) + i64::from(w.valley.to_bits());
-        let mean = Amps::from_bits(clamp_i32((ends * conducting) >> 17)).max(Amps::from_bits(1));
+        let mean = w.average().max(Amps::from_bits(1));
         if mean <= charge {
             return None;
         }
