@@ -2,7 +2,7 @@
 //! share of time in slow periods against the ESR-dominated hysteretic
 //! loop's closed-form frequency.
 
-mod common;
+use crate::common;
 
 use common::open_window;
 use common::plants::near_ideal;

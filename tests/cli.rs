@@ -1,7 +1,7 @@
 //! The `ripplectl` program: exit codes, error lines, the JSON contract and
 //! output files.
 
-mod common;
+use crate::common;
 
 use common::program::{assert_one_line_error, default_toml, ripplectl};
 use std::process::Command;

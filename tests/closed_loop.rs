@@ -1,6 +1,6 @@
 //! The closed loop: the crate's own firmware objects against the plant.
 
-mod common;
+use crate::common;
 
 use common::open_window;
 use common::plants::near_ideal;

@@ -6,7 +6,7 @@
 //! line is counted here from the text the test wrote, not by the program's
 //! key search.
 
-mod common;
+use crate::common;
 
 use common::program::{assert_one_line_error, default_toml};
 

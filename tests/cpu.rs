@@ -10,7 +10,7 @@
 //! declaring its firmware's costs is charged the counts `tests/target/
 //! run.sh` measured on that core (checked here for RV32).
 
-mod common;
+use crate::common;
 
 use common::open_window;
 use common::plants::near_ideal;

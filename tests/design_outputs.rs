@@ -4,7 +4,7 @@
 //! exactly the stack the simulator builds from the scenario; a refused
 //! input names its option.
 
-mod common;
+use crate::common;
 
 use common::program::ripplectl;
 use ripplectl::sim::build::{self, ScenarioLaw};

@@ -3,8 +3,8 @@
 //! filter's transfer from cascaded two-port (ABCD) matrices, the CISPR 32
 //! limit values, and ngspice's AC analysis of the same input network.
 
+use crate::common;
 use realfft::num_complex::Complex64;
-mod common;
 
 use common::tools::ngspice_available;
 use ripplectl::sim::emission::network::{lisn_impedance, LISN_L_H, LISN_R_OHM};

@@ -10,7 +10,7 @@
 //! skipped with a message, unless `RIPPLECTL_REQUIRE_SCIPY` is set (CI sets
 //! it), when it fails.
 
-mod common;
+use crate::common;
 
 use common::tools;
 use std::path::{Path, PathBuf};

@@ -9,7 +9,7 @@
 //! A peak bound relative to the peak itself could not hold in DCM: there
 //! the estimated pulse scales as 1/L, so a 10 % low L is an 11 % high peak.
 
-mod common;
+use crate::common;
 
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::{self, Summary};

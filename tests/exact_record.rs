@@ -17,7 +17,7 @@
 //! ripple 1.2 % low, estimate error 154 mA rms against 225 mA, overshoots
 //! 3.4–4.5 % low, against such a refined run.
 
-mod common;
+use crate::common;
 
 use ripplectl::sim::{self, RunControl, Scenario, Summary};
 

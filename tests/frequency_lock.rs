@@ -4,7 +4,7 @@
 //! edges, a Cortex-M4's handler times charged) over the input and load
 //! range, down to 2.5 % of the rated load.
 
-mod common;
+use crate::common;
 
 use common::cases;
 use proptest::prelude::*;

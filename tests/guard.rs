@@ -1,7 +1,7 @@
 //! Frequency-window guard: gate timing limits hold for any command sequence,
 //! across timer wrap-around, and decisions agree with the f64 oracle.
 
-mod common;
+use crate::common;
 
 use common::{cases, Harness};
 use proptest::prelude::*;

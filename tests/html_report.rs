@@ -10,7 +10,7 @@
 //! skipped with a message, unless `RIPPLECTL_REQUIRE_BROWSER` is set (CI
 //! sets it), when they fail.
 
-mod common;
+use crate::common;
 
 use common::tools;
 use std::path::Path;

@@ -1,6 +1,6 @@
 //! Hysteretic law: fixed-point decisions against the f64 oracle.
 
-mod common;
+use crate::common;
 
 use common::{cases, ideal_adc};
 use proptest::prelude::*;

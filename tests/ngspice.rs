@@ -5,7 +5,7 @@
 //! Without ngspice on the PATH the checks are skipped with a message, unless
 //! `RIPPLECTL_REQUIRE_NGSPICE` is set (CI sets it), when they fail.
 
-mod common;
+use crate::common;
 
 use common::plants::near_ideal;
 use common::tools::ngspice_available;

@@ -1,7 +1,7 @@
 //! Constant on-time law: fixed point against the f64 oracle; feed-forward,
 //! frequency trim and DC correction.
 
-mod common;
+use crate::common;
 
 use common::{cases, ideal_adc};
 use proptest::prelude::*;

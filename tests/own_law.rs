@@ -15,7 +15,7 @@
 #[path = "../examples/own_law.rs"]
 mod own_law;
 
-mod common;
+use crate::common;
 
 use ripplectl::sim::scenario::LawParams;
 use ripplectl::sim::{self, sweep::operating_point, Scenario, Summary};

@@ -5,7 +5,7 @@
 //! balance, inductor and capacitor ripple), ch. 3 (buck with inductor
 //! winding resistance), ch. 5 (DCM conversion ratio).
 
-mod common;
+use crate::common;
 
 use common::plants::near_ideal;
 use ripplectl::sim::open_loop::{applied_duty, run_fixed_duty, FixedDuty};

@@ -1,6 +1,6 @@
 //! Protections in closed loop: the firmware's supervisor against the plant.
 
-mod common;
+use crate::common;
 
 use ripplectl::sim::profile::{InputProfile, Load, LoadChange};
 use ripplectl::sim::{self, RunOutput, Scenario};

@@ -1,7 +1,7 @@
 //! What a new user meets: the report's figures where the converter is not
 //! regulating, refused nonsense, file modes, progress and interruption.
 
-mod common;
+use crate::common;
 
 use common::program::{default_toml, ripplectl};
 use ripplectl::sim::{self, Scenario, Summary};

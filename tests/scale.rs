@@ -5,7 +5,7 @@
 //! N-bit ADC has 1 LSB = FS / 2^N, code k stands for k·LSB, and the largest
 //! code 2^N − 1 stands for FS − 1 LSB.
 
-mod common;
+use crate::common;
 
 use proptest::prelude::*;
 use ripplectl::{AdcChannel, ConfigError, ErrorKind, TimerClock};

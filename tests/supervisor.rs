@@ -1,6 +1,6 @@
 //! Supervisor properties over arbitrary inputs.
 
-mod common;
+use crate::common;
 
 use common::cases;
 use proptest::prelude::*;

@@ -2,7 +2,7 @@
 //! interval covers a yield known by other means, thread counts do not
 //! change a result, and a failing run's file reproduces it.
 
-mod common;
+use crate::common;
 
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::tolerance::criteria::{Criteria, Figures};

@@ -1,7 +1,7 @@
 //! Transient figures against a case with a closed form: a current-load step
 //! on the ESR-dominated hysteretic loop.
 
-mod common;
+use crate::common;
 
 use common::open_window;
 use common::plants::near_ideal;
