@@ -13,7 +13,7 @@
 //! common practice.
 
 #[path = "../examples/own_law.rs"]
-mod own_law;
+mod example;
 
 use crate::common;
 
@@ -34,8 +34,8 @@ fn inside_the_window(s: &Summary, sc: &Scenario, what: &str) {
 #[test]
 fn own_law_lifts_the_light_load_frequency_and_keeps_the_window() {
     for vin in [18.0, 24.0, 32.0] {
-        let sc = own_law::light_load(&common::sampled_fixture(), vin);
-        let own = own_law::run(&sc).unwrap();
+        let sc = example::light_load(&common::sampled_fixture(), vin);
+        let own = example::run(&sc).unwrap();
         let plain = Summary::of(&sim::run(&sc).unwrap(), &sc.name, 0.0);
         eprintln!(
             "{vin} V, 100 mA: own law {:.1} kHz mean (min {:.1}), fixed band {:.1} kHz",
@@ -56,7 +56,7 @@ fn own_law_keeps_its_wide_band_at_full_load() {
     if let LawParams::Hysteretic { lock_hz, .. } = &mut sc.control.law {
         *lock_hz = None;
     }
-    let own = own_law::run(&sc).unwrap();
+    let own = example::run(&sc).unwrap();
     let plain = Summary::of(&sim::run(&sc).unwrap(), &sc.name, 0.0);
     inside_the_window(&own, &sc, "24 V full load");
     // The same 40 mV band as the crate's law: the same frequency, within
