@@ -48,6 +48,9 @@ fn not_positive() {
         "firmware.protection.current_limit_a",
         "must be positive",
     );
+    // The capacitance the firmware is configured with, apart from the plant's.
+    let text = default_toml().replace("[firmware]\n", "[firmware]\nc_f = 0.0\n");
+    refused_at(&text, "c_f = 0.0", "firmware.c_f", "must be a positive number");
 }
 
 #[test]
@@ -125,4 +128,8 @@ fn ripple_too_small() {
         .flat_map(|l| [l, "\n"])
         .collect();
     refused_at(&without, "esr_ohm", "plant.esr_ohm", "too little ripple");
+    // The check is on what the firmware is configured with: its own ESR
+    // when the scenario gives one, named on that key.
+    let firmware_esr = without.replace("[firmware]\n", "[firmware]\nesr_ohm = 0.002\n");
+    refused_at(&firmware_esr, "esr_ohm = 0.002", "firmware.esr_ohm", "too little ripple");
 }

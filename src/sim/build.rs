@@ -41,7 +41,11 @@ pub fn scenario_key(sc: &Scenario, parameter: &str) -> String {
                 .replace("plant.r_low_ohm", "plant.stage.r_on_low_ohm")
         }
         "off_r_ohm" => return format!("{model}.diode_rd_ohm"),
-        "esr_ohm" | "t_rise_s" | "t_fall_s" | "gate_charge_c" | "gate_drive_v" => "plant",
+        "esr_ohm" if sc.firmware.esr_ohm.is_some() => "firmware",
+        "t_rise_s" | "t_fall_s" | "gate_charge_c" | "gate_drive_v" | "esr_ohm" => "plant",
+        "c_f" | "output_capacitance_f" if sc.firmware.c_f.is_some() => {
+            return "firmware.c_f".into()
+        }
         "c_f" | "output_capacitance_f" => return "plant.c_f".into(),
         p if p.starts_with("core.") => "plant",
         "housekeeping_hz" | "observer_bandwidth_hz" => "firmware",
@@ -83,8 +87,8 @@ pub fn input_channel(mcu: &McuParams) -> Result<AdcChannel, ConfigError> {
         })
 }
 
-/// The loss model's parameters: the firmware's model of the stage, the
-/// plant's capacitor, transitions, gate charge and core.
+/// The loss model's parameters: the firmware's model of the stage and of
+/// its capacitor's ESR, the plant's transitions, gate charge and core.
 fn losses(sc: &Scenario) -> LossConfig {
     let (model, p) = (sc.firmware_model(), &sc.plant);
     LossConfig {
@@ -93,7 +97,7 @@ fn losses(sc: &Scenario) -> LossConfig {
         dcr_ohm: model.dcr_ohm,
         diode_vf_v: model.freewheel_v(),
         off_r_ohm: model.r_low_ohm.unwrap_or(model.diode_rd_ohm),
-        esr_ohm: p.esr_ohm as f32,
+        esr_ohm: sc.firmware_esr_ohm() as f32,
         t_rise_s: p.t_rise_s as f32,
         t_fall_s: p.t_fall_s as f32,
         gate_charge_c: p.gate_charge_c as f32,
@@ -132,7 +136,7 @@ pub fn stack_config(sc: &Scenario) -> Result<StackConfig, ScenarioError> {
         slow: SlowPathConfig {
             housekeeping_hz: sc.firmware.housekeeping_hz as f32,
             observer_bandwidth_hz: sc.firmware.observer_bandwidth_hz.map(|b| b as f32),
-            output_capacitance_f: sc.plant.c_f as f32,
+            output_capacitance_f: sc.firmware_c_f() as f32,
             dc_correction: sc.control.dc_correction,
             losses: losses(sc),
         },
@@ -222,7 +226,7 @@ fn on_time(sc: &Scenario, adc: &AdcChannel, clock: &TimerClock) -> Result<OnTime
         }
     }
     if !skip_stability_check {
-        law.check_ripple(sc.plant.esr_ohm as f32, sc.plant.c_f as f32, on_time_s)?;
+        law.check_ripple(sc.firmware_esr_ohm() as f32, sc.firmware_c_f() as f32, on_time_s)?;
     }
     Ok(law)
 }

@@ -100,6 +100,14 @@ pub struct FirmwareParams {
     /// The estimator's model of the stage; omitted: the plant's own values.
     #[serde(default)]
     pub model: Option<InductorModel>,
+    /// The output capacitance the firmware is configured with (its charge
+    /// current and light-load start sizing), F; omitted: `plant.c_f`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub c_f: Option<f64>,
+    /// The output capacitor's ESR the firmware is configured with (its
+    /// loss model and ripple check), Ω; omitted: `plant.esr_ohm`.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub esr_ohm: Option<f64>,
     /// Observer bandwidth, Hz; omitted: no observer.
     #[serde(default)]
     pub observer_bandwidth_hz: Option<f64>,
@@ -314,6 +322,18 @@ fn non_negative(key: &str, x: f64) -> Result<(), ScenarioError> {
 }
 
 impl Scenario {
+    /// The output capacitance the firmware is configured with:
+    /// `firmware.c_f`, or the plant's, F.
+    pub fn firmware_c_f(&self) -> f64 {
+        self.firmware.c_f.unwrap_or(self.plant.c_f)
+    }
+
+    /// The output capacitor's ESR the firmware is configured with:
+    /// `firmware.esr_ohm`, or the plant's, Ω.
+    pub fn firmware_esr_ohm(&self) -> f64 {
+        self.firmware.esr_ohm.unwrap_or(self.plant.esr_ohm)
+    }
+
     /// The model the firmware's estimator uses: the scenario's, or the
     /// plant's own values.
     pub fn firmware_model(&self) -> InductorModel {
@@ -363,6 +383,12 @@ impl Scenario {
         self.validate_profile()?;
         if let Some(band_v) = self.transient.and_then(|t| t.band_v) {
             positive("transient.band_v", band_v)?;
+        }
+        if let Some(c_f) = self.firmware.c_f {
+            positive("firmware.c_f", c_f)?;
+        }
+        if let Some(esr_ohm) = self.firmware.esr_ohm {
+            non_negative("firmware.esr_ohm", esr_ohm)?;
         }
         if let Some(t) = &self.tolerance {
             t.validate()?;

@@ -87,6 +87,8 @@ pub fn corner(spreads: &Spreads, base: &Scenario, index: u64) -> Vec<Setting> {
 pub fn apply(base: &Scenario, settings: &[Setting]) -> Scenario {
     let mut s = base.clone();
     s.firmware.model = Some(base.firmware_model());
+    s.firmware.c_f = Some(base.firmware_c_f());
+    s.firmware.esr_ohm = Some(base.firmware_esr_ohm());
     s.tolerance = None;
     for setting in settings {
         if let Some(p) = PARAMS.iter().find(|p| p.name == setting.name) {
@@ -119,5 +121,20 @@ mod tests {
         assert_eq!(random(&spreads, &base, 7, 3), random(&spreads, &base, 7, 3));
         assert_ne!(random(&spreads, &base, 7, 3), random(&spreads, &base, 7, 4));
         assert_ne!(random(&spreads, &base, 7, 3), random(&spreads, &base, 8, 3));
+    }
+
+    /// A drawn capacitor is not what the firmware was built with: its
+    /// charge current, light-load sizing, loss model and ripple check keep
+    /// the nominal C and ESR while the plant's vary.
+    #[test]
+    fn the_firmware_keeps_the_nominal_capacitor() {
+        let base = Scenario::default_demo();
+        let corner = corner(&Spreads::default(), &base, 0);
+        let drawn = apply(&base, &corner);
+        assert!((drawn.plant.c_f - 0.8 * base.plant.c_f).abs() < 1e-12 * base.plant.c_f);
+        assert!((drawn.plant.esr_ohm - 0.7 * base.plant.esr_ohm).abs() < 1e-12);
+        let config = crate::sim::build::stack_config(&drawn).expect("the demo configures");
+        assert_eq!(config.slow.output_capacitance_f, base.plant.c_f as f32);
+        assert_eq!(config.slow.losses.esr_ohm, base.plant.esr_ohm as f32);
     }
 }

@@ -17,8 +17,9 @@
 //! | `load` | 1 (a factor on every load current) | none |
 //!
 //! The firmware keeps what it was configured with: a scenario without
-//! `[firmware.model]` gets the nominal stage's values there before any part
-//! is varied.
+//! `[firmware.model]`, `firmware.c_f` or `firmware.esr_ohm` gets the
+//! nominal stage's values there before any part is varied (a drawn
+//! capacitor is a part the firmware was not told about).
 
 use super::spread::Spread;
 use crate::sim::plant::Stage;
