@@ -223,7 +223,8 @@ pub struct Recorder {
     /// Steady windows.
     pub windows: Vec<Window>,
     /// The inductor current over each steady window (same order), as cell
-    /// averages of at most [`IL_CELL_S`].
+    /// averages of at most [`IL_CELL_S`] (during the run, up to the last
+    /// cell reached: see [`finished`](Self::finished)).
     pub il_cells: Vec<CellGrid>,
     slice_s: f64,
     slices_per_s: f64,
@@ -266,10 +267,11 @@ impl Recorder {
             .collect();
         let slice_s = duration_s / slices.max(1) as f64;
         // At most the last IL_RECORD_S of each window: memory stays bounded
-        // however long the run.
+        // however long the run. The panels come in time order: each cell is
+        // stored when reached, none zeroed ahead.
         let il_cells = windows
             .iter()
-            .map(|w| CellGrid::covering(w.from_s.max(w.to_s - IL_RECORD_S), w.to_s, IL_CELL_S))
+            .map(|w| CellGrid::in_order(w.from_s.max(w.to_s - IL_RECORD_S), w.to_s, IL_CELL_S))
             .collect();
         Self {
             cycles: Vec::new(),
@@ -289,6 +291,13 @@ impl Recorder {
             last: None,
             estimate: EstimateLine::default(),
         }
+    }
+
+    /// The record at the run's end: the inductor-current records whole
+    /// (the cells never reached, zero, added).
+    pub fn finished(mut self) -> Self {
+        self.il_cells.iter_mut().for_each(CellGrid::complete);
+        self
     }
 
     /// Follow the output through the disturbances `tracker` watches.
