@@ -126,14 +126,20 @@ impl CellGrid {
         let (mut t, mut k) = (first_end, k + 1);
         let whole_end = self.whole_cells_end(k, hi);
         if whole_end > k {
-            let (from, dt) = (self.from_s, self.dt_s);
-            let curvature = q.c[2] * dt * dt / 12.0;
-            // Cell `k + i`'s centre in cells, `k + i + 0.5`, summed from
-            // `k + 0.5` and `i` (whole and half numbers far below 2⁵³: the
-            // same value exactly).
-            let centre_k = k as i64 as f64 + 0.5;
+            // The average over cell `k + i` as a quadratic in `i`, from
+            // the first whole cell's centre `s₀` (after `t0_s`), a step of
+            // one cell `Δt` a count: `q(s₀ + i·Δt) + c₂·Δt²/12`, two
+            // multiplications and two additions a cell.
+            let dt = self.dt_s;
+            let s0 = self.from_s + (k as i64 as f64 + 0.5) * dt - t0_s;
+            let [c0, c1, c2] = [
+                q.at(s0) + q.c[2] * dt * dt / 12.0,
+                (q.c[1] + 2.0 * q.c[2] * s0) * dt,
+                q.c[2] * dt * dt,
+            ];
             self.add_whole_cells(k, whole_end, |i| {
-                q.at(from + (centre_k + f64::from(i)) * dt - t0_s) + curvature
+                let i = f64::from(i);
+                c0 + i * (c1 + i * c2)
             });
             (t, k) = (self.edge(whole_end), whole_end);
         }
@@ -281,6 +287,18 @@ mod tests {
         assert_eq!(g.cells.len(), 4);
         for (c, e) in g.cells.iter().zip(expect) {
             assert!((c - e).abs() < 1e-12, "{:?}", g.cells);
+        }
+    }
+
+    #[test]
+    fn a_quadratic_averages_exactly_over_each_cell() {
+        // s² over [0, 6] on unit cells: ∫ⱼʲ⁺¹ s² ds = j² + j + 1/3 by hand.
+        let mut g = CellGrid::in_order(0.0, 8.0, 1.0);
+        g.add_quadratic(0.0, &Quadratic { c: [0.0, 0.0, 1.0], h: 6.0 });
+        g.complete();
+        let expect = |j: f64| if j < 6.0 { j * j + j + 1.0 / 3.0 } else { 0.0 };
+        for (j, c) in g.cells.iter().enumerate() {
+            assert!((c - expect(j as f64)).abs() < 1e-12, "{:?}", g.cells);
         }
     }
 
