@@ -413,10 +413,12 @@ impl Recorder {
                 cells.add_quadratic(t0_s, &il);
             }
         }
+        // A panel inside one slice has each of its pieces there.
+        let one_slice = (slices.0 == slices.1).then_some(slices.0);
         let mut t = t0_s;
         let il_est_a = loop {
             let piece = self.estimate.piece_from(t, t1_s);
-            self.take_estimate_piece(t0_s, &il, &piece, window);
+            self.take_estimate_piece(t0_s, &il, &piece, window, one_slice);
             if piece.t1 >= t1_s {
                 break piece.e1;
             }
@@ -448,19 +450,24 @@ impl Recorder {
     /// A straight piece of the firmware's estimate inside a panel from
     /// `t0_s` whose current is `il`: its extremes, and in a steady window
     /// its integral and that of its squared error (exact for a line less a
-    /// quadratic).
+    /// quadratic). `one_slice`: the envelope slice the whole panel lies in,
+    /// if it lies in one.
     fn take_estimate_piece(
         &mut self,
         t0_s: f64,
         il: &Quadratic,
         piece: &Piece,
         window: Option<usize>,
+        one_slice: Option<usize>,
     ) {
         if let Some(c) = self.current.as_mut() {
             c.take_estimate(piece.e0);
             c.take_estimate(piece.e1);
         }
-        let slices = (self.slice_index(piece.t0), self.slice_index(piece.t1));
+        let slices = match one_slice {
+            Some(s) => (s, s),
+            None => (self.slice_index(piece.t0), self.slice_index(piece.t1)),
+        };
         self.slices[slices.0].take_estimate(piece.e0);
         self.slices[slices.1].take_estimate(piece.e1);
         let Some(w) = window.map(|k| &mut self.windows[k]) else { return };
