@@ -13,7 +13,7 @@
 
 use super::quadratic::Quadratic;
 
-/// Cell averages over `[from_s, from_s + cells.len()·dt_s)`.
+/// Cell averages over `[from_s, from_s + n·dt_s)`, `n` cells.
 #[derive(Clone, Debug, PartialEq)]
 pub struct CellGrid {
     /// Start of the first cell, s.
@@ -21,8 +21,12 @@ pub struct CellGrid {
     /// Cell width, s (> 0).
     pub dt_s: f64,
     /// Average of the signal over each cell (before any segment is added:
-    /// zero).
+    /// zero). A grid made by [`in_order`](Self::in_order) holds the cells
+    /// up to the last one written, until [`complete`](Self::complete) adds
+    /// the rest.
     pub cells: Vec<f64>,
+    /// The number of cells the grid covers (`cells` may hold fewer).
+    n: usize,
 }
 
 impl CellGrid {
@@ -30,20 +34,34 @@ impl CellGrid {
     /// of cells: [`add_quadratic`](Self::add_quadratic) counts them in
     /// `i32`).
     pub fn new(from_s: f64, dt_s: f64, n: usize) -> Self {
-        Self { from_s, dt_s, cells: vec![0.0; n] }
+        Self { from_s, dt_s, cells: vec![0.0; n], n }
+    }
+
+    /// The grid of [`covering`](Self::covering), for a signal added in
+    /// time order: no cell is zeroed ahead, each is stored when first
+    /// reached (a long record's cells are written once, not zeroed first;
+    /// a part added out of order is still added right, to the cells held);
+    /// [`complete`](Self::complete) adds the cells never reached.
+    pub fn in_order(from_s: f64, to_s: f64, max_dt_s: f64) -> Self {
+        let (dt_s, n) = covering_cells(from_s, to_s, max_dt_s);
+        Self { from_s, dt_s, cells: Vec::with_capacity(n), n }
+    }
+
+    /// All the grid's cells, those never reached zero.
+    pub fn complete(&mut self) {
+        self.cells.resize(self.n, 0.0);
     }
 
     /// Cells of at most `max_dt_s` covering `[from_s, to_s]` exactly, their
     /// number rounded up to a power of two (fast transforms).
     pub fn covering(from_s: f64, to_s: f64, max_dt_s: f64) -> Self {
-        let span = (to_s - from_s).max(0.0);
-        let n = ((span / max_dt_s).ceil() as usize).max(1).next_power_of_two();
-        Self::new(from_s, span / n as f64, n)
+        let (dt_s, n) = covering_cells(from_s, to_s, max_dt_s);
+        Self::new(from_s, dt_s, n)
     }
 
     /// Time span of the grid, s.
     pub fn span_s(&self) -> f64 {
-        self.dt_s * self.cells.len() as f64
+        self.dt_s * self.n as f64
     }
 
     /// Add the straight segment from `(ta, va)` to `(tb, vb)` (`ta ≤ tb`);
@@ -61,7 +79,7 @@ impl CellGrid {
             return;
         }
         let line = Line { ta, va, slope: (vb - va) / (tb - ta) };
-        let n = self.cells.len();
+        let n = self.n;
         let k = self.cell_of(lo);
         let first_end = self.edge(k + 1).min(hi);
         self.add_piece(&line, k, lo, first_end);
@@ -69,11 +87,13 @@ impl CellGrid {
         let whole_end = self.whole_cells_end(k, hi);
         if whole_end > k {
             // A line's average over a whole cell is its value at the
-            // cell's centre.
+            // cell's centre (cell `k + i`'s, `k + i + 0.5` in cells: see
+            // `add_quadratic`).
             let (from, dt) = (self.from_s, self.dt_s);
-            for (j, cell) in (k..).zip(&mut self.cells[k..whole_end]) {
-                *cell += line.value(from + (j as i64 as f64 + 0.5) * dt);
-            }
+            let centre_k = k as i64 as f64 + 0.5;
+            self.add_whole_cells(k, whole_end, |i| {
+                line.value(from + (centre_k + f64::from(i)) * dt)
+            });
             (t, k) = (self.edge(whole_end), whole_end);
         }
         if t < hi && k < n {
@@ -85,7 +105,7 @@ impl CellGrid {
     /// grid): `⌊(t − from)/Δt⌋` through i64, one instruction where `floor`
     /// is a library call.
     fn cell_of(&self, t: f64) -> usize {
-        let last = self.cells.len() as i64 - 1;
+        let last = self.n as i64 - 1;
         (((t - self.from_s) / self.dt_s) as i64).clamp(0, last) as usize
     }
 
@@ -99,23 +119,28 @@ impl CellGrid {
         if hi <= lo {
             return;
         }
-        let n = self.cells.len();
+        let n = self.n;
         let k = self.cell_of(lo);
         let first_end = self.edge(k + 1).min(hi);
         self.add_quadratic_part(t0_s, q, k, lo, first_end);
         let (mut t, mut k) = (first_end, k + 1);
         let whole_end = self.whole_cells_end(k, hi);
         if whole_end > k {
-            let (from, dt) = (self.from_s, self.dt_s);
-            let curvature = q.c[2] * dt * dt / 12.0;
-            // Cell `k + i`'s centre in cells, `k + i + 0.5`, summed from
-            // `k + 0.5` and `i` (whole and half numbers far below 2⁵³: the
-            // same value exactly); `i` counted in i32, whose conversion
-            // the compiler does two cells at a time.
-            let centre_k = k as i64 as f64 + 0.5;
-            for (i, cell) in (0..i32::MAX).zip(&mut self.cells[k..whole_end]) {
-                *cell += q.at(from + (centre_k + f64::from(i)) * dt - t0_s) + curvature;
-            }
+            // The average over cell `k + i` as a quadratic in `i`, from
+            // the first whole cell's centre `s₀` (after `t0_s`), a step of
+            // one cell `Δt` a count: `q(s₀ + i·Δt) + c₂·Δt²/12`, two
+            // multiplications and two additions a cell.
+            let dt = self.dt_s;
+            let s0 = self.from_s + (k as i64 as f64 + 0.5) * dt - t0_s;
+            let [c0, c1, c2] = [
+                q.at(s0) + q.c[2] * dt * dt / 12.0,
+                (q.c[1] + 2.0 * q.c[2] * s0) * dt,
+                q.c[2] * dt * dt,
+            ];
+            self.add_whole_cells(k, whole_end, |i| {
+                let i = f64::from(i);
+                c0 + i * (c1 + i * c2)
+            });
             (t, k) = (self.edge(whole_end), whole_end);
         }
         if t < hi && k < n {
@@ -126,8 +151,34 @@ impl CellGrid {
     /// Add the part of `q` (from `t0_s`) over `[a, b]` (inside cell `k`).
     fn add_quadratic_part(&mut self, t0_s: f64, q: &Quadratic, k: usize, a: f64, b: f64) {
         if b > a {
-            self.cells[k] += q.integral(a - t0_s, b - t0_s) / self.dt_s;
+            self.add_to_cell(k, q.integral(a - t0_s, b - t0_s) / self.dt_s);
         }
+    }
+
+    /// Add `v` to cell `k`, storing the cells up to it first where the grid
+    /// does not hold them yet (zero until reached).
+    fn add_to_cell(&mut self, k: usize, v: f64) {
+        if k >= self.cells.len() {
+            self.cells.resize(k + 1, 0.0);
+        }
+        self.cells[k] += v;
+    }
+
+    /// Add `value(i)` to each cell `k + i` of `k..end`: in place where the
+    /// grid holds the cell, else appended (a cell not yet reached is zero,
+    /// so it is the value itself). `i` is counted in i32, whose conversion
+    /// the compiler does two cells at a time.
+    fn add_whole_cells(&mut self, k: usize, end: usize, value: impl Fn(i32) -> f64) {
+        if self.cells.len() < k {
+            self.cells.resize(k, 0.0);
+        }
+        let held_end = end.min(self.cells.len());
+        for (i, cell) in (0..i32::MAX).zip(&mut self.cells[k..held_end]) {
+            *cell += value(i);
+        }
+        // Cell counts stay below 2³¹ (see `new`).
+        let (held, all) = ((held_end - k) as i32, (end - k) as i32);
+        self.cells.extend((held..all).map(value));
     }
 
     /// Start of cell `k` (end of cell `k − 1`), s.
@@ -138,7 +189,7 @@ impl CellGrid {
     /// Add the segment's part over `[t0, t1]` (inside cell `k`).
     fn add_piece(&mut self, line: &Line, k: usize, t0: f64, t1: f64) {
         if t1 > t0 {
-            self.cells[k] += line.trapezoid(t0, t1) / self.dt_s;
+            self.add_to_cell(k, line.trapezoid(t0, t1) / self.dt_s);
         }
     }
 
@@ -146,7 +197,7 @@ impl CellGrid {
     /// cover whole (or the number of cells): cells `k..` it returns end
     /// before `hi`.
     fn whole_cells_end(&self, k: usize, hi: f64) -> usize {
-        let n = self.cells.len();
+        let n = self.n;
         let partial = |j: usize| j >= n || self.edge(j + 1) >= hi;
         let mut j = self.cell_of(hi).saturating_sub(1).clamp(k, n);
         while j > k && partial(j - 1) {
@@ -159,8 +210,17 @@ impl CellGrid {
     }
     /// Mean of the cells.
     pub fn mean(&self) -> f64 {
-        self.cells.iter().sum::<f64>() / self.cells.len().max(1) as f64
+        self.cells.iter().sum::<f64>() / self.n.max(1) as f64
     }
+}
+
+/// Width and number of the cells of [`CellGrid::covering`]: at most
+/// `max_dt_s` wide, covering `[from_s, to_s]` exactly, their number a power
+/// of two.
+fn covering_cells(from_s: f64, to_s: f64, max_dt_s: f64) -> (f64, usize) {
+    let span = (to_s - from_s).max(0.0);
+    let n = ((span / max_dt_s).ceil() as usize).max(1).next_power_of_two();
+    (span / n as f64, n)
 }
 
 /// Start of cell `k` of a grid from `from_s` in cells of `dt_s`, s.
@@ -211,6 +271,34 @@ mod tests {
         let expect = [0.125, 1.0, 0.875, 0.0];
         for (c, e) in g.cells.iter().zip(expect) {
             assert!((c - e).abs() < 1e-12, "{:?}", g.cells);
+        }
+    }
+
+    #[test]
+    fn a_grid_filled_in_order_holds_the_cells_reached_then_all() {
+        let mut g = CellGrid::in_order(0.0, 4.0, 1.0);
+        // The ramp of the test above, in two pieces: 0 → 1 over 0.5 .. 1.5,
+        // 1 → 2 over 1.5 .. 2.5; the same integrals by hand.
+        g.add_segment((0.5, 0.0), (1.5, 1.0));
+        g.add_segment((1.5, 1.0), (2.5, 2.0));
+        assert_eq!(g.cells.len(), 3);
+        g.complete();
+        let expect = [0.125, 1.0, 0.875, 0.0];
+        assert_eq!(g.cells.len(), 4);
+        for (c, e) in g.cells.iter().zip(expect) {
+            assert!((c - e).abs() < 1e-12, "{:?}", g.cells);
+        }
+    }
+
+    #[test]
+    fn a_quadratic_averages_exactly_over_each_cell() {
+        // s² over [0, 6] on unit cells: ∫ⱼʲ⁺¹ s² ds = j² + j + 1/3 by hand.
+        let mut g = CellGrid::in_order(0.0, 8.0, 1.0);
+        g.add_quadratic(0.0, &Quadratic { c: [0.0, 0.0, 1.0], h: 6.0 });
+        g.complete();
+        let expect = |j: f64| if j < 6.0 { j * j + j + 1.0 / 3.0 } else { 0.0 };
+        for (j, c) in g.cells.iter().enumerate() {
+            assert!((c - expect(j as f64)).abs() < 1e-12, "{:?}", g.cells);
         }
     }
 

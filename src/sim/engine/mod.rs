@@ -331,7 +331,7 @@ impl<F: Firmware> Engine<F> {
             setpoint_v: sc.control.law.setpoint_v(),
             faults: self.firmware.faults().iter().map(|f| (f.kind, since_start(f.at))).collect(),
             cpu: self.cpu.usage(self.schedule.end as f64 * self.tick_s),
-            recorder: self.recorder,
+            recorder: self.recorder.finished(),
         }
     }
 

@@ -55,19 +55,22 @@ pub(super) struct Schedule {
     pub dead_time_end: Option<u64>,
     /// Profile breakpoints in time order, from `next_break` on still to
     /// come.
-    pub breaks: Vec<Breakpoint>,
-    pub next_break: usize,
+    breaks: Vec<Breakpoint>,
+    next_break: usize,
     /// Window boundaries in time order, from `next_window_edge` on still to
     /// come.
-    pub window_edges: Vec<WindowEdge>,
-    pub next_window_edge: usize,
+    window_edges: Vec<WindowEdge>,
+    next_window_edge: usize,
     pub end: u64,
+    /// The next breakpoint's or window boundary's tick (`u64::MAX`: none),
+    /// kept as they are taken: every pass of the loop asks for it twice.
+    next_profile: u64,
 }
 
 impl Schedule {
     /// Nothing pending yet; the run ends at tick `end`.
     pub fn new(breaks: Vec<Breakpoint>, window_edges: Vec<WindowEdge>, end: u64) -> Self {
-        Self {
+        let mut schedule = Self {
             next_sample: 0,
             next_housekeeping: 0,
             conversion: None,
@@ -80,7 +83,10 @@ impl Schedule {
             window_edges,
             next_window_edge: 0,
             end,
-        }
+            next_profile: u64::MAX,
+        };
+        schedule.find_next_profile_tick();
+        schedule
     }
 
     /// The next tick something happens; interrupts wait for the core while
@@ -111,15 +117,22 @@ impl Schedule {
     /// The next breakpoint's or window boundary's tick (`u64::MAX`: none).
     #[inline]
     pub fn next_profile_tick(&self) -> u64 {
+        self.next_profile
+    }
+
+    /// Find [`next_profile_tick`](Self::next_profile_tick) again, after
+    /// one was taken.
+    fn find_next_profile_tick(&mut self) {
         let b = self.breaks.get(self.next_break).map_or(u64::MAX, |b| b.tick);
         let w = self.window_edges.get(self.next_window_edge).map_or(u64::MAX, |w| w.tick);
-        b.min(w)
+        self.next_profile = b.min(w);
     }
 
     /// The breakpoint due by `tick`, taken from the schedule.
     pub fn take_break(&mut self, tick: u64) -> Option<Breakpoint> {
         let b = *self.breaks.get(self.next_break).filter(|b| b.tick <= tick)?;
         self.next_break += 1;
+        self.find_next_profile_tick();
         Some(b)
     }
 
@@ -127,6 +140,7 @@ impl Schedule {
     pub fn take_window_edge(&mut self, tick: u64) -> Option<WindowEdge> {
         let w = *self.window_edges.get(self.next_window_edge).filter(|w| w.tick <= tick)?;
         self.next_window_edge += 1;
+        self.find_next_profile_tick();
         Some(w)
     }
 }

@@ -212,12 +212,19 @@ pub struct PowerModel<'a> {
 
 impl PowerModel<'_> {
     /// The integrands' time derivatives at state `x`, moving at `dx`, time
-    /// `tau` (the product rule on each), `|i|` taken with the sign `sign`
-    /// (the current's over the segment: at a DCM zero the segment ends just
-    /// past zero, where the current's own sign would turn the rate round).
-    pub fn rate(&self, x: &Vec2, dx: &Vec2, tau: f64, sign: f64) -> Integrals {
+    /// `tau` (the product rule on each), given the output voltage there and
+    /// its rate, `(v_o, dv_o)`; `|i|` taken with the sign `sign` (the
+    /// current's over the segment: at a DCM zero the segment ends just past
+    /// zero, where the current's own sign would turn the rate round).
+    pub fn rate(
+        &self,
+        x: &Vec2,
+        dx: &Vec2,
+        (v_o, dv_o): (f64, f64),
+        tau: f64,
+        sign: f64,
+    ) -> Integrals {
         let (i, di) = (x[0], dx[0]);
-        let (v_o, dv_o) = (self.output.value(x, tau), self.output.rate(dx));
         let g = self.env.load_g_s;
         let (i_load, di_load) =
             (g * v_o + self.env.load_i_at(tau), g * dv_o + self.env.load_i_slope);
@@ -234,7 +241,12 @@ impl PowerModel<'_> {
     /// The integrands at inductor current `i`, capacitor voltage `v_c`,
     /// time `tau`.
     pub fn at(&self, i: f64, v_c: f64, tau: f64) -> Integrals {
-        let v_o = self.output.value(&[i, v_c], tau);
+        self.at_output(i, self.output.value(&[i, v_c], tau), tau)
+    }
+
+    /// [`at`](Self::at) where the output voltage `v_o` is known already
+    /// (a panel's, computed once for the record and the energies).
+    pub fn at_output(&self, i: f64, v_o: f64, tau: f64) -> Integrals {
         let i_load = self.env.load_g_s * v_o + self.env.load_i_at(tau);
         let i_c = i - i_load;
         Integrals {

@@ -49,7 +49,9 @@ use saturation::TOP_BAND;
 
 /// The longest panel of [`Plant::advance_to`], as a fraction of the time
 /// constant of the fastest response (`1/ρ`, `ρ` the larger eigenvalue
-/// magnitude; 6 µs for the demo stage). The energies' corrected Simpson
+/// magnitude; about `√(L·C)` for a lightly damped stage, 100 µs for the
+/// demo stage's 47 µH and 220 µF, so its panels are at most 25 µs; less in
+/// a saturated band). The energies' corrected Simpson
 /// rule errs as the panel's seventh power, the record's quadratics as its
 /// third (see [`crate::sim::quadratic`]).
 pub const PANEL_OF_FASTEST: f64 = 0.25;
@@ -310,9 +312,11 @@ impl Plant {
                 self.output.value(&mid, tau0 + 0.5 * step),
                 self.output.value(&end, tau0 + step),
             ];
-            let vo_turn = self.output_turn(&trajectory, step, [vo[0], vo[2]], &rates);
-            self.accumulate_corrected(step, [&x0, &mid, &end], &rates);
-            record(&Panel { tau0, h: step, states: [x0, mid, end], vo, vo_turn });
+            let vo_rates = [self.output.rate(&rates[0]), self.output.rate(&rates[1])];
+            let vo_turn = self.output_turn(&trajectory, step, [vo[0], vo[2]], vo_rates);
+            let panel = Panel { tau0, h: step, states: [x0, mid, end], vo, vo_turn };
+            self.accumulate_panel(&panel, &rates, vo_rates);
+            record(&panel);
             self.x = end;
             self.tau += step;
             done += step;
@@ -320,17 +324,15 @@ impl Plant {
     }
 
     /// Where the output turns on `trajectory` over `h` (its values `ends`
-    /// and the state's `rates` at its start and end), when the output's
-    /// rate has opposite signs at the two: time after the start, s, and
-    /// value, V.
+    /// and its rates `[r0, r1]` at its start and end), when the rates have
+    /// opposite signs: time after the start, s, and value, V.
     fn output_turn(
         &self,
         trajectory: &Trajectory<'_>,
         h: f64,
         ends: [f64; 2],
-        rates: &[Vec2; 2],
+        [r0, r1]: [f64; 2],
     ) -> Option<(f64, f64)> {
-        let (r0, r1) = (self.output.rate(&rates[0]), self.output.rate(&rates[1]));
         (r0 * r1 < 0.0).then(|| {
             interval::turn(&trajectory.follow(&self.output), (0.0, ends[0], r0), (h, ends[1], r1))
         })
@@ -397,24 +399,27 @@ impl Plant {
     }
 
     /// [`accumulate`](Self::accumulate) by the corrected rule (its error
-    /// falls as the panel's seventh power), for the panels of
-    /// [`advance_to`](Self::advance_to); `rates`: the state's at the ends.
-    fn accumulate_corrected(&mut self, dt: f64, [x0, mid, end]: [&Vec2; 3], rates: &[Vec2; 2]) {
+    /// falls as the panel's seventh power), over a panel of
+    /// [`advance_to`](Self::advance_to) from the plant's state and time
+    /// (its output voltages taken as they are, not computed again);
+    /// `rates`: the state's at the ends, `vo_rates`: the output's.
+    fn accumulate_panel(&mut self, p: &Panel, rates: &[Vec2; 2], vo_rates: [f64; 2]) {
         let model = PowerModel {
             params: &self.params,
             env: &self.env,
             output: &self.output,
             mode: self.mode,
         };
-        let (t0, t1) = (self.tau, self.tau + dt);
+        let [x0, mid, end] = &p.states;
+        let (dt, t0, t1) = (p.h, self.tau, self.tau + p.h);
         let (a, m, b) = (
-            model.at(x0[0], x0[1], t0),
-            model.at(mid[0], mid[1], t0 + 0.5 * dt),
-            model.at(end[0], end[1], t1),
+            model.at_output(x0[0], p.vo[0], t0),
+            model.at_output(mid[0], p.vo[1], t0 + 0.5 * dt),
+            model.at_output(end[0], p.vo[2], t1),
         );
         let sign = if mid[0] < 0.0 { -1.0 } else { 1.0 };
-        let rate_a = model.rate(x0, &rates[0], t0, sign);
-        let rate_b = model.rate(end, &rates[1], t1, sign);
+        let rate_a = model.rate(x0, &rates[0], (p.vo[0], vo_rates[0]), t0, sign);
+        let rate_b = model.rate(end, &rates[1], (p.vo[2], vo_rates[1]), t1, sign);
         self.energy.add(&model, &Integrals::corrected_simpson(dt, [&a, &m, &b], &rate_a, &rate_b));
         self.end_integrands = None;
     }

@@ -223,7 +223,8 @@ pub struct Recorder {
     /// Steady windows.
     pub windows: Vec<Window>,
     /// The inductor current over each steady window (same order), as cell
-    /// averages of at most [`IL_CELL_S`].
+    /// averages of at most [`IL_CELL_S`] (during the run, up to the last
+    /// cell reached: see [`finished`](Self::finished)).
     pub il_cells: Vec<CellGrid>,
     slice_s: f64,
     slices_per_s: f64,
@@ -266,10 +267,11 @@ impl Recorder {
             .collect();
         let slice_s = duration_s / slices.max(1) as f64;
         // At most the last IL_RECORD_S of each window: memory stays bounded
-        // however long the run.
+        // however long the run. The panels come in time order: each cell is
+        // stored when reached, none zeroed ahead.
         let il_cells = windows
             .iter()
-            .map(|w| CellGrid::covering(w.from_s.max(w.to_s - IL_RECORD_S), w.to_s, IL_CELL_S))
+            .map(|w| CellGrid::in_order(w.from_s.max(w.to_s - IL_RECORD_S), w.to_s, IL_CELL_S))
             .collect();
         Self {
             cycles: Vec::new(),
@@ -289,6 +291,13 @@ impl Recorder {
             last: None,
             estimate: EstimateLine::default(),
         }
+    }
+
+    /// The record at the run's end: the inductor-current records whole
+    /// (the cells never reached, zero, added).
+    pub fn finished(mut self) -> Self {
+        self.il_cells.iter_mut().for_each(CellGrid::complete);
+        self
     }
 
     /// Follow the output through the disturbances `tracker` watches.
@@ -404,14 +413,22 @@ impl Recorder {
                 cells.add_quadratic(t0_s, &il);
             }
         }
+        // A panel inside one slice has each of its pieces there.
+        let one_slice = (slices.0 == slices.1).then_some(slices.0);
         let mut t = t0_s;
+        // Where the last piece ended, already taken: the next one starts
+        // there (same time, cycle and slice) unless the estimate steps at
+        // the knot between them.
+        let mut taken = f64::NAN;
         let il_est_a = loop {
             let piece = self.estimate.piece_from(t, t1_s);
-            self.take_estimate_piece(t0_s, &il, &piece, window);
+            self.take_estimate_extremes(&piece, one_slice, piece.e0 == taken);
+            self.integrate_estimate_piece(t0_s, &il, &piece, window);
             if piece.t1 >= t1_s {
                 break piece.e1;
             }
             t = piece.t1;
+            taken = piece.e1;
         };
         if gate_on {
             self.add_duty(t0_s, t1_s);
@@ -436,24 +453,42 @@ impl Recorder {
         }
     }
 
+    /// The extremes of a straight piece of the firmware's estimate, in the
+    /// cycle and the envelope; `one_slice`: the slice the whole panel lies
+    /// in, if it lies in one; `start_taken`: its start was taken already
+    /// (the last piece's end).
+    fn take_estimate_extremes(
+        &mut self,
+        piece: &Piece,
+        one_slice: Option<usize>,
+        start_taken: bool,
+    ) {
+        let slices = match one_slice {
+            Some(s) => (s, s),
+            None => (self.slice_index(piece.t0), self.slice_index(piece.t1)),
+        };
+        if let Some(c) = self.current.as_mut() {
+            if !start_taken {
+                c.take_estimate(piece.e0);
+            }
+            c.take_estimate(piece.e1);
+        }
+        if !start_taken {
+            self.slices[slices.0].take_estimate(piece.e0);
+        }
+        self.slices[slices.1].take_estimate(piece.e1);
+    }
+
     /// A straight piece of the firmware's estimate inside a panel from
-    /// `t0_s` whose current is `il`: its extremes, and in a steady window
-    /// its integral and that of its squared error (exact for a line less a
-    /// quadratic).
-    fn take_estimate_piece(
+    /// `t0_s` whose current is `il`, in a steady window: its integral and
+    /// that of its squared error (exact for a line less a quadratic).
+    fn integrate_estimate_piece(
         &mut self,
         t0_s: f64,
         il: &Quadratic,
         piece: &Piece,
         window: Option<usize>,
     ) {
-        if let Some(c) = self.current.as_mut() {
-            c.take_estimate(piece.e0);
-            c.take_estimate(piece.e1);
-        }
-        let slices = (self.slice_index(piece.t0), self.slice_index(piece.t1));
-        self.slices[slices.0].take_estimate(piece.e0);
-        self.slices[slices.1].take_estimate(piece.e1);
         let Some(w) = window.map(|k| &mut self.windows[k]) else { return };
         let dt = piece.t1 - piece.t0;
         w.il_est_integral += 0.5 * (piece.e0 + piece.e1) * dt;
