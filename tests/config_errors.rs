@@ -129,7 +129,16 @@ fn ripple_too_small() {
         .collect();
     refused_at(&without, "esr_ohm", "plant.esr_ohm", "too little ripple");
     // The check is on what the firmware is configured with: its own ESR
-    // when the scenario gives one, named on that key.
-    let firmware_esr = without.replace("[firmware]\n", "[firmware]\nesr_ohm = 0.002\n");
+    // when the scenario gives one, named on that key. With an ESR that
+    // gives ripple enough the plant alone passes; the firmware configured
+    // with a small one is refused.
+    let plant_esr = without.replace("esr_ohm = 0.003", "esr_ohm = 0.05");
+    ripplectl::sim::Scenario::from_toml(&plant_esr).expect("50 mΩ gives ripple enough");
+    let firmware_esr = plant_esr.replace("[firmware]\n", "[firmware]\nesr_ohm = 0.002\n");
     refused_at(&firmware_esr, "esr_ohm = 0.002", "firmware.esr_ohm", "too little ripple");
+    // And the plant's own ESR, too small, is not what the check reads when
+    // the firmware is configured with one that gives ripple enough.
+    let firmware_large = without.replace("[firmware]\n", "[firmware]\nesr_ohm = 0.05\n");
+    ripplectl::sim::Scenario::from_toml(&firmware_large)
+        .expect("the firmware's ESR gives the on-time law its ripple");
 }

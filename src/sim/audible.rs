@@ -78,13 +78,15 @@ pub fn analyse(out: &RunOutput) -> Option<Audible> {
 }
 
 /// Amplitude spectrum of a record: `(frequency Hz, amplitude)` per bin, Hann
-/// window, mean removed.
+/// window, mean removed (cells a grid has not reached count as zero).
 pub fn amplitude_spectrum(record: &CellGrid) -> Vec<(f64, f64)> {
-    let n = record.cells.len();
+    let n = record.cell_count();
     let mean = record.mean();
     let mut input: Vec<f64> = record
         .cells
         .iter()
+        .chain(std::iter::repeat(&0.0))
+        .take(n)
         .enumerate()
         .map(|(k, &x)| {
             let hann = 0.5 - 0.5 * (2.0 * std::f64::consts::PI * k as f64 / n as f64).cos();

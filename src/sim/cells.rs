@@ -59,6 +59,12 @@ impl CellGrid {
         Self::new(from_s, dt_s, n)
     }
 
+    /// The number of cells the grid covers (for an
+    /// [`in_order`](Self::in_order) grid, those not yet reached included).
+    pub fn cell_count(&self) -> usize {
+        self.n
+    }
+
     /// Time span of the grid, s.
     pub fn span_s(&self) -> f64 {
         self.dt_s * self.n as f64

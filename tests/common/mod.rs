@@ -1,5 +1,4 @@
 //! Helpers shared by the integration tests.
-#![allow(dead_code)]
 
 pub mod plants;
 pub mod program;
@@ -75,11 +74,6 @@ impl Harness {
 
     pub fn edge<L: Law>(&mut self, law: &mut L, t: u64, level: bool) {
         let cmd = law.on_edge(level, self.instant(t));
-        self.record(t, cmd);
-    }
-
-    pub fn sample<L: Law>(&mut self, law: &mut L, t: u64, code: u16) {
-        let cmd = law.on_sample(code, self.instant(t));
         self.record(t, cmd);
     }
 }

@@ -216,6 +216,8 @@ pub fn scan_record(
     transfer: impl Fn(f64) -> Complex64,
     receiver: &Receiver,
 ) -> Scan {
+    let mut record = record;
+    record.complete();
     let n = record.cells.len();
     let (span, dt) = (record.span_s(), record.dt_s);
     let mut input = record.cells;

@@ -83,11 +83,14 @@ pub fn corner(spreads: &Spreads, base: &Scenario, index: u64) -> Vec<Setting> {
 }
 
 /// The scenario of a draw: `base` with each setting put in, the firmware
-/// still configured with the nominal stage, and no `[tolerance]` table.
+/// still configured with the nominal stage (its capacitance, unless the
+/// scenario gives its own, the nominal after any DC-bias loss), and no
+/// `[tolerance]` table.
 pub fn apply(base: &Scenario, settings: &[Setting]) -> Scenario {
     let mut s = base.clone();
     s.firmware.model = Some(base.firmware_model());
-    s.firmware.c_f = Some(base.firmware_c_f());
+    let nominal_c_f = settings.iter().find(|x| x.name == "c_f").map(|x| x.nominal);
+    s.firmware.c_f = Some(base.firmware.c_f.or(nominal_c_f).unwrap_or(base.plant.c_f));
     s.firmware.esr_ohm = Some(base.firmware_esr_ohm());
     s.tolerance = None;
     for setting in settings {
@@ -136,5 +139,19 @@ mod tests {
         let config = crate::sim::build::stack_config(&drawn).expect("the demo configures");
         assert_eq!(config.slow.output_capacitance_f, base.plant.c_f as f32);
         assert_eq!(config.slow.losses.esr_ohm, base.plant.esr_ohm as f32);
+    }
+
+    /// A capacitor that loses capacitance under DC bias: the firmware is
+    /// configured with the nominal value at the output voltage, the plant
+    /// draws around it.
+    #[test]
+    fn the_firmware_takes_the_capacitance_left_under_bias() {
+        let base = Scenario::default_demo();
+        let mut spreads = Spreads::default();
+        spreads.c_f.dc_bias_loss = Some(0.45);
+        let drawn = apply(&base, &corner(&spreads, &base, 0));
+        let left = 0.55 * base.plant.c_f;
+        assert!((drawn.firmware_c_f() - left).abs() < 1e-12 * left);
+        assert!((drawn.plant.c_f - 0.8 * left).abs() < 1e-12 * left);
     }
 }

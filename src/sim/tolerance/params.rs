@@ -19,7 +19,9 @@
 //! The firmware keeps what it was configured with: a scenario without
 //! `[firmware.model]`, `firmware.c_f` or `firmware.esr_ohm` gets the
 //! nominal stage's values there before any part is varied (a drawn
-//! capacitor is a part the firmware was not told about).
+//! capacitor is a part the firmware was not told about); its capacitance
+//! is the nominal after any `dc_bias_loss`, what a designer who read the
+//! DC-bias curve configures.
 
 use super::spread::Spread;
 use crate::sim::plant::Stage;
