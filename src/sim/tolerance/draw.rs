@@ -83,15 +83,11 @@ pub fn corner(spreads: &Spreads, base: &Scenario, index: u64) -> Vec<Setting> {
 }
 
 /// The scenario of a draw: `base` with each setting put in, the firmware
-/// still configured with the nominal stage (its capacitance, unless the
-/// scenario gives its own, the nominal after any DC-bias loss), and no
-/// `[tolerance]` table.
+/// still configured with the nominal stage (the capacitor's settings keep
+/// it on theirs, see [`super::params`]), and no `[tolerance]` table.
 pub fn apply(base: &Scenario, settings: &[Setting]) -> Scenario {
     let mut s = base.clone();
     s.firmware.model = Some(base.firmware_model());
-    let nominal_c_f = settings.iter().find(|x| x.name == "c_f").map(|x| x.nominal);
-    s.firmware.c_f = Some(base.firmware.c_f.or(nominal_c_f).unwrap_or(base.plant.c_f));
-    s.firmware.esr_ohm = Some(base.firmware_esr_ohm());
     s.tolerance = None;
     for setting in settings {
         if let Some(p) = PARAMS.iter().find(|p| p.name == setting.name) {

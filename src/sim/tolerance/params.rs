@@ -18,7 +18,7 @@
 //!
 //! The firmware keeps what it was configured with: a scenario without
 //! `[firmware.model]`, `firmware.c_f` or `firmware.esr_ohm` gets the
-//! nominal stage's values there before any part is varied (a drawn
+//! nominal stage's values there as its parts are varied (a drawn
 //! capacitor is a part the firmware was not told about); its capacitance
 //! is the nominal after any `dc_bias_loss`, what a designer who read the
 //! DC-bias curve configures.
@@ -139,6 +139,19 @@ fn scale_load(s: &mut Scenario, _: f64, k: f64) {
     }
 }
 
+/// The output capacitor's parts, drawn in the plant; the firmware keeps
+/// its configured value, or the nominal (for `c_f`, after any DC-bias
+/// loss) when it had none.
+fn set_c_f(s: &mut Scenario, nominal: f64, value: f64) {
+    s.firmware.c_f.get_or_insert(nominal);
+    s.plant.c_f = value;
+}
+
+fn set_esr(s: &mut Scenario, nominal: f64, value: f64) {
+    s.firmware.esr_ohm.get_or_insert(nominal);
+    s.plant.esr_ohm = value;
+}
+
 /// A parameter that is one field of the scenario, set to the drawn value.
 macro_rules! field {
     ($name:ident, positive: $positive:expr, $($path:ident).+) => {
@@ -156,8 +169,20 @@ macro_rules! field {
 /// depend on it).
 pub const PARAMS: [Param; 13] = [
     field!(l_h, positive: true, plant.l_h),
-    field!(c_f, positive: true, plant.c_f),
-    field!(esr_ohm, positive: true, plant.esr_ohm),
+    Param {
+        name: "c_f",
+        positive: true,
+        spread: |t| &t.c_f,
+        nominal: |s| Some(s.plant.c_f),
+        set: set_c_f,
+    },
+    Param {
+        name: "esr_ohm",
+        positive: true,
+        spread: |t| &t.esr_ohm,
+        nominal: |s| Some(s.plant.esr_ohm),
+        set: set_esr,
+    },
     field!(dcr_ohm, positive: true, plant.dcr_ohm),
     field!(r_on_ohm, positive: true, plant.r_on_ohm),
     Param {
