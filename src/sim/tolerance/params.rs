@@ -152,15 +152,19 @@ fn set_esr(s: &mut Scenario, nominal: f64, value: f64) {
     s.plant.esr_ohm = value;
 }
 
-/// A parameter that is one field of the scenario, set to the drawn value.
+/// A parameter that is one field of the scenario, set to the drawn value
+/// (or by `set`, which also does what the draw implies elsewhere).
 macro_rules! field {
     ($name:ident, positive: $positive:expr, $($path:ident).+) => {
+        field!($name, positive: $positive, $($path).+, set: |s, _, v| s.$($path).+ = v)
+    };
+    ($name:ident, positive: $positive:expr, $($path:ident).+, set: $set:expr) => {
         Param {
             name: stringify!($name),
             positive: $positive,
             spread: |t| &t.$name,
             nominal: |s| Some(s.$($path).+),
-            set: |s, _, v| s.$($path).+ = v,
+            set: $set,
         }
     };
 }
@@ -169,20 +173,8 @@ macro_rules! field {
 /// depend on it).
 pub const PARAMS: [Param; 13] = [
     field!(l_h, positive: true, plant.l_h),
-    Param {
-        name: "c_f",
-        positive: true,
-        spread: |t| &t.c_f,
-        nominal: |s| Some(s.plant.c_f),
-        set: set_c_f,
-    },
-    Param {
-        name: "esr_ohm",
-        positive: true,
-        spread: |t| &t.esr_ohm,
-        nominal: |s| Some(s.plant.esr_ohm),
-        set: set_esr,
-    },
+    field!(c_f, positive: true, plant.c_f, set: set_c_f),
+    field!(esr_ohm, positive: true, plant.esr_ohm, set: set_esr),
     field!(dcr_ohm, positive: true, plant.dcr_ohm),
     field!(r_on_ohm, positive: true, plant.r_on_ohm),
     Param {
