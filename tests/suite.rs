@@ -41,6 +41,7 @@ mod reporting;
 mod retrofit_start;
 mod scale;
 mod scenario_files;
+mod slopes_after_housekeeping;
 mod supervisor;
 mod tolerance;
 mod transients;

@@ -167,7 +167,7 @@ impl<L: Law + Regulate, const LOG: usize> Stack<L, LOG> {
         sup.estimator_mut().update(now);
         let phases = sup.estimator_mut().take_window();
         let last_in = u32::from(sup.last_input()) << 16;
-        let vin_q16 = sup.take_input_average().unwrap_or(last_in);
+        let vin_q16 = sup.input_average().unwrap_or(last_in);
         let vin = ((vin_q16 + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
         let stop = sup.housekeeping(vin, now);
         self.slow.run(&mut self.supervisor, &phases, vin_q16);

@@ -248,10 +248,11 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         self.readings.last_in
     }
 
-    /// Slow path: the input readings' average since the last call, code ×
+    /// Slow path: the input readings' average over the housekeeping window
+    /// so far (since the last [`housekeeping`](Self::housekeeping)), code ×
     /// 2¹⁶, or `None` without fast-path input readings.
-    pub fn take_input_average(&mut self) -> Option<u32> {
-        self.readings.take_input_average()
+    pub fn input_average(&self) -> Option<u32> {
+        self.readings.input_average()
     }
 
     /// Gate off now, telling the law and the estimator. Out of line: off
@@ -512,10 +513,18 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     }
 
     /// Slow path, at a steady rate (1–20 kHz): input checks, soft-start
-    /// ramp, hiccup timing, and the estimator's voltages. `vin` is the
-    /// input channel's code (the window's average, or the last reading).
+    /// ramp, hiccup timing, and the estimator's voltages; ends the window
+    /// of the readings' averages. `vin` is the input channel's code (the
+    /// window's average, or the last reading) for the checks.
+    ///
+    /// The estimator's input share keeps the last input reading (a
+    /// window's average lags a moving bus by half a window, and the fast
+    /// path's reading sets it until the next one); `vin` sets it only when
+    /// no input reading came in the window. The output share takes the
+    /// window's average output (a single reading carries the ripple).
     /// Returns a command when it stopped the stage (the gate must go off).
     pub fn housekeeping(&mut self, vin: u16, now: Instant) -> Option<Command> {
+        let latest_in = self.readings.end_input_window().unwrap_or(vin);
         self.readings.last_in = vin;
         if let Some(kind) = self.input_fault(vin) {
             return Some(self.trip(kind, now));
@@ -546,7 +555,7 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
             self.sequence.reached_regulation();
         }
         let out = ((self.out_average + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
-        self.estimator.set_voltage_codes(vin, out);
+        self.estimator.set_voltage_codes(latest_in, out);
         if self.pulses.active() {
             self.pulses.retune(&self.estimator);
         }

@@ -65,12 +65,18 @@ impl Readings {
         avg
     }
 
-    /// Slow path: the input readings' average since the last call, code ×
-    /// 2¹⁶, or `None` without any.
-    pub(super) fn take_input_average(&mut self) -> Option<u32> {
-        let avg = average(self.in_sum, self.in_count);
+    /// Slow path: the input readings' average over the window so far, code
+    /// × 2¹⁶, or `None` without any (the window goes on).
+    pub(super) fn input_average(&self) -> Option<u32> {
+        average(self.in_sum, self.in_count)
+    }
+
+    /// Slow path: end the input's window: the last reading, if any came in
+    /// it.
+    pub(super) fn end_input_window(&mut self) -> Option<u16> {
+        let fresh = self.in_count != 0;
         (self.in_sum, self.in_count) = (0, 0);
-        avg
+        fresh.then_some(self.last_in)
     }
 }
 
