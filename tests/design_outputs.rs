@@ -81,7 +81,7 @@ fn the_written_scenario_runs_as_it_is() {
 fn the_const_block_configures_the_scenario_s_stack() {
     let sc = scenario("greenhouse-5v");
     assert_eq!(demo::PARTS, build::stack_parts(&sc).unwrap());
-    assert_eq!(build::law(&sc).unwrap(), ScenarioLaw::Hysteretic(demo::LAW));
+    assert_eq!(build::law(&sc).unwrap(), ScenarioLaw::OnTime(demo::LAW));
     let sc = scenario("greenhouse-5v-ceramic");
     assert_eq!(ceramic::PARTS, build::stack_parts(&sc).unwrap());
     assert_eq!(build::law(&sc).unwrap(), ScenarioLaw::OnTime(ceramic::LAW));

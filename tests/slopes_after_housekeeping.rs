@@ -75,6 +75,8 @@ fn the_on_slope_keeps_the_last_input_reading_after_housekeeping() {
     let vout = f64::from(CONFIG.output_adc.to_volts(vout_code));
     // Amperes per timer tick per volt across the inductor.
     let per_volt = CONFIG.clock.tick_s() / f64::from(CONFIG.model.l_h);
+    // Ticks per microsecond, for the messages.
+    let per_us = 1e-6 / CONFIG.clock.tick_s();
     let est = stack.supervisor().estimator();
     let on = est.slope_on().to_num::<f64>();
     let off = est.slope_off().to_num::<f64>();
@@ -86,13 +88,13 @@ fn the_on_slope_keeps_the_last_input_reading_after_housekeeping() {
     assert!(
         (on - on_expected).abs() <= within,
         "on-slope {:.4} A/µs, (V_in − V_out)/L = {:.4} A/µs",
-        on * 64.0,
-        on_expected * 64.0
+        on * per_us,
+        on_expected * per_us
     );
     assert!(
         (off - off_expected).abs() <= within,
         "off-slope {:.4} A/µs, −(V_out + V_f)/L = {:.4} A/µs",
-        off * 64.0,
-        off_expected * 64.0
+        off * per_us,
+        off_expected * per_us
     );
 }

@@ -1,4 +1,4 @@
-// Written by `ripplectl design`: 18-32 V to 5 V / 2 A, hysteretic on comparator edges.
+// Written by `ripplectl design`: 18-32 V to 5 V / 2 A, on-time on comparator edges.
 //
 // The firmware's configuration as `const` items: the compiler converts
 // volts and seconds into codes, ticks and fixed-point coefficients, and a
@@ -37,10 +37,10 @@ pub const CONFIG: ripplectl::stack::StackConfig = ripplectl::stack::StackConfig 
         vin_max_v: 35.5,
         vin_max_hysteresis_v: 1.1,
         ovp_v: 5.5,
-        current_limit_a: 4.7,
+        current_limit_a: 3.7,
         short_cycles: 8,
         hiccup_s: 0.002,
-        soft_start_s: 0.0019,
+        soft_start_s: 0.0024,
         stuck_low_v: 0.3,
         stuck_implied_v: 2.0,
         stuck_cycles: 3,
@@ -71,8 +71,24 @@ pub const CONFIG: ripplectl::stack::StackConfig = ripplectl::stack::StackConfig 
 pub const PARTS: ripplectl::stack::StackParts =
     ripplectl::unwrap_config(ripplectl::stack::StackParts::new(&CONFIG));
 
-/// The hysteretic law.
-pub const LAW: ripplectl::law::Hysteretic = ripplectl::unwrap_config(ripplectl::law::Hysteretic::new(
-    &ripplectl::law::HystereticConfig { setpoint_v: CONFIG.setpoint_v, band_v: 0.0202 },
+/// The on-time law before what is added to it.
+const BASE: ripplectl::law::OnTime = ripplectl::unwrap_config(ripplectl::law::OnTime::new(
+    &ripplectl::law::OnTimeConfig { setpoint_v: CONFIG.setpoint_v, on_time_s: 4e-6 },
     &CONFIG.output_adc,
+    &CONFIG.clock,
 ));
+
+/// The on-time law.
+pub const LAW: ripplectl::law::OnTime = BASE
+    .with_feed_forward(ripplectl::unwrap_config(ripplectl::law::OnTimeFeedForward::new(
+        CONFIG.setpoint_v,
+        50000.0,
+        &CONFIG.clock,
+    )))
+    .with_trim(ripplectl::unwrap_config(ripplectl::law::FrequencyTrim::new(
+        50000.0,
+        0.05,
+        0.5,
+        1.5,
+        &CONFIG.clock,
+    )));
