@@ -171,9 +171,8 @@ fn without_the_lock_the_frequency_wanders_off_the_target() {
 /// inductor's true peak stays at or below the current limit; over the
 /// whole run no period passes `1/f_min` once switching, the output is
 /// within 1 %, nothing trips. (The bus's 14 V/ms ramp at 8–9 ms at full
-/// load takes the true peak to about the limit, 4.02 A against 4 A: the
-/// stage's inductor rolls off there, which the firmware's linear model of
-/// it cannot see; the README says so.)
+/// load takes the true peak close to the 4 A limit: the stage's inductor
+/// rolls off there, which the firmware's linear model of it cannot see.)
 #[test]
 fn default_scenario_starts_within_the_limit_and_the_window() {
     let sc = locked();

@@ -249,8 +249,9 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     }
 
     /// Slow path: the input readings' average over the housekeeping window
-    /// so far (since the last [`housekeeping`](Self::housekeeping)), code ×
-    /// 2¹⁶, or `None` without fast-path input readings.
+    /// so far (since the last [`housekeeping`](Self::housekeeping), which
+    /// ends the window: read it before that call), code × 2¹⁶, or `None`
+    /// without fast-path input readings.
     pub fn input_average(&self) -> Option<u32> {
         self.readings.input_average()
     }
@@ -513,8 +514,9 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     }
 
     /// Slow path, at a steady rate (1–20 kHz): input checks, soft-start
-    /// ramp, hiccup timing, and the estimator's voltages; ends the window
-    /// of the readings' averages. `vin` is the input channel's code (the
+    /// ramp, hiccup timing, and the estimator's voltages; ends the input
+    /// readings' window (read [`input_average`](Self::input_average) before
+    /// it). `vin` is the input channel's code (the
     /// window's average, or the last reading) for the checks.
     ///
     /// The estimator's input share keeps the last input reading (a
