@@ -526,8 +526,10 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     /// window's average output (a single reading carries the ripple).
     /// Returns a command when it stopped the stage (the gate must go off).
     pub fn housekeeping(&mut self, vin: u16, now: Instant) -> Option<Command> {
-        let latest_in = self.readings.end_input_window().unwrap_or(vin);
-        self.readings.last_in = vin;
+        if !self.readings.end_input_window() {
+            // No input reading came: the caller's code is the latest.
+            self.readings.last_in = vin;
+        }
         if let Some(kind) = self.input_fault(vin) {
             return Some(self.trip(kind, now));
         }
@@ -557,7 +559,7 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
             self.sequence.reached_regulation();
         }
         let out = ((self.out_average + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
-        self.estimator.set_voltage_codes(latest_in, out);
+        self.estimator.set_voltage_codes(self.readings.last_in, out);
         if self.pulses.active() {
             self.pulses.retune(&self.estimator);
         }

@@ -71,12 +71,11 @@ impl Readings {
         average(self.in_sum, self.in_count)
     }
 
-    /// Slow path: end the input's window: the last reading, if any came in
-    /// it.
-    pub(super) fn end_input_window(&mut self) -> Option<u16> {
+    /// Slow path: end the input's window; whether any reading came in it.
+    pub(super) fn end_input_window(&mut self) -> bool {
         let fresh = self.in_count != 0;
         (self.in_sum, self.in_count) = (0, 0);
-        fresh.then_some(self.last_in)
+        fresh
     }
 }
 
