@@ -4,12 +4,12 @@
 
 use super::budget::{Budget, Rates, Scheme};
 use super::closed_form::{hysteretic_dcm_pulse, DcmPulse};
+use super::context::{Choice, Context};
 use super::delayed::{hysteretic_cycle_ccm, NoCycle};
 use super::laws::{
-    edge_delay, eng, filter, pct, point, reject, LawChoice, LawPlan, Unfit, LIGHT_LOAD_CEILING,
-    PLANNED_SHARE,
+    edge_delay, filter, point, reject, LawChoice, LawPlan, Unfit, LIGHT_LOAD_CEILING, PLANNED_SHARE,
 };
-use super::proposal::{Choice, Context};
+use super::values::{eng, pct};
 
 /// Smallest band, DAC codes.
 pub const MIN_BAND_CODES: u32 = 8;

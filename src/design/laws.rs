@@ -1,10 +1,10 @@
-//! The loops `design` can propose ([`super::hysteretic_plan`],
-//! [`super::on_time_plan`]): what a plan holds, and what they share.
+//! What a loop's plan holds ([`super::hysteretic_plan`],
+//! [`super::on_time_plan`]), and what the loops share.
 
 use super::budget::{Budget, Scheme};
 use super::closed_form::{OperatingPoint, OutputFilter};
+use super::context::{Choice, Context};
 use super::facts::{DesignError, Facts};
-use super::proposal::{Choice, Context};
 use crate::sim::cpu::Handler;
 
 /// Share of the core a proposal may plan for: 10 points below the
@@ -68,14 +68,6 @@ impl From<DesignError> for Unfit {
     }
 }
 
-/// The loop of `scheme` for the context, if it fits.
-pub fn plan(scheme: Scheme, ctx: &Context) -> Result<LawPlan, Unfit> {
-    match scheme {
-        Scheme::HystereticEdge => super::hysteretic_plan::plan(ctx),
-        Scheme::OnTimeEdge | Scheme::OnTimeSampled => super::on_time_plan::plan(scheme, ctx),
-    }
-}
-
 /// A loop passed over for `why`.
 pub fn reject<T>(why: String) -> Result<T, Unfit> {
     Err(Unfit::Rejected(why))
@@ -97,14 +89,4 @@ pub fn filter(facts: &Facts) -> OutputFilter {
 pub fn edge_delay(ctx: &Context, budget: &Budget) -> f64 {
     let m = &ctx.facts.mcu;
     m.comparator_delay_s + m.isr_latency_s + budget.seconds(Handler::Comparator)
-}
-
-/// A value with an engineering prefix (the simulator's report format).
-pub fn eng(x: f64, unit: &str) -> String {
-    crate::sim::report::eng(x, unit)
-}
-
-/// A fraction as a percentage.
-pub fn pct(x: f64) -> String {
-    format!("{:.0} %", 100.0 * x)
 }

@@ -7,11 +7,13 @@
 //! | [`delayed`] | the hysteretic loop's steady cycle with a loop delay and capacitor ripple |
 //! | `facts` | (std) the board and MCU facts a design starts from, checked, each refusal on its option |
 //! | `divider` | (std) resistor dividers from the E24 series |
+//! | `values` | (std) how a proposal writes its values: rounded, with prefixes, as percentages |
 //! | `budget` | (std) what the firmware's handlers cost on the named core |
+//! | `context` | (std) what every loop shares: dividers, housekeeping, window; a choice with its reason |
 //! | `laws` | (std) what a loop's plan holds, and what the loops share |
 //! | `hysteretic_plan` | (std) the hysteretic law on comparator edges: its band, or why it does not fit |
 //! | `on_time_plan` | (std) the on-time law on edges or samples: frequency, samples, emulated ripple, or why not |
-//! | `protect` | (std) dividers, housekeeping, window, protections and soft-start |
+//! | `protect` | (std) the protections and the soft-start, and the shared choices' reasons |
 //! | `proposal` | (std) the whole proposal, each choice with its reason |
 //! | `range` | (std) the predictions over the input × load range |
 //! | `report` | (std) the proposal as printed |
@@ -32,6 +34,8 @@ pub mod budget;
 #[cfg(feature = "std")]
 pub mod const_block;
 #[cfg(feature = "std")]
+pub mod context;
+#[cfg(feature = "std")]
 pub mod divider;
 #[cfg(feature = "std")]
 pub mod facts;
@@ -49,3 +53,5 @@ pub mod protect;
 pub mod range;
 #[cfg(feature = "std")]
 pub mod report;
+#[cfg(feature = "std")]
+pub mod values;

@@ -4,8 +4,9 @@
 
 use super::budget::{Budget, Rates, Scheme};
 use super::closed_form::pulse_of_peak;
-use super::laws::{edge_delay, eng, pct, point, reject, LawChoice, LawPlan, Unfit, PLANNED_SHARE};
-use super::proposal::{Choice, Context};
+use super::context::{Choice, Context};
+use super::laws::{edge_delay, point, reject, LawChoice, LawPlan, Unfit, PLANNED_SHARE};
+use super::values::{eng, pct};
 use crate::sim::cpu::Handler;
 
 /// The on-time law's target at most the window's ceiling over this (its

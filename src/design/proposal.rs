@@ -1,94 +1,18 @@
-//! A first configuration from the board's facts: the loop that fits the
-//! core ([`super::laws`]), the rates, the window, the protections and the
-//! soft-start ([`super::protect`]), each with the rule it follows.
+//! A first configuration from the board's facts: the shared settings
+//! ([`super::context`]), the first loop in order of preference that fits
+//! the core ([`super::hysteretic_plan`], [`super::on_time_plan`]) and
+//! passes the check, the protections and the soft-start
+//! ([`super::protect`]), each with the rule it follows.
 
 use super::budget::Scheme;
+use super::context::{context, Choice, Context, Housekeeping};
 use super::divider::Divider;
 use super::facts::{refuse, AssumedStage, DesignError, Facts, LawRequest};
-use super::laws::{eng, plan, LawPlan, Unfit};
+use super::laws::{LawPlan, Unfit};
 use super::protect::{self, Protections};
 use super::range::{predict, Prediction};
+use super::values::eng;
 use crate::guard::WindowConfig;
-
-/// One choice and its reason.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Choice {
-    /// What was chosen, e.g. `band`.
-    pub topic: &'static str,
-    /// Its value as printed.
-    pub value: String,
-    /// What it keeps and the rule it follows.
-    pub why: String,
-}
-
-impl Choice {
-    /// A choice.
-    pub fn new(topic: &'static str, value: String, why: String) -> Self {
-        Self { topic, value, why }
-    }
-}
-
-/// The slow path's rate and the observer.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Housekeeping {
-    /// Rate, Hz.
-    pub hz: f64,
-    /// Observer bandwidth, Hz; `None`: no observer.
-    pub observer_hz: Option<f64>,
-}
-
-/// What every loop shares: the facts, the assumed stage, the dividers, the
-/// slow path and the window.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Context<'a> {
-    /// The facts.
-    pub facts: &'a Facts,
-    /// The stage's parts the facts do not name.
-    pub stage: AssumedStage,
-    /// Output divider.
-    pub output_divider: Divider,
-    /// Input divider.
-    pub input_divider: Divider,
-    /// Housekeeping.
-    pub hk: Housekeeping,
-    /// The frequency window.
-    pub window: WindowConfig,
-}
-
-impl Context<'_> {
-    /// Output volts per ADC (and DAC) code.
-    pub fn output_volts_per_code(&self) -> f64 {
-        self.facts.mcu.volts_per_code() / self.output_divider.ratio()
-    }
-
-    /// The input points the predictions and checks use: lowest, middle,
-    /// highest.
-    pub fn input_points(&self) -> [f64; 3] {
-        let b = &self.facts.board;
-        [b.vin_min_v, b.vin_nominal_v(), b.vin_max_v]
-    }
-
-    /// Readings of output and input for the protections and averages, Hz:
-    /// ten per housekeeping window (rule of this tool), within the ADC.
-    pub fn readings_hz(&self) -> f64 {
-        (10.0 * self.hk.hz).min(self.facts.mcu.max_sample_rate_hz)
-    }
-
-    /// The window's floor, Hz.
-    pub fn f_min(&self) -> f64 {
-        f64::from(self.window.f_min_hz)
-    }
-
-    /// The window's ceiling, Hz.
-    pub fn f_max(&self) -> f64 {
-        f64::from(self.window.f_max_hz)
-    }
-
-    /// The over-voltage threshold, V.
-    pub fn ovp_v(&self) -> f64 {
-        protect::ovp_v(self.facts.board.vout_v)
-    }
-}
 
 /// The whole proposal.
 #[derive(Clone, Debug, PartialEq)]
@@ -126,6 +50,14 @@ pub fn candidates(law: LawRequest) -> &'static [Scheme] {
     }
 }
 
+/// The loop of `scheme` for the context, if it fits.
+fn plan(scheme: Scheme, ctx: &Context) -> Result<LawPlan, Unfit> {
+    match scheme {
+        Scheme::HystereticEdge => super::hysteretic_plan::plan(ctx),
+        Scheme::OnTimeEdge | Scheme::OnTimeSampled => super::on_time_plan::plan(scheme, ctx),
+    }
+}
+
 /// A further check of a proposal (the simulator's, in
 /// [`crate::sim::design_check`]): `Err` says why it fails.
 pub type Check<'a> = &'a (dyn Fn(&Proposal) -> Result<(), String> + Sync);
@@ -139,7 +71,7 @@ pub fn propose(facts: &Facts) -> Result<Proposal, DesignError> {
 /// As [`propose`], passing over a loop whose proposal fails `check`.
 pub fn propose_with(facts: &Facts, check: Check) -> Result<Proposal, DesignError> {
     facts.validate()?;
-    let ctx = protect::context(facts)?;
+    let ctx = context(facts)?;
     let mut passed_over = Vec::new();
     for &scheme in candidates(facts.law) {
         match plan(scheme, &ctx) {
@@ -227,7 +159,7 @@ fn slowest_clock_that_fits(facts: &Facts, check: Check) -> Option<(Scheme, f64)>
     let fits = |mhz: u32| {
         let mut f = *facts;
         f.mcu.clock_hz = mhz * 1_000_000;
-        let ctx = protect::context(&f).ok()?;
+        let ctx = context(&f).ok()?;
         candidates(f.law).iter().copied().find(|&s| {
             plan(s, &ctx).is_ok_and(|plan| check(&assemble(&ctx, plan, Vec::new())).is_ok())
         })

@@ -1,73 +1,12 @@
-//! What every loop shares: the dividers, the housekeeping rate and the
-//! observer, the window, the protections and the soft-start.
+//! The protections and the soft-start every loop gets, sized from the
+//! predicted currents, and the reasons for the shared choices.
 
-use super::budget::{Budget, Scheme};
-use super::divider::Divider;
-use super::facts::{refuse, AssumedStage, DesignError, Facts};
-use super::laws::{eng, LawPlan};
-use super::proposal::{Choice, Context, Housekeeping};
+use super::budget::Scheme;
+use super::context::{vin_max_v, Choice, Context, HOUSEKEEPING_SHARE};
+use super::laws::{LawPlan, PLANNED_SHARE};
 use super::range::Prediction;
-use crate::guard::{LightLoad, WindowConfig};
+use super::values::{eng, pct_over, round_down, round_to, round_up};
 use crate::supervisor::ProtectionConfig;
-
-/// The window every proposal uses: 20 kHz, above the audible band, to
-/// 140 kHz, below CISPR 32's conducted band from 150 kHz (common practice,
-/// [`WindowConfig::demo`]); the demo driver's minimum on- and off-times; a
-/// maximum on-time of 80 % of the longest period; smaller pulses at light
-/// load.
-pub fn window() -> WindowConfig {
-    let demo = WindowConfig::demo();
-    WindowConfig { max_on_s: 0.8 / demo.f_min_hz, light_load: LightLoad::SmallerPulses, ..demo }
-}
-
-/// The over-voltage threshold: 10 % above the output (common practice).
-pub fn ovp_v(vout_v: f64) -> f64 {
-    round_to(1.1 * vout_v, 0.01)
-}
-
-/// Share of the core above which the observer is dropped and housekeeping
-/// slows to 1 kHz (rule of this tool).
-pub const HOUSEKEEPING_SHARE: f64 = 0.25;
-
-/// The shared settings for `facts`; refused when a divider cannot be
-/// built.
-pub fn context(facts: &Facts) -> Result<Context<'_>, DesignError> {
-    let (b, m) = (&facts.board, &facts.mcu);
-    // The output at half the reference leaves room for the over-voltage
-    // threshold and overshoots (rule of this tool).
-    let output_divider = Divider::at_most(10e3, 0.5 * m.adc_reference_v / b.vout_v)
-        .ok_or_else(|| refuse("--vout", "is too high for a 10 k divider to the ADC"))?;
-    let input_divider = Divider::at_most(100e3, m.adc_reference_v / (1.2 * vin_max_v(b.vin_max_v)))
-        .ok_or_else(|| refuse("--vin", "is too high for a 100 k divider to the ADC"))?;
-    Ok(Context {
-        facts,
-        stage: AssumedStage::demo(),
-        output_divider,
-        input_divider,
-        hk: housekeeping(facts)?,
-        window: window(),
-    })
-}
-
-/// Housekeeping at three times the output filter's resonance, whole kHz,
-/// at least 1 kHz, with the observer at a fifth of it; when that costs
-/// more than [`HOUSEKEEPING_SHARE`] of the core, 1 kHz without the
-/// observer.
-fn housekeeping(facts: &Facts) -> Result<Housekeeping, DesignError> {
-    let budget = Budget::new(Scheme::OnTimeSampled, &facts.mcu)?;
-    let hz = (3.0 * facts.board.lc_resonance_hz() / 1e3).ceil().max(1.0) * 1e3;
-    Ok(if budget.housekeeping_share(hz) <= HOUSEKEEPING_SHARE {
-        Housekeeping { hz, observer_hz: Some(hz / 5.0) }
-    } else {
-        Housekeeping { hz: 1e3, observer_hz: None }
-    })
-}
-
-/// The input's over-voltage stop: 10 % above the highest input, rounded
-/// up to 0.5 V (rule of this tool).
-pub fn vin_max_v(vin_max: f64) -> f64 {
-    (1.1 * vin_max / 0.5).ceil() * 0.5
-}
 
 /// The protections and the soft-start.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -172,7 +111,7 @@ pub fn choices(ctx: &Context, plan: &LawPlan, p: &Protections) -> Vec<Choice> {
     out.push(Choice::new(
         "cpu",
         format!("{} at {}: {:.0} % planned", plan.budget.core().name(), eng(f64::from(ctx.facts.mcu.clock_hz), "Hz"), 100.0 * plan.load),
-        format!("each handler's counted instructions × the core's cycles per instruction, plus entry and exit, at the planned rates (light load at up to 2.5 × the floor); at most {:.0} %", 100.0 * super::laws::PLANNED_SHARE),
+        format!("each handler's counted instructions × the core's cycles per instruction, plus entry and exit, at the planned rates (light load at up to 2.5 × the floor); at most {:.0} %", 100.0 * PLANNED_SHARE),
     ));
     out
 }
@@ -191,20 +130,4 @@ fn housekeeping_choice(ctx: &Context) -> Choice {
             format!("3 × the LC resonance {} would take over {:.0} % of the core: without the observer 1 kHz serves the protections and the averages", eng(f_lc, "Hz"), 100.0 * HOUSEKEEPING_SHARE),
         ),
     }
-}
-
-fn pct_over(x: f64) -> String {
-    format!("{:.0} %", 100.0 * (x - 1.0))
-}
-
-fn round_up(x: f64, step: f64) -> f64 {
-    ((x / step) - 1e-9).ceil() * step
-}
-
-fn round_down(x: f64, step: f64) -> f64 {
-    ((x / step) + 1e-9).floor() * step
-}
-
-fn round_to(x: f64, step: f64) -> f64 {
-    (x / step).round() * step
 }

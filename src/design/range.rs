@@ -5,9 +5,9 @@
 use super::closed_form::{
     hysteretic_dcm_pulse, on_time_frequency_dcm, pulse_of_peak, OperatingPoint,
 };
+use super::context::Context;
 use super::delayed::{ccm_output_ripple, hysteretic_cycle_ccm};
 use super::laws::{filter, point, LawChoice, LawPlan};
-use super::proposal::Context;
 use crate::sim::build::TRIM_MIN;
 
 /// Load shares the table shows: 10 %, 50 % and 100 % of full load.

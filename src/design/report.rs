@@ -1,8 +1,8 @@
 //! The proposal as `ripplectl design` prints it: the facts, each choice
 //! with its reason, and the predictions over the input × load range.
 
-use super::laws::eng;
 use super::proposal::Proposal;
+use super::values::eng;
 use std::fmt::Write as _;
 
 /// Width of the printed text.

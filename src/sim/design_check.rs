@@ -9,8 +9,8 @@ use super::design_scenario::scenario;
 use super::sweep::operating_point;
 use super::{run, Summary};
 use crate::design::facts::{DesignError, Facts};
-use crate::design::laws::eng;
 use crate::design::proposal::{propose_with, Proposal};
+use crate::design::values::eng;
 use rayon::prelude::*;
 
 /// Simulated time per point: the soft-start and the DC correction settle

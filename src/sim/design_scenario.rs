@@ -3,8 +3,10 @@
 
 use super::scenario::{Scenario, ScenarioError};
 use crate::design::budget::Scheme;
-use crate::design::laws::{eng, LawChoice};
-use crate::design::proposal::{Choice, Proposal};
+use crate::design::context::Choice;
+use crate::design::laws::LawChoice;
+use crate::design::proposal::Proposal;
+use crate::design::values::eng;
 use std::fmt::Write as _;
 
 /// Simulated time of the written scenario: a cold start, a load step and
