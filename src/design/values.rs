@@ -3,7 +3,7 @@
 
 /// A value with an engineering prefix (the simulator's report format).
 pub fn eng(x: f64, unit: &str) -> String {
-    crate::sim::report::eng(x, unit)
+    crate::sim::notation::eng(x, unit)
 }
 
 /// A fraction as a percentage.

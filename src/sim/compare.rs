@@ -3,7 +3,7 @@
 
 use super::emission::EmissionSummary;
 use super::metrics::Summary;
-use super::report::eng;
+use super::notation::eng;
 use super::transient::Transient;
 
 /// How a figure is written.

@@ -23,6 +23,7 @@
 //! | [`accounting`] | the true efficiency over the windows in regulation |
 //! | [`netlist`] | SPICE netlists of the stage for external cross-checks |
 //! | [`open_loop`] | fixed-duty runs of the power stage alone |
+//! | [`notation`] | values as the reports print them (engineering notation) |
 //! | [`report`] | terminal table, CSV |
 //! | [`plot`] | SVG plots |
 //! | [`sweep`] | input × load grids in parallel |
@@ -46,6 +47,7 @@ pub mod linear;
 pub mod mcu;
 pub mod metrics;
 pub mod netlist;
+pub mod notation;
 pub mod open_loop;
 pub mod pages;
 pub mod peripherals;

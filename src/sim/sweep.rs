@@ -2,9 +2,9 @@
 
 use super::engine::{run_with, RunError, RunOutput};
 use super::metrics::Summary;
+use super::notation::eng;
 use super::plant::Stage;
 use super::profile::{InputProfile, Load, LoadChange};
-use super::report::eng;
 use super::run_control::RunControl;
 use super::scenario::{HystereticInput, LawParams, Scenario};
 use crate::design;

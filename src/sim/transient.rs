@@ -17,10 +17,10 @@
 //! - **frequency extremes during the recovery**: over the switching cycles
 //!   that overlap it, Hz.
 
+use super::notation::eng;
 use super::profile::{InputProfile, Load, LoadChange};
 use super::quadratic::Quadratic;
-use super::record::{Cycle, Observation};
-use super::report::eng;
+use super::record::items::{Cycle, Observation};
 use super::scenario::Scenario;
 use serde::{Deserialize, Serialize};
 

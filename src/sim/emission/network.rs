@@ -34,6 +34,7 @@
 //! keeps its ideal source with `r_source_ohm`; this network serves the
 //! estimate only.
 
+use crate::sim::plant::InputCapacitor;
 use realfft::num_complex::Complex64;
 use serde::{Deserialize, Serialize};
 use std::f64::consts::PI;
@@ -43,19 +44,6 @@ use std::f64::consts::PI;
 pub const LISN_R_OHM: f64 = 50.0;
 /// Inductance of the LISN, H (CISPR 16-1-2, 50 Ω/50 µH network).
 pub const LISN_L_H: f64 = 50e-6;
-
-/// The converter's input capacitor (`[plant] input_capacitor`): it supplies
-/// most of the pulsating switch current.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct InputCapacitor {
-    /// Capacitance, F (> 0).
-    pub c_f: f64,
-    /// Equivalent series resistance, Ω (≥ 0).
-    pub esr_ohm: f64,
-    /// Equivalent series inductance, H (≥ 0).
-    pub esl_h: f64,
-}
 
 impl InputCapacitor {
     /// Impedance at angular frequency `w` (rad/s, > 0), Ω.

@@ -37,7 +37,7 @@ mod scan;
 pub use conduction::Conduction;
 pub use energy::{EnergyLedger, Loss};
 pub use events::{Stop, Watch};
-pub use params::{CoreLoss, Environment, PlantParams, Stage};
+pub use params::{CoreLoss, Environment, InputCapacitor, PlantParams, Stage};
 pub use saturation::Saturation;
 pub use scan::{Ahead, Event, Scan};
 

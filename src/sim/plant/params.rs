@@ -90,7 +90,7 @@ pub struct PlantParams {
     /// The input capacitor, for the conducted-emission estimate only (the
     /// time-domain stage sees the ideal source and `r_source_ohm`).
     #[serde(default)]
-    pub input_capacitor: Option<crate::sim::emission::InputCapacitor>,
+    pub input_capacitor: Option<InputCapacitor>,
 }
 
 impl PlantParams {
@@ -126,4 +126,18 @@ impl Environment {
     pub fn load_i_at(&self, tau: f64) -> f64 {
         self.load_i_a + self.load_i_slope * tau
     }
+}
+
+/// The converter's input capacitor (`[plant] input_capacitor`): it supplies
+/// most of the pulsating switch current. Its impedance is the emission
+/// estimate's ([`crate::sim::emission::InputNetwork`]).
+#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct InputCapacitor {
+    /// Capacitance, F (> 0).
+    pub c_f: f64,
+    /// Equivalent series resistance, Ω (≥ 0).
+    pub esr_ohm: f64,
+    /// Equivalent series inductance, H (≥ 0).
+    pub esl_h: f64,
 }

@@ -257,7 +257,7 @@ impl Verdict {
 }
 
 fn describe(what: &str, value: f64, side: &str, limit: f64, unit: &str) -> String {
-    use crate::sim::report::eng;
+    use crate::sim::notation::eng;
     if value.is_nan() {
         return format!("{what} not available (no steady switching)");
     }

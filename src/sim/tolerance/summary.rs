@@ -5,7 +5,7 @@ use super::criteria::{Limits, FIGURES};
 use super::draw::Setting;
 use super::stats::{wilson, FigureStats, Z_95};
 use super::{Mode, Outcome, RunResult};
-use crate::sim::report::eng;
+use crate::sim::notation::eng;
 use serde::Serialize;
 use std::fmt::Write as _;
 
