@@ -186,7 +186,7 @@ pub fn run(scenario: &Scenario) -> Result<Summary, RunError> {
     let parts = build::stack_parts(scenario)?;
     let law =
         TwoBandHysteretic::new(&demo_config(config.setpoint_v), &config.output_adc, &config.clock)
-            .map_err(|e| RunError::Config(build::keyed(scenario, e)))?;
+            .map_err(|e| RunError::Config(sim::scenario::keyed(scenario, e)))?;
     let started = std::time::Instant::now();
     let out = sim::run_firmware(scenario, |p| StackFirmware::new(Stack::new(law, parts), p))?;
     Ok(Summary::of(&out, "two-band hysteretic", started.elapsed().as_secs_f64()))

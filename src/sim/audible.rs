@@ -125,7 +125,7 @@ pub fn lines(record: &CellGrid) -> Option<Lines> {
 
 /// Share of steady switching time in periods longer than [`SLOW_PERIOD_S`].
 fn slow_period_share(out: &RunOutput) -> f64 {
-    slow_share(super::metrics::steady_cycles(out).map(|c| c.period_s))
+    slow_share(out.recorder.steady_cycles().map(|c| c.period_s))
 }
 
 /// Share of the summed time of `periods` (s) spent in those longer than

@@ -7,7 +7,6 @@ use super::cpu::CpuUsage;
 use super::emission::{EmissionSummary, Estimate};
 use super::engine::RunOutput;
 use super::plant::{EnergyLedger, Loss};
-use super::record::Cycle;
 use super::transient::Transient;
 use crate::guard::ClampCounts;
 use serde::ser::{SerializeMap, Serializer};
@@ -116,15 +115,10 @@ fn ratio(a: f64, b: f64) -> f64 {
     }
 }
 
-/// The completed cycles that start in a steady window.
-pub fn steady_cycles<'a>(out: &'a RunOutput) -> impl Iterator<Item = &'a Cycle> + 'a {
-    out.recorder.cycles.iter().filter(|c| c.period_s.is_finite() && out.recorder.is_steady(c.t_s))
-}
-
 /// Frequency statistics `(min, mean, max)` over steady cycles, Hz.
 pub fn frequency_stats(out: &RunOutput) -> (f64, f64, f64) {
     let (mut n, mut total, mut lo, mut hi) = (0u64, 0.0, f64::INFINITY, 0.0f64);
-    for c in steady_cycles(out) {
+    for c in out.recorder.steady_cycles() {
         n += 1;
         total += c.period_s;
         lo = lo.min(c.period_s);
@@ -157,7 +151,9 @@ impl Summary {
         let windows = &out.recorder.windows;
         let steady_s: f64 = windows.iter().map(|w| w.to_s - w.from_s).sum();
         let vo_integral: f64 = windows.iter().map(|w| w.vo_integral).sum();
-        let (ripple_sum, ripple_n) = steady_cycles(out)
+        let (ripple_sum, ripple_n) = out
+            .recorder
+            .steady_cycles()
             .fold((0.0, 0u32), |(s, n), c| (s + (c.vo_max_v - c.vo_min_v), n + 1));
         let (fsw_min_hz, fsw_mean_hz, fsw_max_hz) = frequency_stats(out);
         let e = steady_energy(out);

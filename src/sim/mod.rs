@@ -11,6 +11,7 @@
 //! | [`peripherals`] | simulated gate pin, compare timer, comparator and DAC |
 //! | [`build`] | the crate's stack configured from a scenario |
 //! | [`mcu`] | the microcontroller model: ADC, comparator |
+//! | [`cores`] | the named cores: cycles per instruction, interrupt entry and exit |
 //! | [`cpu`] | the core: each handler's cost, and how handlers share it |
 //! | [`design_scenario`] | a design proposal as a commented scenario file |
 //! | [`design_check`] | a design proposal run over its input × load range before it is offered |
@@ -35,6 +36,7 @@ pub mod audible;
 pub mod build;
 pub mod cells;
 pub mod compare;
+pub mod cores;
 pub mod cpu;
 pub mod design_check;
 pub mod design_scenario;
@@ -64,7 +66,8 @@ pub mod tolerance;
 pub mod transient;
 pub mod zoom;
 
-pub use engine::{run, run_firmware, run_with, RunError, RunOutput};
+pub use build::{run, run_with};
+pub use engine::{run_firmware, RunError, RunOutput};
 pub use firmware::{Firmware, StackFirmware};
 pub use metrics::Summary;
 pub use peripherals::Peripherals;

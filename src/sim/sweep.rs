@@ -1,6 +1,7 @@
 //! Input-voltage × load grids, run in parallel.
 
-use super::engine::{run_with, RunError, RunOutput};
+use super::build::run_with;
+use super::engine::{RunError, RunOutput};
 use super::metrics::Summary;
 use super::notation::eng;
 use super::plant::Stage;

@@ -21,7 +21,6 @@ use super::notation::eng;
 use super::profile::{InputProfile, Load, LoadChange};
 use super::quadratic::Quadratic;
 use super::record::items::{Cycle, Observation};
-use super::scenario::Scenario;
 use serde::{Deserialize, Serialize};
 
 /// Default recovery band: this fraction of the setpoint either side.
@@ -146,13 +145,6 @@ impl TransientTracker {
             })
             .collect();
         Self { watches, setpoint_v, band_v, cursor: 0 }
-    }
-
-    /// The tracker a scenario asks for.
-    pub fn for_scenario(s: &Scenario) -> Self {
-        let setpoint_v = s.control.law.setpoint_v();
-        let band_v = s.transient.unwrap_or_default().band_v(setpoint_v);
-        Self::new(disturbances(&s.input, &s.load, s.duration_s), s.duration_s, setpoint_v, band_v)
     }
 
     /// The setpoint the figures are relative to, V.

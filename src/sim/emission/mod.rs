@@ -11,6 +11,7 @@
 //! | module | what |
 //! |---|---|
 //! | [`network`] | LISN, input filter, input capacitor: switch current → LISN voltage |
+//! | [`params`] | the scenario's `[emission]` table |
 //! | [`switch_current`] | the switch current rebuilt from the recorded cycles |
 //! | [`receiver`] | RBW filter, peak and average detectors |
 //! | [`limits`] | CISPR 32 limit lines |
@@ -26,6 +27,7 @@
 
 pub mod limits;
 pub mod network;
+pub mod params;
 pub mod plot;
 pub mod receiver;
 pub mod switch_current;
@@ -37,24 +39,13 @@ use super::scenario::Scenario;
 pub use crate::sim::plant::InputCapacitor;
 pub use limits::{Class, Detector};
 pub use network::{InputFilter, InputNetwork};
+pub use params::EmissionParams;
 use rayon::prelude::*;
 use realfft::num_complex::Complex64;
 use realfft::RealFftPlanner;
 pub use receiver::{Receiver, Scan};
-use serde::{Deserialize, Serialize};
+use serde::Serialize;
 pub use switch_current::{Ramps, Waveform};
-
-/// The `[emission]` table of a scenario.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct EmissionParams {
-    /// Limit class (default B).
-    #[serde(default)]
-    pub class: Class,
-    /// Input filter between the networks and the input capacitor, if fitted.
-    #[serde(default)]
-    pub filter: Option<InputFilter>,
-}
 
 /// Longest cell of the switch-current record, s (a 256 MHz rate at least).
 pub const MAX_CELL_S: f64 = 1.0 / 256e6;

@@ -38,7 +38,7 @@ use super::plant::{Ahead, EnergyLedger, Event, Plant, Stage};
 use super::profile::Profile;
 use super::record::Recorder;
 use super::run_control::{RunControl, CHECK_EVERY};
-use super::scenario::{Scenario, ScenarioError};
+use super::scenario::{keyed, Scenario, ScenarioError};
 use super::transient::TransientTracker;
 use crate::guard::ClampCounts;
 use crate::supervisor::FaultKind;
@@ -160,18 +160,6 @@ struct Engine<F> {
     probe: Option<u64>,
 }
 
-/// Run a scenario to its end with the crate's stack, configured as the
-/// scenario says.
-pub fn run(scenario: &Scenario) -> Result<RunOutput, RunError> {
-    run_with(scenario, &RunControl::default())
-}
-
-/// [`run`], reporting progress to `control` and stopping with
-/// [`RunError::Cancelled`] when it asks.
-pub fn run_with(scenario: &Scenario, control: &RunControl) -> Result<RunOutput, RunError> {
-    super::build::run_stack(scenario, control)
-}
-
 /// Run a scenario with a firmware of your own: `build` receives the
 /// simulated peripherals and returns the firmware wired to them. The
 /// scenario gives the plant, the microcontroller (clock, ADC, latencies,
@@ -242,7 +230,7 @@ impl<F: Firmware> Engine<F> {
         // plant's time runs on the true clock (see `hardware`).
         let hz = f64::from(sc.mcu.clock_hz);
         let hz_true = true_clock_hz(&sc.mcu);
-        let key = |e| super::build::keyed(sc, e);
+        let key = |e| keyed(sc, e);
         let profile = sc.profile();
         let recorder = Recorder::new(sc.duration_s, &profile.disturbances(), SLICES)
             .with_transients(TransientTracker::for_scenario(sc));

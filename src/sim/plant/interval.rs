@@ -1,4 +1,5 @@
-//! A level over an interval ahead of the plant: whether and where it is
+//! A point ahead of the plant ([`Ahead`]), and a level over an interval
+//! ahead of it: whether and where it is
 //! first reached, on the closed form, from its values and rates at the
 //! interval's ends.
 //!
@@ -11,8 +12,16 @@
 
 use super::events::{chord_zero, refine_from, Bracket};
 use super::hermite::Hermite;
-use super::scan::Ahead;
 use crate::sim::linear::{Affine, Followed, Trajectory, Vec2};
+
+/// A point ahead of the plant: its time (s after the plant's) and state.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Ahead {
+    /// Time after the plant's, s.
+    pub t: f64,
+    /// State `[i_L, v_C]` there.
+    pub x: Vec2,
+}
 
 /// Which side of a level counts as crossed.
 #[derive(Clone, Copy, Debug, PartialEq)]

@@ -37,9 +37,10 @@ mod scan;
 pub use conduction::Conduction;
 pub use energy::{EnergyLedger, Loss};
 pub use events::{Stop, Watch};
+pub use interval::Ahead;
 pub use params::{CoreLoss, Environment, InputCapacitor, PlantParams, Stage};
 pub use saturation::Saturation;
-pub use scan::{Ahead, Event, Scan};
+pub use scan::{Event, Scan};
 
 use crate::sim::linear::{Affine, Trajectory, Vec2};
 use conduction::{output_map, Solutions};

@@ -9,18 +9,8 @@
 
 use super::conduction::Conduction;
 use super::events::{current_less, Stop, Watch};
-use super::interval::{Interval, Toward};
+use super::interval::{Ahead, Interval, Toward};
 use super::Plant;
-use crate::sim::linear::Vec2;
-
-/// A point ahead of the plant: its time (s after the plant's) and state.
-#[derive(Clone, Copy, Debug, PartialEq)]
-pub struct Ahead {
-    /// Time after the plant's, s.
-    pub t: f64,
-    /// State `[i_L, v_C]` there.
-    pub x: Vec2,
-}
 
 /// What [`Plant::scan`] found.
 #[derive(Clone, Copy, Debug, PartialEq)]

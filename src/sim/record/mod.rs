@@ -407,4 +407,9 @@ impl Recorder {
     pub fn is_steady(&self, t_s: f64) -> bool {
         self.windows.iter().any(|w| t_s >= w.from_s && t_s < w.to_s)
     }
+
+    /// The completed cycles that start in a steady window.
+    pub fn steady_cycles(&self) -> impl Iterator<Item = &Cycle> + '_ {
+        self.cycles.iter().filter(|c| c.period_s.is_finite() && self.is_steady(c.t_s))
+    }
 }

@@ -11,12 +11,12 @@
 //! | `validate` | each value in its range, each refusal on its key |
 //! | `locate` | the line a key is set on; a TOML reader's error as one line |
 
-use super::cpu::Core;
-use super::emission::EmissionParams;
+use super::cores::Core;
+use super::emission::params::EmissionParams;
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, LoadChange, Profile};
 use super::tolerance::ToleranceParams;
-use super::transient::TransientParams;
+use super::transient::{disturbances, TransientParams, TransientTracker};
 use crate::estimate::InductorModel;
 use crate::guard::WindowConfig;
 use crate::law::HystereticConfig;
@@ -24,9 +24,11 @@ use crate::supervisor::ProtectionConfig;
 use serde::{Deserialize, Serialize};
 use std::fmt;
 
+mod keys;
 mod locate;
 mod validate;
 
+pub use keys::{keyed, scenario_key};
 pub use locate::locate_key;
 use locate::parse_error;
 
@@ -362,5 +364,15 @@ impl Scenario {
     /// The input and load profile.
     pub fn profile(&self) -> Profile {
         Profile::new(self.input.clone(), self.load.clone())
+    }
+}
+
+impl TransientTracker {
+    /// The tracker a scenario asks for: its disturbances, setpoint and
+    /// recovery band.
+    pub fn for_scenario(s: &Scenario) -> Self {
+        let setpoint_v = s.control.law.setpoint_v();
+        let band_v = s.transient.unwrap_or_default().band_v(setpoint_v);
+        Self::new(disturbances(&s.input, &s.load, s.duration_s), s.duration_s, setpoint_v, band_v)
     }
 }
