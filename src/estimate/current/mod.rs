@@ -18,7 +18,7 @@
 //! ([`CurrentEstimator::set_voltage_codes`],
 //! [`CurrentEstimator::take_window`]). Charge and RMS sums per phase are
 //! formed on the slow path from the cycles' peak, valley and tick sums
-//! ([`Phases`]).
+//! ([`Phases`](super::Phases)).
 //!
 //! **What it needs to know** ([`InductorModel`]): `L` sets the ripple's
 //! amplitude (a 10 % error in `L` is a 10 % error in the ripple, and in the
@@ -44,20 +44,29 @@
 //!   readings (or [`CurrentEstimator::update`]) coming faster than that; an
 //!   idle DCM gap beyond it changes nothing at zero current;
 //! - the window's sums and phases: see [`phases`](super::phases).
+//!
+//! The estimator's state and read-out are here; its methods are grouped
+//! by concern in this module's files: `slopes.rs` (the slope and code
+//! scales, how voltages, readings and drops set the slopes, with their
+//! formats), `segments.rs` (the fast path: segments integrated between
+//! events, a cycle's currents at its edges) and `window.rs` (the slow
+//! path: a window's sums turned into phases, the drops at its mean
+//! current).
 
 mod segments;
 mod slopes;
+mod window;
 
 pub use slopes::SlopeScale;
 
 use super::model::InductorModel;
-use super::phases::{midpoint, CycleCurrents, Phases, WindowTotals};
+use super::phases::{CycleCurrents, WindowTotals};
 use crate::error::{attempt, positive, ConfigError};
 use crate::law::Gate;
 use crate::scale::TimerClock;
 use crate::tick::Instant;
+use crate::units::to_fixed_i32;
 pub use crate::units::Amps;
-use crate::units::{clamp_i32, div_i64, div_u64, ratio, scale, to_fixed_i32, ARMV6M};
 use slopes::{slope_bits, CodeScale};
 
 /// Largest current magnitude held, in `Amps` bits: 2 048 A.
@@ -205,87 +214,5 @@ impl CurrentEstimator {
         let shifted = within(self.current.saturating_add(delta.to_bits()), CURRENT_LIMIT_BITS);
         // The floor is zero for a diode stage and below the range otherwise.
         self.current = shifted.max(self.off_floor);
-    }
-
-    /// Slow path: take and reset the cycle sums, turn them into phase
-    /// currents, and take the resistive drop at the window's mean current
-    /// from now on.
-    pub fn take_window(&mut self) -> Phases {
-        let totals = core::mem::take(&mut self.totals);
-        let phases = self.phases(&totals);
-        if phases.cycles > 0 {
-            self.set_drops(phases.average());
-        }
-        phases
-    }
-
-    /// Ticks for the off-slope to bring `peak` to zero (`u32::MAX` when it
-    /// does not fall).
-    fn fall_ticks(&self, peak: Amps) -> u32 {
-        let fall = -(self.off_base - self.vout_term);
-        if fall <= 0 {
-            return u32::MAX;
-        }
-        // peak: 2⁻¹⁶ A; fall: 2⁻²⁴ A per tick.
-        let t = div_i64(i64::from(peak.to_bits().max(0)) << 8, i64::from(fall));
-        if t > i64::from(u32::MAX) {
-            u32::MAX
-        } else {
-            t as u32
-        }
-    }
-
-    /// A cycle's average current (slow path, integer only): the trapezoid's
-    /// mean `(peak + valley)/2` in CCM; in DCM the triangle's charge
-    /// `½·peak·(T_on + T_fall)` over the period, `T_fall` at the off-slope.
-    pub fn cycle_average(&self, c: &CycleCurrents) -> Amps {
-        if !c.dcm || c.period_ticks == 0 {
-            return midpoint(c.peak, c.valley);
-        }
-        let rest = c.period_ticks.saturating_sub(c.on_ticks);
-        let t_fall = self.fall_ticks(c.peak).min(rest);
-        let conducting = u64::from(c.on_ticks) + u64::from(t_fall);
-        scale(midpoint(c.peak, Amps::ZERO), ratio(conducting, u64::from(c.period_ticks)))
-    }
-
-    /// Phase currents of `totals` (slow path, integer only).
-    pub fn phases(&self, totals: &WindowTotals) -> Phases {
-        if totals.cycles == 0 || totals.period_ticks == 0 {
-            // All zero (no cycles, or their time wrapped to zero). On a
-            // Cortex-M0 the time is taken from the totals (zero here too):
-            // the compiler then stores eight zero words and a copy instead
-            // of clearing all nine through a library routine
-            // (`__aeabi_memclr4`, 158 bytes, linked for this alone); other
-            // cores clear them inline either way.
-            let period_ticks = if ARMV6M { totals.period_ticks } else { 0 };
-            return Phases { period_ticks, ..Phases::default() };
-        }
-        let n = i64::from(totals.cycles);
-        let mean = |sum: i64| Amps::from_bits(clamp_i32(div_i64(sum, n)));
-        let (peak, valley) = (mean(totals.peak_sum), mean(totals.valley_sum));
-        let time = u64::from(totals.period_ticks);
-        let rest = time.saturating_sub(u64::from(totals.on_ticks));
-        // Off: CCM falls from peak to valley over the whole rest; DCM falls
-        // from peak to zero at the off-slope, then idles.
-        let dcm = totals.dcm_cycles * 2 > totals.cycles;
-        let (off_ticks, off_end) = if dcm {
-            // Below 2³¹ × 2³²: no overflow.
-            let fall =
-                u64::from(self.fall_ticks(peak).min(i32::MAX as u32)) * u64::from(totals.cycles);
-            (fall.min(rest), Amps::ZERO)
-        } else {
-            (rest, valley)
-        };
-        Phases {
-            cycles: totals.cycles,
-            dcm_cycles: totals.dcm_cycles,
-            period_ticks: totals.period_ticks,
-            f_sw_hz: div_u64(u64::from(totals.cycles) * u64::from(self.clock_hz), time) as u32,
-            peak,
-            valley,
-            off_end,
-            duty: ratio(u64::from(totals.on_ticks), time),
-            off_fraction: ratio(off_ticks, time),
-        }
     }
 }
