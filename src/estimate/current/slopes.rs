@@ -24,9 +24,9 @@
 //!   `I8F24`'s, as many (at most 24) as keep full scale × term below 2³¹
 //!   (and `term` cut to `(2³¹ − 1) / full scale` where none does), for
 //!   codes up to the channel's full scale; the share is then held at or
-//!   below the cap. The channel's offset is
-//!   ignored (its share is below one code's worth). A channel not followed
-//!   has `term` zero and its readings change nothing.
+//!   below the cap. The channel's offset is ignored (its share is below
+//!   one code's worth). A channel not followed has `term` zero and its
+//!   readings change nothing.
 //! - the drops at mean current `i` (slow path): `R·tick / L` per ampere is
 //!   kept in `I8F24` bits per ampere times 2¹⁶ (within `i32`: a drop of
 //!   `R·tick / L` below 2⁻⁹ per ampere); `(i bits × k) >> 32` is the drop's
@@ -34,7 +34,8 @@
 //! - the on-slope's reciprocal for
 //!   [`CurrentEstimator::ticks_to_reach`]: `2⁴⁰ / slope`, timer ticks per
 //!   ampere in 2⁻¹⁶ ticks, saturating at 2³² − 1; zero when the on-slope
-//!   does not rise. Formed at each change of voltages, not per reading.
+//!   does not rise. Formed when the voltages are set (`set_voltages`,
+//!   `set_voltage_codes`), not per reading.
 
 use super::{within, CurrentEstimator};
 use crate::estimate::model::InductorModel;
