@@ -3,7 +3,7 @@
 //! | module | what |
 //! |---|---|
 //! | [`model`] | what the estimator assumes about the power stage (configuration) |
-//! | [`current`] | piecewise-linear inductor current from the switching edges (fast path) |
+//! | [`current`] | piecewise-linear inductor current from the switching edges: the estimator and its read-out; its files `slopes.rs` (slope and code scales: voltages, readings and drops to slopes), `segments.rs` (segments integrated between events, fast path), `window.rs` (a window's sums to phases, slow path) |
 //! | [`phases`] | a cycle's currents, a window's sums and phases (slow path) |
 //! | [`observer`] | averaged-model Luenberger observer that holds the current's DC level (slow path) |
 //! | [`efficiency`] | efficiency: measured, or from a loss model of the current estimate (slow path) |
