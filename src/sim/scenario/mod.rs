@@ -15,7 +15,7 @@ use super::cores::Core;
 use super::emission::params::EmissionParams;
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, LoadChange, Profile};
-use super::tolerance::ToleranceParams;
+use super::tolerance::table::ToleranceParams;
 use super::transient::{disturbances, TransientParams, TransientTracker};
 use crate::estimate::InductorModel;
 use crate::guard::WindowConfig;

@@ -14,51 +14,9 @@
 //! stayed, as a fraction of the limit (negative: failed). The worst runs
 //! are those with the smallest margin.
 
+pub use super::table::Criteria;
 use crate::sim::{Scenario, Summary};
-use serde::{Deserialize, Serialize};
-
-/// The `[tolerance.criteria]` table.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
-#[serde(default, deny_unknown_fields)]
-pub struct Criteria {
-    /// Regulation band, ± % of the setpoint (default 2).
-    pub regulation_pct: f64,
-    /// The frequency window must hold.
-    pub window: bool,
-    /// Largest steady ripple, V peak to peak (default 2 % of the setpoint).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub ripple_max_v: Option<f64>,
-    /// Largest inductor peak current, A (default: saturation current, else
-    /// the current limit).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub il_peak_max_a: Option<f64>,
-    /// No fault may be logged.
-    pub no_fault: bool,
-    /// Largest undershoot at any disturbance, V.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub undershoot_max_v: Option<f64>,
-    /// Largest overshoot at any disturbance, V.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub overshoot_max_v: Option<f64>,
-    /// Longest recovery at any disturbance, s.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub recovery_max_s: Option<f64>,
-}
-
-impl Default for Criteria {
-    fn default() -> Self {
-        Self {
-            regulation_pct: 2.0,
-            window: true,
-            ripple_max_v: None,
-            il_peak_max_a: None,
-            no_fault: true,
-            undershoot_max_v: None,
-            overshoot_max_v: None,
-            recovery_max_s: None,
-        }
-    }
-}
+use serde::Serialize;
 
 /// What a run is judged on.
 #[derive(Clone, Debug, PartialEq, Serialize)]

@@ -4,6 +4,7 @@
 //!
 //! | module | what |
 //! |---|---|
+//! | [`table`] | the scenario's `[tolerance]` table: spreads and criteria as written |
 //! | [`spread`] | a parameter's limit and distribution |
 //! | [`params`] | the varied parameters, default spreads, how a value enters a scenario |
 //! | [`draw`] | one run's values (random from (seed, index), or a corner) |
@@ -24,28 +25,21 @@ pub mod params;
 pub mod spread;
 pub mod stats;
 pub mod summary;
+pub mod table;
 
-use self::criteria::{Criteria, Figures, Limits, Verdict};
+use self::criteria::{Figures, Limits, Verdict};
 use self::draw::Setting;
-use self::params::{Spreads, PARAMS};
+use self::params::PARAMS;
+use self::table::Spreads;
+pub use self::table::ToleranceParams;
 use super::build::run_with;
 use super::engine::RunError;
 use super::run_control::RunControl;
 use super::scenario::ScenarioError;
 use super::{Scenario, Summary};
 use rayon::prelude::*;
-use serde::{Deserialize, Serialize};
+use serde::Serialize;
 use std::sync::atomic::AtomicBool;
-
-/// The optional `[tolerance]` table of a scenario.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Serialize, Deserialize)]
-#[serde(default, deny_unknown_fields)]
-pub struct ToleranceParams {
-    /// Spreads (`[tolerance.spread]`).
-    pub spread: Spreads,
-    /// Pass criteria (`[tolerance.criteria]`).
-    pub criteria: Criteria,
-}
 
 impl ToleranceParams {
     /// Check every spread and criterion, naming the key.

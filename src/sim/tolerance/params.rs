@@ -24,72 +24,10 @@
 //! DC-bias curve configures.
 
 use super::spread::Spread;
+pub use super::table::Spreads;
 use crate::sim::plant::Stage;
 use crate::sim::profile::Load;
 use crate::sim::Scenario;
-use serde::{Deserialize, Serialize};
-
-/// The `[tolerance.spread]` table; a key left out keeps its default.
-#[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
-#[serde(default, deny_unknown_fields)]
-#[allow(missing_docs)] // each key is the parameter of the same name, see the module table
-pub struct Spreads {
-    pub l_h: Spread,
-    pub c_f: Spread,
-    pub esr_ohm: Spread,
-    pub dcr_ohm: Spread,
-    pub r_on_ohm: Spread,
-    pub r_on_low_ohm: Spread,
-    pub diode_vf_v: Spread,
-    pub diode_rd_ohm: Spread,
-    pub adc_gain_error: Spread,
-    pub adc_offset_error_v: Spread,
-    pub clock_error_ppm: Spread,
-    pub vin: Spread,
-    pub load: Spread,
-}
-
-impl Default for Spreads {
-    fn default() -> Self {
-        Self {
-            l_h: Spread::uniform_rel(0.20),
-            c_f: Spread::uniform_rel(0.20),
-            esr_ohm: Spread::uniform_rel(0.30),
-            dcr_ohm: Spread::uniform_rel(0.10),
-            r_on_ohm: Spread::uniform_rel(0.30),
-            r_on_low_ohm: Spread::uniform_rel(0.30),
-            diode_vf_v: Spread::uniform_rel(0.10),
-            diode_rd_ohm: Spread::uniform_rel(0.20),
-            adc_gain_error: Spread::uniform_abs(0.01),
-            adc_offset_error_v: Spread::uniform_abs(0.002),
-            clock_error_ppm: Spread::uniform_abs(10_000.0),
-            vin: Spread::none(),
-            load: Spread::none(),
-        }
-    }
-}
-
-impl Spreads {
-    /// Every spread zero: each run is the nominal one.
-    pub fn zero() -> Self {
-        let z = Spread::none();
-        Self {
-            l_h: z,
-            c_f: z,
-            esr_ohm: z,
-            dcr_ohm: z,
-            r_on_ohm: z,
-            r_on_low_ohm: z,
-            diode_vf_v: z,
-            diode_rd_ohm: z,
-            adc_gain_error: z,
-            adc_offset_error_v: z,
-            clock_error_ppm: z,
-            vin: z,
-            load: z,
-        }
-    }
-}
 
 /// One varied parameter.
 pub struct Param {
