@@ -11,10 +11,10 @@
 
 use rayon::prelude::*;
 use ripplectl::design::budget::Scheme;
+use ripplectl::design::check::propose_checked;
 use ripplectl::design::facts::{Board, Facts, LawRequest, Mcu};
 use ripplectl::design::proposal::{propose, Proposal};
-use ripplectl::sim::design_check::propose_checked;
-use ripplectl::sim::design_scenario::scenario;
+use ripplectl::design::scenario::scenario;
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::{self, Scenario, Summary};
 

@@ -17,11 +17,13 @@
 //! | `proposal` | (std) the whole proposal, each choice with its reason |
 //! | `range` | (std) the predictions over the input × load range |
 //! | `report` | (std) the proposal as printed |
+//! | `scenario` | (std) the proposal as a commented scenario file |
+//! | `check` | (std) the proposal run in the simulator over its input × load range before it is offered |
 //! | `const_block` | (std) the proposal as a firmware's `const` configuration (Rust source) |
 //!
 //! The flow (with `std`): board facts → `proposal::propose` → checked in
-//! the simulator over the input × load range (`sim::design_check`) → a
-//! scenario (`sim::design_scenario`) and a `const` block → `simulate`.
+//! the simulator over the input × load range (`check`) → a scenario
+//! (`scenario`) and a `const` block → `simulate`.
 
 pub mod closed_form;
 pub mod delayed;
@@ -31,6 +33,8 @@ pub use delayed::{ccm_output_ripple, hysteretic_cycle_ccm, HystereticCycle, NoCy
 
 #[cfg(feature = "std")]
 pub mod budget;
+#[cfg(feature = "std")]
+pub mod check;
 #[cfg(feature = "std")]
 pub mod const_block;
 #[cfg(feature = "std")]
@@ -53,5 +57,7 @@ pub mod protect;
 pub mod range;
 #[cfg(feature = "std")]
 pub mod report;
+#[cfg(feature = "std")]
+pub mod scenario;
 #[cfg(feature = "std")]
 pub mod values;

@@ -59,7 +59,7 @@ fn plan(scheme: Scheme, ctx: &Context) -> Result<LawPlan, Unfit> {
 }
 
 /// A further check of a proposal (the simulator's, in
-/// [`crate::sim::design_check`]): `Err` says why it fails.
+/// [`super::check`]): `Err` says why it fails.
 pub type Check<'a> = &'a (dyn Fn(&Proposal) -> Result<(), String> + Sync);
 
 /// Propose a configuration from the closed forms and the CPU budget, or

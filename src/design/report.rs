@@ -187,6 +187,6 @@ fn simulation(s: &mut String, points: &[Simulated]) {
     }
     wrapped(
         s,
-        "The written scenario at each point from a cold start, 20 ms, figures over the second half (ripplectl::sim::design_check): within 1 %, no fault, inside the window, CPU under 70 %.",
+        "The written scenario at each point from a cold start, 20 ms, figures over the second half (ripplectl::design::check): within 1 %, no fault, inside the window, CPU under 70 %.",
     );
 }

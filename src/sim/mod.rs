@@ -13,8 +13,6 @@
 //! | [`mcu`] | the microcontroller model: ADC, comparator |
 //! | [`cores`] | the named cores: cycles per instruction, interrupt entry and exit |
 //! | [`cpu`] | the core: each handler's cost, and how handlers share it |
-//! | [`design_scenario`] | a design proposal as a commented scenario file |
-//! | [`design_check`] | a design proposal run over its input × load range before it is offered |
 //! | [`engine`] | the event loop: plant, peripherals, interrupts |
 //! | [`hardware`] | the simulated peripherals' errors against the firmware's configuration |
 //! | [`run_control`] | progress and cancellation of a run |
@@ -38,8 +36,6 @@ pub mod cells;
 pub mod compare;
 pub mod cores;
 pub mod cpu;
-pub mod design_check;
-pub mod design_scenario;
 pub mod emission;
 pub mod engine;
 pub mod firmware;

@@ -3,12 +3,12 @@
 //! `const` configuration.
 
 use crate::failure::{bad_input, failed, Failure};
+use ripplectl::design::check::{propose_checked, Point};
 use ripplectl::design::const_block::const_block;
 use ripplectl::design::facts::{Board, Facts, LawRequest, Mcu};
 use ripplectl::design::report;
+use ripplectl::design::scenario::{scenario_toml, title};
 use ripplectl::sim::cpu::Core;
-use ripplectl::sim::design_check::{propose_checked, Point};
-use ripplectl::sim::design_scenario::{scenario_toml, title};
 use ripplectl::sim::report::write_all;
 use ripplectl::sim::Scenario;
 use std::path::Path;

@@ -1,12 +1,12 @@
-//! A proposal ([`crate::design::proposal`]) as a complete, commented
+//! A proposal ([`super::proposal`]) as a complete, commented
 //! scenario file that `simulate` runs as it is.
 
-use super::scenario::{Scenario, ScenarioError};
-use crate::design::budget::Scheme;
-use crate::design::context::Choice;
-use crate::design::laws::LawChoice;
-use crate::design::proposal::Proposal;
-use crate::design::values::eng;
+use super::budget::Scheme;
+use super::context::Choice;
+use super::laws::LawChoice;
+use super::proposal::Proposal;
+use super::values::eng;
+use crate::sim::scenario::{Scenario, ScenarioError};
 use std::fmt::Write as _;
 
 /// Simulated time of the written scenario: a cold start, a load step and

@@ -4,13 +4,13 @@
 //! with no fault, stay inside its window and keep the CPU under the
 //! simulator's 70 % warning.
 
-use super::cpu::WARN_LOAD;
-use super::design_scenario::scenario;
-use super::sweep::operating_point;
-use super::{run, Summary};
-use crate::design::facts::{DesignError, Facts};
-use crate::design::proposal::{propose_with, Proposal};
-use crate::design::values::eng;
+use super::facts::{DesignError, Facts};
+use super::proposal::{propose_with, Proposal};
+use super::scenario::scenario;
+use super::values::eng;
+use crate::sim::cpu::WARN_LOAD;
+use crate::sim::sweep::operating_point;
+use crate::sim::{run, Summary};
 use rayon::prelude::*;
 
 /// Simulated time per point: the soft-start and the DC correction settle
