@@ -85,6 +85,9 @@ fn the_const_block_configures_the_scenario_s_stack() {
     let sc = scenario("greenhouse-5v-ceramic");
     assert_eq!(ceramic::PARTS, build::stack_parts(&sc).unwrap());
     assert_eq!(build::law(&sc).unwrap(), ScenarioLaw::OnTime(ceramic::LAW));
+    // The driver the simulator checked the proposals with.
+    assert_eq!(demo::PULSE_END, ripplectl::sim::firmware::PULSE_END);
+    assert_eq!(ceramic::PULSE_END, ripplectl::sim::firmware::PULSE_END);
 }
 
 #[test]

@@ -8,7 +8,7 @@ use crate::sim::scenario::{LawParams, Scenario, ScenarioError};
 use crate::stack::{Sensing, StackConfig};
 use std::fmt::Write as _;
 
-/// The Rust source of `CONFIG`, `PARTS` and `LAW` for `sc`, under a header
+/// The Rust source of `CONFIG`, `PARTS`, `LAW` and `PULSE_END` for `sc`, under a header
 /// comment naming it.
 pub fn const_block(sc: &Scenario, title: &str) -> Result<String, ScenarioError> {
     let cfg = build::stack_config(sc)?;
@@ -22,7 +22,24 @@ pub fn const_block(sc: &Scenario, title: &str) -> Result<String, ScenarioError> 
          ripplectl::unwrap_config(ripplectl::stack::StackParts::new(&CONFIG));\n",
     );
     law(&mut s, sc);
+    pulse_end(&mut s);
     Ok(s)
+}
+
+/// The driver's pulse end the simulator ran the proposal with.
+fn pulse_end(s: &mut String) {
+    let _ = write!(
+        s,
+        "
+/// Who ends a pulse at a deadline armed while the gate is on: the timer's
+/// compare, in hardware (\"clear on match\", see `ripplectl::drive`), as in
+/// the simulator's check of this configuration. Build the `GateDriver` with
+/// it: ended from an interrupt handler instead, a pulse is longer by the
+/// handler's entry latency, and longer still when another handler runs first.
+pub const PULSE_END: ripplectl::drive::PulseEnd = ripplectl::drive::PulseEnd::{:?};
+",
+        crate::sim::firmware::PULSE_END
+    );
 }
 
 const HEADER: &str = "//

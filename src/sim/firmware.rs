@@ -69,6 +69,13 @@ pub trait Firmware {
     }
 }
 
+/// Who ends a pulse at a deadline armed while the gate is on, in the
+/// simulator: the timer's compare, in hardware (see [`PulseEnd`]).
+/// [`StackFirmware`] builds its driver with it, and `ripplectl design`
+/// writes it into the firmware's configuration it proposes, so the board
+/// ends its pulses as the check that passed the proposal did.
+pub const PULSE_END: PulseEnd = PulseEnd::Hardware;
+
 /// The crate's stack on the simulated peripherals.
 #[derive(Debug)]
 pub struct StackFirmware<L> {
@@ -79,13 +86,13 @@ pub struct StackFirmware<L> {
 
 impl<L: Law + Regulate> StackFirmware<L> {
     /// Wire `stack` to the simulated gate pin and compare, the timer ending
-    /// pulses in hardware (see [`PulseEnd::Hardware`]).
+    /// pulses in hardware ([`PULSE_END`]).
     pub fn new(stack: Stack<L>, peripherals: &Peripherals) -> Self {
         let Ok(driver) = GateDriver::new(
             peripherals.gate_pin(),
             peripherals.compare_timer(),
             Polarity::ActiveHigh,
-            PulseEnd::Hardware,
+            PULSE_END,
         );
         let mut firmware = Self {
             handlers: Handlers::new(stack, driver),

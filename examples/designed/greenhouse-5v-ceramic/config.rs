@@ -99,3 +99,10 @@ pub const LAW: ripplectl::law::OnTime = BASE
         1.5,
         &CONFIG.clock,
     )));
+
+/// Who ends a pulse at a deadline armed while the gate is on: the timer's
+/// compare, in hardware ("clear on match", see `ripplectl::drive`), as in
+/// the simulator's check of this configuration. Build the `GateDriver` with
+/// it: ended from an interrupt handler instead, a pulse is longer by the
+/// handler's entry latency, and longer still when another handler runs first.
+pub const PULSE_END: ripplectl::drive::PulseEnd = ripplectl::drive::PulseEnd::Hardware;
