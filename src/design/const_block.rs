@@ -1,15 +1,17 @@
 //! A designed scenario as a firmware's `const` configuration (Rust source):
 //! the same settings the simulator builds from the scenario
-//! ([`crate::sim::build`]), written as `const` items that the compiler
-//! evaluates, so a value out of range fails the build naming it.
+//! ([`crate::sim::build`]) and the driver's pulse end the simulator ran
+//! ([`crate::sim::firmware::PULSE_END`]), written as `const` items that the
+//! compiler evaluates, so a value out of range fails the build naming it.
 
+use crate::drive::PulseEnd;
 use crate::sim::build::{self, TRIM_GAIN, TRIM_MAX, TRIM_MIN};
 use crate::sim::scenario::{LawParams, Scenario, ScenarioError};
 use crate::stack::{Sensing, StackConfig};
 use std::fmt::Write as _;
 
-/// The Rust source of `CONFIG`, `PARTS`, `LAW` and `PULSE_END` for `sc`, under a header
-/// comment naming it.
+/// The Rust source of `CONFIG`, `PARTS`, `LAW` and `PULSE_END` for `sc`,
+/// under a header comment naming it.
 pub fn const_block(sc: &Scenario, title: &str) -> Result<String, ScenarioError> {
     let cfg = build::stack_config(sc)?;
     let mut s = String::new();
@@ -26,21 +28,36 @@ pub fn const_block(sc: &Scenario, title: &str) -> Result<String, ScenarioError> 
     Ok(s)
 }
 
-/// The driver's pulse end the simulator ran the proposal with.
+/// The driver's pulse end the simulator ran the proposal with, and what
+/// it asks of the board.
 fn pulse_end(s: &mut String) {
+    let (variant, why) = match crate::sim::firmware::PULSE_END {
+        PulseEnd::Hardware => ("Hardware", PULSE_END_HARDWARE),
+        PulseEnd::Software => ("Software", PULSE_END_SOFTWARE),
+    };
     let _ = write!(
         s,
-        "
-/// Who ends a pulse at a deadline armed while the gate is on: the timer's
-/// compare, in hardware (\"clear on match\", see `ripplectl::drive`), as in
-/// the simulator's check of this configuration. Build the `GateDriver` with
-/// it: ended from an interrupt handler instead, a pulse is longer by the
-/// handler's entry latency, and longer still when another handler runs first.
-pub const PULSE_END: ripplectl::drive::PulseEnd = ripplectl::drive::PulseEnd::{:?};
-",
-        crate::sim::firmware::PULSE_END
+        "\n{why}pub const PULSE_END: ripplectl::drive::PulseEnd = ripplectl::drive::PulseEnd::{variant};\n"
     );
 }
+
+const PULSE_END_HARDWARE: &str = "\
+/// Who ends a pulse at a deadline armed while the gate is on, as in the
+/// simulator's check of this configuration: the timer's compare, in
+/// hardware (see `ripplectl::drive`). Build the `GateDriver` with it only
+/// if the board's `OneShot::arm` puts the compare in its \"clear on match\"
+/// (or one-pulse) mode when `ends_pulse` is true: otherwise the gate pin
+/// is never written low at the deadline. Without such a mode use
+/// `PulseEnd::Software`, which the check did not simulate: a pulse is then
+/// longer by the compare handler's entry latency, and by a varying amount
+/// (period jitter) when another handler runs first or ends it.
+";
+
+const PULSE_END_SOFTWARE: &str = "\
+/// Who ends a pulse at a deadline armed while the gate is on, as in the
+/// simulator's check of this configuration: the compare interrupt's
+/// handler, through the pin (see `ripplectl::drive`).
+";
 
 const HEADER: &str = "//
 // The firmware's configuration as `const` items: the compiler converts

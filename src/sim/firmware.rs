@@ -88,11 +88,17 @@ impl<L: Law + Regulate> StackFirmware<L> {
     /// Wire `stack` to the simulated gate pin and compare, the timer ending
     /// pulses in hardware ([`PULSE_END`]).
     pub fn new(stack: Stack<L>, peripherals: &Peripherals) -> Self {
+        Self::with_pulse_end(stack, peripherals, PULSE_END)
+    }
+
+    /// [`new`](Self::new) with the driver's pulse end of a firmware's own
+    /// configuration (the `PULSE_END` item `ripplectl design` writes).
+    pub fn with_pulse_end(stack: Stack<L>, peripherals: &Peripherals, pulse_end: PulseEnd) -> Self {
         let Ok(driver) = GateDriver::new(
             peripherals.gate_pin(),
             peripherals.compare_timer(),
             Polarity::ActiveHigh,
-            PULSE_END,
+            pulse_end,
         );
         let mut firmware = Self {
             handlers: Handlers::new(stack, driver),

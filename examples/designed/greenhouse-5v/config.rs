@@ -93,9 +93,13 @@ pub const LAW: ripplectl::law::OnTime = BASE
         &CONFIG.clock,
     )));
 
-/// Who ends a pulse at a deadline armed while the gate is on: the timer's
-/// compare, in hardware ("clear on match", see `ripplectl::drive`), as in
-/// the simulator's check of this configuration. Build the `GateDriver` with
-/// it: ended from an interrupt handler instead, a pulse is longer by the
-/// handler's entry latency, and longer still when another handler runs first.
+/// Who ends a pulse at a deadline armed while the gate is on, as in the
+/// simulator's check of this configuration: the timer's compare, in
+/// hardware (see `ripplectl::drive`). Build the `GateDriver` with it only
+/// if the board's `OneShot::arm` puts the compare in its "clear on match"
+/// (or one-pulse) mode when `ends_pulse` is true: otherwise the gate pin
+/// is never written low at the deadline. Without such a mode use
+/// `PulseEnd::Software`, which the check did not simulate: a pulse is then
+/// longer by the compare handler's entry latency, and by a varying amount
+/// (period jitter) when another handler runs first or ends it.
 pub const PULSE_END: ripplectl::drive::PulseEnd = ripplectl::drive::PulseEnd::Hardware;
