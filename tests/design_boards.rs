@@ -14,7 +14,7 @@ use ripplectl::design::budget::Scheme;
 use ripplectl::design::check::propose_checked;
 use ripplectl::design::facts::{Board, Facts, LawRequest, Mcu};
 use ripplectl::design::proposal::{propose, Proposal};
-use ripplectl::design::scenario::scenario;
+use ripplectl::design::scenario_file::scenario;
 use ripplectl::sim::sweep::operating_point;
 use ripplectl::sim::{self, Scenario, Summary};
 
@@ -145,7 +145,7 @@ fn a_core_too_slow_is_refused_with_the_clock_that_fits() {
     // housekeeping about 150 µs; no loop fits the window and the budget.
     // The clock named is one whose proposal passes the simulated check.
     let mut f = facts(Board::demo());
-    f.mcu.core = ripplectl::sim::cpu::Core::CortexM0Plus;
+    f.mcu.core = ripplectl::sim::cores::Core::CortexM0Plus;
     f.mcu.clock_hz = 64_000_000;
     let e = propose_checked(&f).unwrap_err();
     assert_eq!(e.option, "--core");

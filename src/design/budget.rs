@@ -1,10 +1,11 @@
 //! What the firmware's handlers cost on the named core: each handler's
 //! cycles from the committed counts ([`crate::sim::cpu`]: instructions
 //! counted under QEMU, times the core's cycles per instruction, plus entry
-//! and exit), and the share of the core a scheme takes at given rates.
+//! and exit, [`crate::sim::cores`]), and the share of the core a scheme takes at given rates.
 
 use super::facts::{refuse, DesignError, Mcu};
-use crate::sim::cpu::{count, handler_op, Core, Costs, Handler, COUNTS_CSV};
+use crate::sim::cores::Core;
+use crate::sim::cpu::{count, handler_op, Costs, Handler, COUNTS_CSV};
 
 /// The loops `design` proposes.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

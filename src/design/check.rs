@@ -6,7 +6,7 @@
 
 use super::facts::{DesignError, Facts};
 use super::proposal::{propose_with, Proposal};
-use super::scenario::scenario;
+use super::scenario_file::scenario;
 use super::values::eng;
 use crate::sim::cpu::WARN_LOAD;
 use crate::sim::sweep::operating_point;

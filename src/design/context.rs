@@ -1,31 +1,14 @@
 //! What every loop shares, settled before a loop is chosen: the facts, the
 //! assumed stage, the dividers, the housekeeping rate and the observer,
-//! the frequency window; and a choice with its reason, the form every
-//! part of a proposal gives its values in.
+//! the frequency window, and the two stops the dividers are sized for (the
+//! input's stop, the output's over-voltage threshold; the other
+//! protections are [`super::protect`]'s).
 
 use super::budget::{Budget, Scheme};
 use super::divider::Divider;
 use super::facts::{refuse, AssumedStage, DesignError, Facts};
 use super::values::round_to;
 use crate::guard::{LightLoad, WindowConfig};
-
-/// One choice and its reason.
-#[derive(Clone, Debug, PartialEq)]
-pub struct Choice {
-    /// What was chosen, e.g. `band`.
-    pub topic: &'static str,
-    /// Its value as printed.
-    pub value: String,
-    /// What it keeps and the rule it follows.
-    pub why: String,
-}
-
-impl Choice {
-    /// A choice.
-    pub fn new(topic: &'static str, value: String, why: String) -> Self {
-        Self { topic, value, why }
-    }
-}
 
 /// The slow path's rate and the observer.
 #[derive(Clone, Copy, Debug, PartialEq)]

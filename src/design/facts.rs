@@ -2,7 +2,7 @@
 //! output filter) and the microcontroller's (core, clock, ADC), checked
 //! once, each refusal naming the option it came from.
 
-use crate::sim::cpu::Core;
+use crate::sim::cores::Core;
 use std::fmt;
 
 /// The power stage as the designer knows it.
@@ -54,7 +54,8 @@ impl Board {
 /// The microcontroller as the designer knows it.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Mcu {
-    /// The core (its handler counts and factors: [`crate::sim::cpu`]).
+    /// The core (its handler counts: [`crate::sim::cpu`]; its factors:
+    /// [`crate::sim::cores`]).
     pub core: Core,
     /// Core clock, Hz; the timer counts it too.
     pub clock_hz: u32,

@@ -4,11 +4,12 @@
 
 use super::budget::{Budget, Rates, Scheme};
 use super::closed_form::{hysteretic_dcm_pulse, DcmPulse};
-use super::context::{Choice, Context};
+use super::context::Context;
 use super::delayed::{hysteretic_cycle_ccm, NoCycle};
 use super::laws::{
     edge_delay, filter, point, reject, LawChoice, LawPlan, Unfit, LIGHT_LOAD_CEILING, PLANNED_SHARE,
 };
+use super::values::Choice;
 use super::values::{eng, pct};
 
 /// Smallest band, DAC codes.

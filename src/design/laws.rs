@@ -1,10 +1,12 @@
 //! What a loop's plan holds ([`super::hysteretic_plan`],
-//! [`super::on_time_plan`]), and what the loops share.
+//! [`super::on_time_plan`]), and the helpers both plans use: the operating
+//! point, the output filter, the edge delay, the CPU share, a rejection.
 
 use super::budget::{Budget, Scheme};
 use super::closed_form::{OperatingPoint, OutputFilter};
-use super::context::{Choice, Context};
+use super::context::Context;
 use super::facts::{DesignError, Facts};
+use super::values::Choice;
 use crate::sim::cpu::Handler;
 
 /// Share of the core a proposal may plan for: 10 points below the

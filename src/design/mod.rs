@@ -10,20 +10,20 @@
 //! | `values` | (std) how a proposal writes its values: rounded, with prefixes, as percentages |
 //! | `budget` | (std) what the firmware's handlers cost on the named core |
 //! | `context` | (std) what every loop shares: dividers, housekeeping, window; a choice with its reason |
-//! | `laws` | (std) what a loop's plan holds, and what the loops share |
+//! | `laws` | (std) what a loop's plan holds, and the helpers both plans use |
 //! | `hysteretic_plan` | (std) the hysteretic law on comparator edges: its band, or why it does not fit |
 //! | `on_time_plan` | (std) the on-time law on edges or samples: frequency, samples, emulated ripple, or why not |
 //! | `protect` | (std) the protections and the soft-start, and the shared choices' reasons |
 //! | `proposal` | (std) the whole proposal, each choice with its reason |
 //! | `range` | (std) the predictions over the input × load range |
 //! | `report` | (std) the proposal as printed |
-//! | `scenario` | (std) the proposal as a commented scenario file |
+//! | `scenario_file` | (std) the proposal as a commented scenario file |
 //! | `check` | (std) the proposal run in the simulator over its input × load range before it is offered |
 //! | `const_block` | (std) the proposal as a firmware's `const` configuration (Rust source) |
 //!
 //! The flow (with `std`): board facts → `proposal::propose` → checked in
 //! the simulator over the input × load range (`check`) → a scenario
-//! (`scenario`) and a `const` block → `simulate`.
+//! (`scenario_file`) and a `const` block → `simulate`.
 
 pub mod closed_form;
 pub mod delayed;
@@ -58,6 +58,6 @@ pub mod range;
 #[cfg(feature = "std")]
 pub mod report;
 #[cfg(feature = "std")]
-pub mod scenario;
+pub mod scenario_file;
 #[cfg(feature = "std")]
 pub mod values;

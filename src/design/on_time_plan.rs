@@ -4,8 +4,9 @@
 
 use super::budget::{Budget, Rates, Scheme};
 use super::closed_form::pulse_of_peak;
-use super::context::{Choice, Context};
+use super::context::Context;
 use super::laws::{edge_delay, point, reject, LawChoice, LawPlan, Unfit, PLANNED_SHARE};
+use super::values::Choice;
 use super::values::{eng, pct};
 use crate::sim::cpu::Handler;
 

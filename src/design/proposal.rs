@@ -5,13 +5,14 @@
 //! ([`super::protect`]), each with the rule it follows.
 
 use super::budget::Scheme;
-use super::context::{context, Choice, Context, Housekeeping};
+use super::context::{context, Context, Housekeeping};
 use super::divider::Divider;
 use super::facts::{refuse, AssumedStage, DesignError, Facts, LawRequest};
 use super::laws::{LawPlan, Unfit};
 use super::protect::{self, Protections};
 use super::range::{predict, Prediction};
 use super::values::eng;
+use super::values::Choice;
 use crate::guard::WindowConfig;
 
 /// The whole proposal.

@@ -2,9 +2,10 @@
 //! predicted currents, and the reasons for the shared choices.
 
 use super::budget::Scheme;
-use super::context::{vin_max_v, Choice, Context, HOUSEKEEPING_SHARE};
+use super::context::{vin_max_v, Context, HOUSEKEEPING_SHARE};
 use super::laws::{LawPlan, PLANNED_SHARE};
 use super::range::Prediction;
+use super::values::Choice;
 use super::values::{eng, pct_over, round_down, round_to, round_up};
 use crate::supervisor::ProtectionConfig;
 

@@ -1,10 +1,8 @@
-//! How a proposal writes its values: rounded to a step, with an
-//! engineering prefix, as a percentage.
+//! How a proposal writes its values: each choice with its reason, rounded
+//! to a step, with an engineering prefix, as a percentage.
 
 /// A value with an engineering prefix (the simulator's report format).
-pub fn eng(x: f64, unit: &str) -> String {
-    crate::sim::notation::eng(x, unit)
-}
+pub use crate::sim::notation::eng;
 
 /// A fraction as a percentage.
 pub fn pct(x: f64) -> String {
@@ -31,4 +29,22 @@ pub fn round_down(x: f64, step: f64) -> f64 {
 /// `x` rounded to the nearest whole number of `step`s.
 pub fn round_to(x: f64, step: f64) -> f64 {
     (x / step).round() * step
+}
+
+/// One choice and its reason.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Choice {
+    /// What was chosen, e.g. `band`.
+    pub topic: &'static str,
+    /// Its value as printed.
+    pub value: String,
+    /// What it keeps and the rule it follows.
+    pub why: String,
+}
+
+impl Choice {
+    /// A choice.
+    pub fn new(topic: &'static str, value: String, why: String) -> Self {
+        Self { topic, value, why }
+    }
 }

@@ -1,6 +1,7 @@
 //! The crate's stack built from a scenario: the configuration a firmware
 //! build would write ([`StackConfig`], the law), through the same
-//! constructors, with every refusal named by its scenario key.
+//! constructors, with every refusal named by its scenario key; and the
+//! scenario run on it ([`run`], [`run_with`]).
 
 use super::engine::{run_firmware_with, RunError, RunOutput};
 use super::firmware::StackFirmware;

@@ -7,7 +7,8 @@
 //! your own implements [`Firmware`] and runs with
 //! [`run_firmware`](super::run_firmware); `examples/own_law.rs` shows one.
 
-use super::cpu::{Core, Handler};
+use super::cores::Core;
+use super::cpu::Handler;
 use super::peripherals::{Peripherals, SimComparator, SimDac, SimPin, SimTimer};
 use crate::drive::{GateDriver, Polarity, PulseEnd};
 use crate::guard::ClampCounts;

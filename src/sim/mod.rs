@@ -9,7 +9,7 @@
 //! | [`scenario`] | one run's description, from TOML |
 //! | [`firmware`] | the [`Firmware`] trait the simulator runs, and the crate's stack on it |
 //! | [`peripherals`] | simulated gate pin, compare timer, comparator and DAC |
-//! | [`build`] | the crate's stack configured from a scenario |
+//! | [`build`] | the crate's stack configured from a scenario, and run on it ([`run`], [`run_with`]) |
 //! | [`mcu`] | the microcontroller model: ADC, comparator |
 //! | [`cores`] | the named cores: cycles per instruction, interrupt entry and exit |
 //! | [`cpu`] | the core: each handler's cost, and how handlers share it |
@@ -20,11 +20,18 @@
 //! | [`quadratic`] | a quantity over one panel of the plant's motion: integral, extremes, crossings |
 //! | [`metrics`] | the summary of a run |
 //! | [`accounting`] | the true efficiency over the windows in regulation |
+//! | [`cells`] | uniform cell averages of piecewise-linear or quadratic signals |
+//! | [`emission`] | the conducted-emission estimate: LISN, receiver, CISPR 32 limits |
+//! | [`audible`] | audible-band figures: sub-20 kHz content, long periods |
 //! | [`netlist`] | SPICE netlists of the stage for external cross-checks |
 //! | [`open_loop`] | fixed-duty runs of the power stage alone |
 //! | [`notation`] | values as the reports print them (engineering notation) |
 //! | [`report`] | terminal table, CSV |
 //! | [`plot`] | SVG plots |
+//! | [`zoom`] | plots of one or more runs on shared axes, and around a time |
+//! | [`html`] | a self-contained HTML report |
+//! | [`pages`] | the HTML reports of `simulate` and `compare` |
+//! | [`compare`] | two runs' figures side by side |
 //! | [`sweep`] | input × load grids in parallel |
 //! | [`tolerance`] | many runs with parts and conditions drawn within their spreads, yield |
 //! | [`transient`] | undershoot, overshoot and recovery at each disturbance |

@@ -7,7 +7,7 @@ use super::html::{Block, Report, Section};
 use super::metrics::Summary;
 use super::scenario::Scenario;
 use super::zoom::{self, RunView};
-use super::{compare, plot, report};
+use super::{compare, notation, plot, report};
 
 /// One run and what was made of it.
 #[derive(Clone, Copy, Debug)]
@@ -124,14 +124,14 @@ fn zoom_section(runs: &[Run<'_>], times: &[f64]) -> Result<Section, Box<dyn std:
     let duration = runs.iter().map(|r| r.output.simulated_s).fold(0.0, f64::max);
     for (k, &t) in times.iter().enumerate() {
         let (from, to) = zoom::zoom_span(t, duration);
-        let title = format!("disturbance at {}", report::eng(t, "s"));
+        let title = format!("disturbance at {}", notation::eng(t, "s"));
         let svg = zoom::zoom_svg(&views, from, to, &title)?;
         section = section.with(figure(
             &format!("zoom-{}", k + 1),
             &format!(
                 "Per-cycle extremes from {} to {}",
-                report::eng(from, "s"),
-                report::eng(to, "s")
+                notation::eng(from, "s"),
+                notation::eng(to, "s")
             ),
             svg,
         ));

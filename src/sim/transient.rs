@@ -1,4 +1,6 @@
-//! Transient figures: how the output rides each disturbance.
+//! Transient figures: how the output rides each disturbance. The tracker a
+//! scenario asks for is built beside the scenario
+//! ([`TransientTracker::for_scenario`]).
 //!
 //! A disturbance is a load change (a step, a ramp or a short) or an input
 //! step or ramp after t = 0; changes at the same instant are one

@@ -126,7 +126,7 @@ enum Command {
         /// Core: cortex-m0, cortex-m0+, cortex-m4 or rv32 (default: the
         /// demo MCU's cortex-m4).
         #[arg(long, value_parser = design::core)]
-        core: Option<ripplectl::sim::cpu::Core>,
+        core: Option<ripplectl::sim::cores::Core>,
         /// Core clock, Hz, which the timer counts (default 170e6).
         #[arg(long, value_name = "HZ", value_parser = design::clock)]
         clock: Option<u32>,

@@ -3,7 +3,7 @@
 use crate::failure::{failed, interrupted, load_scenario, run_failure, Failure};
 use crate::progress::{self, Progress, INTERRUPTED};
 use ripplectl::sim::emission::{self, Estimate};
-use ripplectl::sim::{self, pages, report, RunControl, RunOutput, Scenario, Summary};
+use ripplectl::sim::{self, notation, pages, report, RunControl, RunOutput, Scenario, Summary};
 use std::path::Path;
 use std::time::Instant;
 
@@ -98,7 +98,7 @@ pub fn simulate(scenario: Option<&Path>, out: Option<&Path>, json: bool) -> Resu
 /// plain exponent notation (no "Ms").
 fn seconds(t: f64) -> String {
     if t < 3600.0 {
-        report::eng(t, "s")
+        notation::eng(t, "s")
     } else {
         format!("{t:.3e} s")
     }

@@ -2,7 +2,7 @@
 
 use crate::failure::{bad_input, failed, interrupted, load_scenario, run_failure, Failure};
 use crate::progress::{self, Progress, INTERRUPTED};
-use ripplectl::sim::{self, report};
+use ripplectl::sim::{self, notation, report};
 use std::path::Path;
 use std::sync::atomic::{AtomicUsize, Ordering};
 
@@ -16,7 +16,7 @@ fn sweep_table(points: &[sim::sweep::SweepPoint]) -> String {
                 "  {:6.1}   {:6.2}   {:>11}   not switching: {reason}\n",
                 p.vin_v,
                 p.load_a,
-                report::eng(p.fsw_predicted_hz, "Hz")
+                notation::eng(p.fsw_predicted_hz, "Hz")
             );
             continue;
         }
@@ -29,10 +29,10 @@ fn sweep_table(points: &[sim::sweep::SweepPoint]) -> String {
             "  {:6.1}   {:6.2}   {:>11}   {:>11}   {:+5.1} %   {:>8}   {:>8}{why}\n",
             p.vin_v,
             p.load_a,
-            report::eng(p.fsw_predicted_hz, "Hz"),
-            report::eng(p.fsw_simulated_hz, "Hz"),
+            notation::eng(p.fsw_predicted_hz, "Hz"),
+            notation::eng(p.fsw_simulated_hz, "Hz"),
             err,
-            report::eng(p.vout_ripple_pp_v, "V"),
+            notation::eng(p.vout_ripple_pp_v, "V"),
             efficiency(p.efficiency_true)
         );
     }

@@ -22,7 +22,7 @@
 //! | `energy` | the energy ledger and its loss table |
 //! | `events` | DCM zero-crossings, band edges, output levels, on the closed form |
 //! | `scan` | the first of them in an interval ahead, without moving the plant |
-//! | `interval` | one level over an interval ahead: whether, and where, it is first reached |
+//! | `interval` | a point ahead of the plant ([`Ahead`]); one level over an interval ahead: whether, and where, it is first reached |
 //! | `hermite` | the cubic through a level's ends: turns ruled out, crossings started |
 
 mod conduction;

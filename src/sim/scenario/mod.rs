@@ -7,15 +7,16 @@
 //!
 //! | module | what |
 //! |---|---|
-//! | this one | the scenario's tables, what the firmware is configured with, loading |
+//! | this one | the scenario's tables, what the firmware is configured with, loading; the transient tracker a scenario asks for |
 //! | `validate` | each value in its range, each refusal on its key |
+//! | `keys` | which key a firmware configuration parameter comes from (`keyed`, `scenario_key`) |
 //! | `locate` | the line a key is set on; a TOML reader's error as one line |
 
 use super::cores::Core;
 use super::emission::params::EmissionParams;
 use super::plant::{PlantParams, Stage};
 use super::profile::{InputProfile, LoadChange, Profile};
-use super::tolerance::table::ToleranceParams;
+use super::tolerance::settings::ToleranceParams;
 use super::transient::{disturbances, TransientParams, TransientTracker};
 use crate::estimate::InductorModel;
 use crate::guard::WindowConfig;
@@ -92,11 +93,12 @@ pub struct McuParams {
     /// core clock).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub cpu_clock_hz: Option<f64>,
-    /// Cycles per instruction, overriding the core's factor (a part with
-    /// flash wait states, say).
+    /// Cycles per instruction, overriding the core's factor
+    /// ([`super::cores`]; a part with flash wait states, say).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub cpi: Option<f64>,
-    /// Interrupt entry and exit, cycles, overriding the core's factor.
+    /// Interrupt entry and exit, cycles, overriding the core's factor
+    /// ([`super::cores`]).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub irq_overhead_cycles: Option<f64>,
 }

@@ -14,7 +14,7 @@
 //! stayed, as a fraction of the limit (negative: failed). The worst runs
 //! are those with the smallest margin.
 
-pub use super::table::Criteria;
+pub use super::settings::Criteria;
 use crate::sim::{Scenario, Summary};
 use serde::Serialize;
 

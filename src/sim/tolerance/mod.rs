@@ -4,11 +4,11 @@
 //!
 //! | module | what |
 //! |---|---|
-//! | [`table`] | the scenario's `[tolerance]` table: spreads and criteria as written |
+//! | [`settings`] | the scenario's `[tolerance]` table: spreads and criteria as written, with their defaults |
 //! | [`spread`] | a parameter's limit and distribution |
-//! | [`params`] | the varied parameters, default spreads, how a value enters a scenario |
+//! | [`params`] | the varied parameters, their default spreads and sources, how a value enters a scenario |
 //! | [`draw`] | one run's values (random from (seed, index), or a corner) |
-//! | [`criteria`] | pass criteria, a run's figures, margins |
+//! | [`criteria`] | what each pass criterion means and its default, a run's figures, limits, margins |
 //! | [`stats`] | Wilson's interval for the yield, quantiles |
 //! | [`histogram`] | SVG histograms |
 //! | [`summary`] | the study's report: text and JSON |
@@ -22,16 +22,16 @@ pub mod draw;
 pub mod histogram;
 pub mod page;
 pub mod params;
+pub mod settings;
 pub mod spread;
 pub mod stats;
 pub mod summary;
-pub mod table;
 
 use self::criteria::{Figures, Limits, Verdict};
 use self::draw::Setting;
 use self::params::PARAMS;
-use self::table::Spreads;
-pub use self::table::ToleranceParams;
+use self::settings::Spreads;
+pub use self::settings::ToleranceParams;
 use super::build::run_with;
 use super::engine::RunError;
 use super::run_control::RunControl;

@@ -23,8 +23,8 @@
 //! is the nominal after any `dc_bias_loss`, what a designer who read the
 //! DC-bias curve configures.
 
+pub use super::settings::Spreads;
 use super::spread::Spread;
-pub use super::table::Spreads;
 use crate::sim::plant::Stage;
 use crate::sim::profile::Load;
 use crate::sim::Scenario;

@@ -1,4 +1,4 @@
-//! The `[tolerance]` table as a scenario file writes it: the spreads
+//! The `[tolerance]` settings as a scenario file writes them: the spreads
 //! (`[tolerance.spread]`, the parameters in [`super::params`]) and the
 //! pass criteria (`[tolerance.criteria]`, judged in [`super::criteria`]).
 //! They are checked, each on its key, by [`ToleranceParams::validate`].
@@ -16,10 +16,11 @@ pub struct ToleranceParams {
     pub criteria: Criteria,
 }
 
-/// The `[tolerance.spread]` table; a key left out keeps its default.
+/// The `[tolerance.spread]` table; a key left out keeps its default
+/// (defaults and their sources: [`super::params`]).
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
 #[serde(default, deny_unknown_fields)]
-#[allow(missing_docs)] // each key is the parameter of the same name, see the module table
+#[allow(missing_docs)] // each key is the parameter of the same name, see [`super::params`]'s table
 pub struct Spreads {
     pub l_h: Spread,
     pub c_f: Spread,
@@ -78,7 +79,8 @@ impl Spreads {
     }
 }
 
-/// The `[tolerance.criteria]` table.
+/// The `[tolerance.criteria]` table (defaults and when a run passes:
+/// [`super::criteria`]).
 #[derive(Clone, Copy, Debug, PartialEq, Serialize, Deserialize)]
 #[serde(default, deny_unknown_fields)]
 pub struct Criteria {

@@ -2,10 +2,10 @@
 //! scenario file that `simulate` runs as it is.
 
 use super::budget::Scheme;
-use super::context::Choice;
 use super::laws::LawChoice;
 use super::proposal::Proposal;
 use super::values::eng;
+use super::values::Choice;
 use crate::sim::scenario::{Scenario, ScenarioError};
 use std::fmt::Write as _;
 
