@@ -40,6 +40,7 @@ mod readings;
 mod sequence;
 mod soft_start;
 mod start_pulses;
+mod stops;
 
 pub use config::{Limits, ProtectionConfig};
 pub use fault::{FaultKind, FaultLog, FaultRecord, FAULT_LOG_LEN};
@@ -168,23 +169,6 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         &self.limits
     }
 
-    /// The fault log, oldest first.
-    pub fn faults(&self) -> impl Iterator<Item = &FaultRecord> {
-        self.log.iter()
-    }
-
-    /// The fault log.
-    pub const fn fault_log(&self) -> &FaultLog<LOG> {
-        &self.log
-    }
-
-    /// Slow path: empty the log, and leave a latched fault for
-    /// [`State::Off`] (a restart follows when the input is good).
-    pub fn clear_faults(&mut self, now: Instant) {
-        self.log.clear();
-        self.sequence.clear(now);
-    }
-
     /// The output readings' average over the last housekeeping window,
     /// code × 2¹⁶.
     pub const fn output_average(&self) -> u32 {
@@ -254,31 +238,6 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
     /// without fast-path input readings.
     pub fn input_average(&self) -> Option<u32> {
         self.readings.input_average()
-    }
-
-    /// Gate off now, telling the law and the estimator. Out of line: off
-    /// the regulating path (a stop, the current limit), called from several.
-    #[inline(never)]
-    fn force_off(&mut self, now: Instant) {
-        if self.gate.is_on() {
-            self.gate = Gate::Off;
-            self.estimator.on_gate(Gate::Off, now);
-            self.inner.on_gate(Gate::Off, now);
-        }
-    }
-
-    /// Stop for `kind`: latched, hiccup, or back to `Off`. A hiccup that
-    /// follows too many restarts without regulation latches instead.
-    #[cold]
-    #[inline(never)]
-    fn trip(&mut self, kind: FaultKind, now: Instant) -> Command {
-        self.force_off(now);
-        self.log.push(kind, now);
-        if self.sequence.trip(kind, now, &self.limits) {
-            self.log.push(FaultKind::RetriesExhausted, now);
-        }
-        self.detect.reset();
-        Command::hold(Gate::Off)
     }
 
     /// Move the soft-start ramp to `now`: the law's reference and the
