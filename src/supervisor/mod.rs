@@ -34,6 +34,8 @@
 
 mod config;
 mod detect;
+mod edges;
+mod events;
 mod fault;
 mod limit;
 mod readings;
@@ -47,11 +49,10 @@ pub use config::{Limits, ProtectionConfig};
 pub use fault::{FaultKind, FaultLog, FaultRecord, FAULT_LOG_LEN};
 pub use sequence::State;
 
-use crate::estimate::{Amps, CurrentEstimator, CycleCurrents};
-use crate::law::{Command, Event, Gate, Law, Regulate};
-use crate::tick::{earliest, Instant};
-use crate::units::ARMV6M;
-use detect::{CycleView, Detectors};
+use crate::estimate::{Amps, CurrentEstimator};
+use crate::law::{Command, Gate, Law, Regulate};
+use crate::tick::Instant;
+use detect::Detectors;
 use limit::CurrentLimit;
 use readings::Readings;
 use sequence::{Sequencer, Step};
@@ -205,178 +206,6 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         self.readings.input_average()
     }
 
-    /// Check a reading against the rails and the over-voltage threshold.
-    #[inline(always)]
-    fn check_output(&mut self, out: u16, now: Instant) -> Option<Command> {
-        self.readings.note_output(out);
-        self.estimator.on_output_code(out, now);
-        if out < self.out_stop {
-            return None;
-        }
-        let kind = if out >= self.limits.out_rail {
-            FaultKind::SensorRange
-        } else {
-            FaultKind::OutputOvervoltage
-        };
-        Some(self.trip(kind, now))
-    }
-
-    /// Every fast-path event, compiled once for all of them (one copy of
-    /// the guard, the law, the limit and the estimator's edges, whichever
-    /// interrupt calls): the checks of the event's kind, the guarded law's
-    /// answer, then the current limit and the gate's edge.
-    #[inline(never)]
-    fn step(&mut self, event: Event, now: Instant) -> Command {
-        if !self.sequence.is_switching() {
-            if let Event::Sample(code) = event {
-                self.readings.note_output(code);
-            }
-            self.force_off(now);
-            return Command::hold(Gate::Off);
-        }
-        let current_now = match event {
-            Event::Sample(code) => {
-                if self.sequence.state() == State::SoftStart {
-                    self.soft_start_step(now);
-                }
-                if let Some(stop) = self.check_output(code, now) {
-                    return stop;
-                }
-                // The reading closed the estimator's segment at `now`: its
-                // stored current is the current now.
-                self.estimator.current()
-            }
-            Event::Edge(_) | Event::Timer => self.estimator.current_at(now),
-        };
-        let cmd = self.inner.on_event(event, now);
-        self.finish_with(cmd, now, current_now)
-    }
-
-    /// Follow the gate and apply the current limit.
-    #[inline(always)]
-    fn finish_with(&mut self, cmd: Command, now: Instant, current_now: Amps) -> Command {
-        if cmd.gate != self.gate {
-            if let Some(fault) = self.follow_gate(cmd.gate, now, current_now) {
-                return fault;
-            }
-        }
-        if !self.gate.is_on() {
-            return cmd;
-        }
-        if self.limit.reached(now, current_now) {
-            return self.limit_current(now);
-        }
-        Command { gate: Gate::On, wake: earliest(now, cmd.wake, self.limit.deadline()) }
-    }
-
-    /// Fast path, right after a switching edge's pin write: the gate
-    /// really switched at `at`, not at `now`, the instant of the call that
-    /// switched it: later by the handler's own time to its write, or, for
-    /// a turn-off, earlier when the timer had ended the pulse before the
-    /// handler began. The estimate, the guard and the law time the edge
-    /// from `at`; after a late turn-on the current limit's blanking and
-    /// predicted crossing, and `wake`, the deadline that call returned,
-    /// move by as much (every deadline armed at a turn-on counts from it;
-    /// the current fell meanwhile, so the crossing comes no earlier: on
-    /// the safe side). Returns the deadline to arm. Out of line: once per
-    /// edge, from every handler, so one copy.
-    #[inline(never)]
-    pub fn switched_at(
-        &mut self,
-        now: Instant,
-        at: Instant,
-        wake: Option<Instant>,
-    ) -> Option<Instant> {
-        let late = at.ticks_since(now);
-        if late == 0 {
-            return wake;
-        }
-        let on = self.gate.is_on();
-        if late > crate::tick::MAX_DURATION_TICKS && on {
-            return wake;
-        }
-        self.estimator.move_edge(at);
-        self.inner.edge_at(at);
-        if !on {
-            return wake;
-        }
-        self.limit.delay(late);
-        wake.map(|w| w.after(late))
-    }
-
-    /// The limit ended this on-time. Out of line: once per limited cycle.
-    ///
-    /// The law sees its own turn-off and is asked what comes next. On a
-    /// Cortex-M0 through [`step`](Self::step) again, as a timer event
-    /// (one level deep: the gate is now off, so the limit cannot act
-    /// again, and the guard, its minimum off-time ahead, keeps it off):
-    /// the guard's filter is compiled once, in `step`, not a second time
-    /// here (about 400 bytes), for a few more instructions per limited
-    /// cycle only. Elsewhere the guarded law directly, the faster limited
-    /// cycle the other cores' counts were set with.
-    #[inline(never)]
-    fn limit_current(&mut self, now: Instant) -> Command {
-        self.limit.note_acted();
-        self.force_off(now);
-        let next = if ARMV6M { self.step(Event::Timer, now) } else { self.inner.on_timer(now) };
-        Command { gate: Gate::Off, wake: next.wake }
-    }
-
-    /// The gate switches to `gate` at `now`: tell the estimator, judge the
-    /// cycle it completes, and at a turn-on arm the current limit.
-    #[inline(always)]
-    fn follow_gate(&mut self, gate: Gate, now: Instant, current_now: Amps) -> Option<Command> {
-        self.gate = gate;
-        if let Some(done) = self.estimator.on_gate(gate, now) {
-            if let Some(fault) = self.end_of_cycle(&done, now) {
-                return Some(fault);
-            }
-        }
-        if gate.is_on() {
-            self.limit.arm(now, current_now, &self.estimator);
-        }
-        None
-    }
-
-    /// Short-circuit and sensor checks on a completed cycle.
-    #[inline(always)]
-    fn end_of_cycle(&mut self, done: &CycleCurrents, now: Instant) -> Option<Command> {
-        let view = CycleView {
-            cycle: done,
-            limited: self.limit.take_acted(),
-            output: self.readings.last_out,
-            reference: self.inner.reference_code(),
-            input: self.readings.last_in,
-        };
-        let fault = self.detect.end_of_cycle(&view, &self.limits)?;
-        Some(self.trip(fault, now))
-    }
-
-    /// Fast path, for firmware whose law runs on comparator edges: an output
-    /// reading taken for protection only (over-voltage, rails, soft-start
-    /// origin). Returns a command only when it acted (the gate must go off);
-    /// otherwise the law's last command and deadline stand.
-    #[inline]
-    pub fn on_output_reading(&mut self, code: u16, now: Instant) -> Option<Command> {
-        match self.sequence.state() {
-            State::Regulating => {}
-            State::SoftStart => self.soft_start_step(now),
-            _ => {
-                self.readings.note_output(code);
-                return None;
-            }
-        }
-        self.check_output(code, now)
-    }
-
-    /// Fast path: an input reading (scanned with the output); the current
-    /// estimator's on-slope follows it. Input limits stay on the slow path.
-    #[inline]
-    pub fn on_input_reading(&mut self, code: u16, now: Instant) {
-        self.readings.note_input(code);
-        self.estimator.on_input_code(code, now);
-    }
-
     /// Slow path, at a steady rate (1–20 kHz): input checks, soft-start
     /// ramp, hiccup timing, and the estimator's voltages; ends the input
     /// readings' window (read [`input_average`](Self::input_average) before
@@ -447,31 +276,5 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         } else {
             None
         }
-    }
-}
-
-impl<L: Law + Regulate, const LOG: usize> Law for Supervisor<L, LOG> {
-    #[inline]
-    fn on_sample(&mut self, code: u16, now: Instant) -> Command {
-        self.step(Event::Sample(code), now)
-    }
-
-    #[inline]
-    fn on_edge(&mut self, level: bool, now: Instant) -> Command {
-        self.step(Event::Edge(level), now)
-    }
-
-    #[inline]
-    fn on_timer(&mut self, now: Instant) -> Command {
-        self.step(Event::Timer, now)
-    }
-
-    /// The wrapped stage's.
-    fn min_on_ticks(&self) -> u32 {
-        self.limit.blanking()
-    }
-
-    fn comparator_code(&self) -> Option<u16> {
-        self.inner.comparator_code()
     }
 }
