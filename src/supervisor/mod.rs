@@ -2,7 +2,18 @@
 //!
 //! [`Supervisor`] wraps a guarded law (anything [`Law`] + [`Regulate`]) and
 //! owns the [`CurrentEstimator`], because the cycle-by-cycle current limit
-//! acts on it. One concern a file:
+//! acts on it. Its state, construction and read-out are here; its methods
+//! are grouped by concern in this module's files:
+//!
+//! | file | what |
+//! |---|---|
+//! | `events.rs` | the fast path's events: samples, comparator edges and timer events through one `step` (the [`Law`] entry points), the output and input readings |
+//! | `edges.rs` | the gate's edges: the law's command followed, the completed cycle judged, the current limit armed and acting, an edge [`switched_at`](Supervisor::switched_at) another instant |
+//! | `starting.rs` | the soft-start as the supervisor runs it (ramp, pulse bound, end), the slow path's pulse caps |
+//! | `stops.rs` | the gate forced off, a trip for a fault, the fault log read and cleared |
+//! | `housekeeping.rs` | the slow path: [`housekeeping`](Supervisor::housekeeping), the input readings' window |
+//!
+//! and its parts one a file:
 //!
 //! | file | what |
 //! |---|---|
@@ -34,25 +45,28 @@
 
 mod config;
 mod detect;
+mod edges;
+mod events;
 mod fault;
+mod housekeeping;
 mod limit;
 mod readings;
 mod sequence;
 mod soft_start;
 mod start_pulses;
+mod starting;
+mod stops;
 
 pub use config::{Limits, ProtectionConfig};
 pub use fault::{FaultKind, FaultLog, FaultRecord, FAULT_LOG_LEN};
 pub use sequence::State;
 
-use crate::estimate::{Amps, CurrentEstimator, CycleCurrents};
-use crate::law::{Command, Event, Gate, Law, Regulate};
-use crate::tick::{earliest, Instant};
-use crate::units::{Fraction, ARMV6M};
-use detect::{CycleView, Detectors};
+use crate::estimate::{Amps, CurrentEstimator};
+use crate::law::{Gate, Law, Regulate};
+use detect::Detectors;
 use limit::CurrentLimit;
 use readings::Readings;
-use sequence::{Sequencer, Step};
+use sequence::Sequencer;
 use soft_start::SoftStartRamp;
 use start_pulses::StartPulses;
 
@@ -168,34 +182,10 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         &self.limits
     }
 
-    /// The fault log, oldest first.
-    pub fn faults(&self) -> impl Iterator<Item = &FaultRecord> {
-        self.log.iter()
-    }
-
-    /// The fault log.
-    pub const fn fault_log(&self) -> &FaultLog<LOG> {
-        &self.log
-    }
-
-    /// Slow path: empty the log, and leave a latched fault for
-    /// [`State::Off`] (a restart follows when the input is good).
-    pub fn clear_faults(&mut self, now: Instant) {
-        self.log.clear();
-        self.sequence.clear(now);
-    }
-
     /// The output readings' average over the last housekeeping window,
     /// code × 2¹⁶.
     pub const fn output_average(&self) -> u32 {
         self.out_average
-    }
-
-    /// Slow path: the share of the setpoint the soft-start covers (from
-    /// where the output stood to the setpoint, `Q16.16`, 0–1): its ramp's
-    /// charging current is that share of `C·setpoint/ramp time`.
-    pub fn start_span(&self) -> Fraction {
-        self.ramp.span()
     }
 
     /// The output setpoint, code.
@@ -214,400 +204,8 @@ impl<L: Law + Regulate, const LOG: usize> Supervisor<L, LOG> {
         self.limit.cap()
     }
 
-    /// Slow path, during a soft-start: end the ramp's pulses at `ramp`, and
-    /// from its last sixteenth on (regulation included, until
-    /// [`set_pulse_cap`](Self::set_pulse_cap)) at `end`; the ramp's own
-    /// rising cap still applies below both. A start of bounded pulses (a law
-    /// that does not follow the reference) ignores them.
-    pub fn size_start_pulses(&mut self, ramp: Amps, end: Amps) {
-        if !self.pulses.active() {
-            self.ramp.size(ramp, end);
-        }
-    }
-
-    /// Slow path: end pulses at `cap` (held within the configured limit)
-    /// from the next turn-on: a light-load policy's smaller pulses. The
-    /// soft-start ramp sets its own cap while it runs, and ignores this.
-    pub fn set_pulse_cap(&mut self, cap: Amps) {
-        if self.sequence.state() != State::SoftStart {
-            self.limit.set_cap(cap);
-        }
-    }
-
-    /// Bound each pulse through the guard during the soft-start of a law
-    /// that does not follow the reference ([`Regulate::follows_reference`]:
-    /// the analog retrofit) — on by default — or, with `false`, leave its
-    /// start to the current limit's rising cap alone (no lead for a
-    /// pre-biased output either). From the next start.
-    pub fn set_start_pulse_bound(&mut self, on: bool) {
-        self.pulses.enable(on);
-    }
-
     /// The last input reading, code.
     pub const fn last_input(&self) -> u16 {
         self.readings.last_in
-    }
-
-    /// Slow path: the input readings' average over the housekeeping window
-    /// so far (since the last [`housekeeping`](Self::housekeeping), which
-    /// ends the window: read it before that call), code × 2¹⁶, or `None`
-    /// without fast-path input readings.
-    pub fn input_average(&self) -> Option<u32> {
-        self.readings.input_average()
-    }
-
-    /// Gate off now, telling the law and the estimator. Out of line: off
-    /// the regulating path (a stop, the current limit), called from several.
-    #[inline(never)]
-    fn force_off(&mut self, now: Instant) {
-        if self.gate.is_on() {
-            self.gate = Gate::Off;
-            self.estimator.on_gate(Gate::Off, now);
-            self.inner.on_gate(Gate::Off, now);
-        }
-    }
-
-    /// Stop for `kind`: latched, hiccup, or back to `Off`. A hiccup that
-    /// follows too many restarts without regulation latches instead.
-    #[cold]
-    #[inline(never)]
-    fn trip(&mut self, kind: FaultKind, now: Instant) -> Command {
-        self.force_off(now);
-        self.log.push(kind, now);
-        if self.sequence.trip(kind, now, &self.limits) {
-            self.log.push(FaultKind::RetriesExhausted, now);
-        }
-        self.detect.reset();
-        Command::hold(Gate::Off)
-    }
-
-    /// Move the soft-start ramp to `now`: the law's reference and the
-    /// current limit's cap, and for a law that does not follow the
-    /// reference the pulses' bound (past the ramp's end too, while
-    /// [`start_unfinished`](Self::start_unfinished)); at its end, the
-    /// setpoint, the full limit, and regulation. On a Cortex-M0 (Armv6-M,
-    /// told by its lack of 32-bit atomics) out of line: one copy for the
-    /// sample, the output reading and housekeeping, a call each while the
-    /// start runs (about 550 bytes less than a copy per use); elsewhere
-    /// inlined, the faster soft-start handlers the other cores' counts were
-    /// set with.
-    #[cfg_attr(all(target_arch = "arm", not(target_has_atomic = "32")), inline(never))]
-    #[cfg_attr(not(all(target_arch = "arm", not(target_has_atomic = "32"))), inline(always))]
-    fn soft_start_step(&mut self, now: Instant) {
-        let elapsed = now.ticks_since(self.sequence.since());
-        match self.ramp.at(elapsed) {
-            Some((reference, cap)) if !self.pulses.active() => {
-                self.inner.set_reference(reference);
-                self.limit.set_cap(cap);
-            }
-            Some((_, cap)) => self.bound_pulses(cap),
-            None if self.start_unfinished(elapsed) => self.bound_pulses(self.limits.current_limit),
-            None => self.end_soft_start(),
-        }
-    }
-
-    /// The start of a law that does not follow the reference: pulses from
-    /// zero to twice the ramp's `cap` (their mean is the cap), within the
-    /// configured limit, and the current limit's cap there too. Out of
-    /// line: only while such a start runs.
-    #[inline(never)]
-    fn bound_pulses(&mut self, cap: Amps) {
-        let peak = cap.saturating_add(cap).min(self.limits.current_limit);
-        self.limit.set_cap(peak);
-        let limit = self.pulses.limit(peak, self.estimator.ticks_per_amp_on());
-        self.inner.limit_pulses(Some(limit));
-    }
-
-    /// A bounded start whose ramp is over with the output still below half
-    /// the setpoint (a heavy load on a start of bounded pulses, each back
-    /// to zero current, whose mean stays under half their peak): released
-    /// there, the pulses would meet the short-circuit detector at the full
-    /// limit below its half-reference line, so they stay bounded, at the
-    /// full limit's peak, until the output passes that line or the ramp's
-    /// time has passed twice (a real short then meets the detector).
-    #[cold]
-    fn start_unfinished(&self, elapsed: u32) -> bool {
-        self.pulses.active()
-            && self.readings.last_out < self.ramp.target() / 2
-            && !self.ramp.overdue(elapsed)
-    }
-
-    #[cold]
-    fn end_soft_start(&mut self) {
-        self.inner.set_reference(self.ramp.target());
-        self.limit.set_cap(self.ramp.end_cap(self.limits.current_limit));
-        self.pulses.end();
-        self.inner.limit_pulses(None);
-        self.sequence.regulating();
-    }
-
-    /// Check a reading against the rails and the over-voltage threshold.
-    #[inline(always)]
-    fn check_output(&mut self, out: u16, now: Instant) -> Option<Command> {
-        self.readings.note_output(out);
-        self.estimator.on_output_code(out, now);
-        if out < self.out_stop {
-            return None;
-        }
-        let kind = if out >= self.limits.out_rail {
-            FaultKind::SensorRange
-        } else {
-            FaultKind::OutputOvervoltage
-        };
-        Some(self.trip(kind, now))
-    }
-
-    /// Every fast-path event, compiled once for all of them (one copy of
-    /// the guard, the law, the limit and the estimator's edges, whichever
-    /// interrupt calls): the checks of the event's kind, the guarded law's
-    /// answer, then the current limit and the gate's edge.
-    #[inline(never)]
-    fn step(&mut self, event: Event, now: Instant) -> Command {
-        if !self.sequence.is_switching() {
-            if let Event::Sample(code) = event {
-                self.readings.note_output(code);
-            }
-            self.force_off(now);
-            return Command::hold(Gate::Off);
-        }
-        let current_now = match event {
-            Event::Sample(code) => {
-                if self.sequence.state() == State::SoftStart {
-                    self.soft_start_step(now);
-                }
-                if let Some(stop) = self.check_output(code, now) {
-                    return stop;
-                }
-                // The reading closed the estimator's segment at `now`: its
-                // stored current is the current now.
-                self.estimator.current()
-            }
-            Event::Edge(_) | Event::Timer => self.estimator.current_at(now),
-        };
-        let cmd = self.inner.on_event(event, now);
-        self.finish_with(cmd, now, current_now)
-    }
-
-    /// Follow the gate and apply the current limit.
-    #[inline(always)]
-    fn finish_with(&mut self, cmd: Command, now: Instant, current_now: Amps) -> Command {
-        if cmd.gate != self.gate {
-            if let Some(fault) = self.follow_gate(cmd.gate, now, current_now) {
-                return fault;
-            }
-        }
-        if !self.gate.is_on() {
-            return cmd;
-        }
-        if self.limit.reached(now, current_now) {
-            return self.limit_current(now);
-        }
-        Command { gate: Gate::On, wake: earliest(now, cmd.wake, self.limit.deadline()) }
-    }
-
-    /// Fast path, right after a switching edge's pin write: the gate
-    /// really switched at `at`, not at `now`, the instant of the call that
-    /// switched it: later by the handler's own time to its write, or, for
-    /// a turn-off, earlier when the timer had ended the pulse before the
-    /// handler began. The estimate, the guard and the law time the edge
-    /// from `at`; after a late turn-on the current limit's blanking and
-    /// predicted crossing, and `wake`, the deadline that call returned,
-    /// move by as much (every deadline armed at a turn-on counts from it;
-    /// the current fell meanwhile, so the crossing comes no earlier: on
-    /// the safe side). Returns the deadline to arm. Out of line: once per
-    /// edge, from every handler, so one copy.
-    #[inline(never)]
-    pub fn switched_at(
-        &mut self,
-        now: Instant,
-        at: Instant,
-        wake: Option<Instant>,
-    ) -> Option<Instant> {
-        let late = at.ticks_since(now);
-        if late == 0 {
-            return wake;
-        }
-        let on = self.gate.is_on();
-        if late > crate::tick::MAX_DURATION_TICKS && on {
-            return wake;
-        }
-        self.estimator.move_edge(at);
-        self.inner.edge_at(at);
-        if !on {
-            return wake;
-        }
-        self.limit.delay(late);
-        wake.map(|w| w.after(late))
-    }
-
-    /// The limit ended this on-time. Out of line: once per limited cycle.
-    ///
-    /// The law sees its own turn-off and is asked what comes next. On a
-    /// Cortex-M0 through [`step`](Self::step) again, as a timer event
-    /// (one level deep: the gate is now off, so the limit cannot act
-    /// again, and the guard, its minimum off-time ahead, keeps it off):
-    /// the guard's filter is compiled once, in `step`, not a second time
-    /// here (about 400 bytes), for a few more instructions per limited
-    /// cycle only. Elsewhere the guarded law directly, the faster limited
-    /// cycle the other cores' counts were set with.
-    #[inline(never)]
-    fn limit_current(&mut self, now: Instant) -> Command {
-        self.limit.note_acted();
-        self.force_off(now);
-        let next = if ARMV6M { self.step(Event::Timer, now) } else { self.inner.on_timer(now) };
-        Command { gate: Gate::Off, wake: next.wake }
-    }
-
-    /// The gate switches to `gate` at `now`: tell the estimator, judge the
-    /// cycle it completes, and at a turn-on arm the current limit.
-    #[inline(always)]
-    fn follow_gate(&mut self, gate: Gate, now: Instant, current_now: Amps) -> Option<Command> {
-        self.gate = gate;
-        if let Some(done) = self.estimator.on_gate(gate, now) {
-            if let Some(fault) = self.end_of_cycle(&done, now) {
-                return Some(fault);
-            }
-        }
-        if gate.is_on() {
-            self.limit.arm(now, current_now, &self.estimator);
-        }
-        None
-    }
-
-    /// Short-circuit and sensor checks on a completed cycle.
-    #[inline(always)]
-    fn end_of_cycle(&mut self, done: &CycleCurrents, now: Instant) -> Option<Command> {
-        let view = CycleView {
-            cycle: done,
-            limited: self.limit.take_acted(),
-            output: self.readings.last_out,
-            reference: self.inner.reference_code(),
-            input: self.readings.last_in,
-        };
-        let fault = self.detect.end_of_cycle(&view, &self.limits)?;
-        Some(self.trip(fault, now))
-    }
-
-    /// Fast path, for firmware whose law runs on comparator edges: an output
-    /// reading taken for protection only (over-voltage, rails, soft-start
-    /// origin). Returns a command only when it acted (the gate must go off);
-    /// otherwise the law's last command and deadline stand.
-    #[inline]
-    pub fn on_output_reading(&mut self, code: u16, now: Instant) -> Option<Command> {
-        match self.sequence.state() {
-            State::Regulating => {}
-            State::SoftStart => self.soft_start_step(now),
-            _ => {
-                self.readings.note_output(code);
-                return None;
-            }
-        }
-        self.check_output(code, now)
-    }
-
-    /// Fast path: an input reading (scanned with the output); the current
-    /// estimator's on-slope follows it. Input limits stay on the slow path.
-    #[inline]
-    pub fn on_input_reading(&mut self, code: u16, now: Instant) {
-        self.readings.note_input(code);
-        self.estimator.on_input_code(code, now);
-    }
-
-    /// Slow path, at a steady rate (1–20 kHz): input checks, soft-start
-    /// ramp, hiccup timing, and the estimator's voltages; ends the input
-    /// readings' window (read [`input_average`](Self::input_average) before
-    /// it). `vin` is the input channel's code (the
-    /// window's average, or the last reading) for the checks.
-    ///
-    /// The estimator's input share keeps the last input reading (a
-    /// window's average lags a moving bus by half a window, and the fast
-    /// path's reading sets it until the next one); `vin` sets it only when
-    /// no input reading came in the window. The output share takes the
-    /// window's average output (a single reading carries the ripple).
-    /// Returns a command when it stopped the stage (the gate must go off).
-    pub fn housekeeping(&mut self, vin: u16, now: Instant) -> Option<Command> {
-        if !self.readings.end_input_window() {
-            // No input reading came: the caller's code is the latest.
-            self.readings.last_in = vin;
-        }
-        if let Some(kind) = self.input_fault(vin) {
-            return Some(self.trip(kind, now));
-        }
-        if !self.readings.has_output() {
-            // Nothing to start from (nor to set the estimator's slopes
-            // with) before the first output reading.
-            return None;
-        }
-        let l = &self.limits;
-        let input_ok = vin >= l.uvlo_on && vin <= l.vin_resume;
-        match self.sequence.step(input_ok, self.readings.last_out, now, &self.limits) {
-            Step::Begin(output) => {
-                self.estimator.restart_at(now);
-                self.pulses.begin(self.inner.follows_reference());
-                self.ramp.begin(output, self.limits.current_limit, self.pulses.active());
-
-                self.pulses.retune(&self.estimator);
-                self.soft_start_step(now);
-            }
-            Step::Hold if self.sequence.state() == State::SoftStart => self.soft_start_step(now),
-            Step::Hold => {}
-        }
-        self.out_average = self.readings.take_output_average();
-        // Within an eighth of the setpoint: regulation reached.
-        let target = u32::from(self.ramp.target()) << 16;
-        if self.out_average >= target - target / 8 {
-            self.sequence.reached_regulation();
-        }
-        let out = ((self.out_average + (1 << 15)) >> 16).min(u32::from(u16::MAX)) as u16;
-        self.estimator.set_voltage_codes(self.readings.last_in, out);
-        if self.pulses.active() {
-            self.pulses.retune(&self.estimator);
-        }
-        None
-    }
-
-    /// The input fault `vin` shows, if any: a reading at the rail always;
-    /// UVLO and over-voltage while switching or waiting to restart.
-    fn input_fault(&self, vin: u16) -> Option<FaultKind> {
-        let state = self.sequence.state();
-        if vin >= self.limits.in_rail && state != State::Fault {
-            return Some(FaultKind::SensorRange);
-        }
-        if !(self.sequence.is_switching() || state == State::Restart) {
-            return None;
-        }
-        if vin < self.limits.uvlo_off {
-            Some(FaultKind::InputUndervoltage)
-        } else if vin > self.limits.vin_max {
-            Some(FaultKind::InputOvervoltage)
-        } else {
-            None
-        }
-    }
-}
-
-impl<L: Law + Regulate, const LOG: usize> Law for Supervisor<L, LOG> {
-    #[inline]
-    fn on_sample(&mut self, code: u16, now: Instant) -> Command {
-        self.step(Event::Sample(code), now)
-    }
-
-    #[inline]
-    fn on_edge(&mut self, level: bool, now: Instant) -> Command {
-        self.step(Event::Edge(level), now)
-    }
-
-    #[inline]
-    fn on_timer(&mut self, now: Instant) -> Command {
-        self.step(Event::Timer, now)
-    }
-
-    /// The wrapped stage's.
-    fn min_on_ticks(&self) -> u32 {
-        self.limit.blanking()
-    }
-
-    fn comparator_code(&self) -> Option<u16> {
-        self.inner.comparator_code()
     }
 }
