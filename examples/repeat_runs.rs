@@ -22,24 +22,17 @@
 
 use ripplectl::sim::{self, Scenario};
 
-fn main() {
+fn main() -> Result<(), Box<dyn std::error::Error>> {
     let mut args = std::env::args().skip(1);
     let scenario = match args.next().as_deref() {
         None | Some("-") => Scenario::default_demo(),
-        Some(path) => {
-            let text =
-                std::fs::read_to_string(path).unwrap_or_else(|e| panic!("cannot read {path}: {e}"));
-            Scenario::from_toml(&text).unwrap_or_else(|e| panic!("{path}: {e}"))
-        }
+        Some(path) => Scenario::from_toml(&std::fs::read_to_string(path)?)?,
     };
-    let runs: u32 = match args.next() {
-        None => 1,
-        Some(n) => n.parse().unwrap_or_else(|_| panic!("runs: a whole number, not {n:?}")),
-    };
+    let runs: u32 = args.next().map_or(Ok(1), |n| n.parse())?;
     let mut cycles = 0;
     for _ in 0..runs {
-        let out = sim::run(&scenario).unwrap_or_else(|e| panic!("the run failed: {e}"));
-        cycles += out.recorder.cycles.len();
+        cycles += sim::run(&scenario)?.recorder.cycles.len();
     }
     println!("{runs} runs, {cycles} switching cycles");
+    Ok(())
 }
