@@ -5,6 +5,7 @@
 //! cargo build --release --example repeat_runs
 //! target/release/examples/repeat_runs                      # the built-in default, 1 run
 //! target/release/examples/repeat_runs tests/fixtures/sampled-1mhz.toml 3
+//! target/release/examples/repeat_runs - 3                  # `-`: the built-in default
 //! ```
 //!
 //! Instructions of the simulation loop alone, by valgrind's callgrind
