@@ -6,8 +6,6 @@
 //! any time it moves the plant; each panel of the plant's motion then takes
 //! the pieces of the line within it, one after another.
 
-use std::collections::VecDeque;
-
 /// The estimate at an event, just before and just after its handlers, A
 /// (NaN: the firmware gives none).
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -38,8 +36,18 @@ pub struct Piece {
 pub struct EstimateLine {
     /// Where the present piece starts: time, s, and value, A.
     from: (f64, f64),
-    pending: VecDeque<Knot>,
+    /// The knots given, those before `next` used up. Emptied whenever the
+    /// record reaches the last (it soon does: the knots lead the plant by
+    /// an event at most), so a plain vector serves as the queue, without
+    /// a ring's index arithmetic.
+    pending: Vec<Knot>,
+    /// The first knot not yet reached.
+    next: usize,
 }
+
+/// Used-up knots kept at most before they are dropped from the queue's
+/// front (should the record lag the knots for long).
+const USED_KEPT: usize = 64;
 
 impl EstimateLine {
     /// A knot. One earlier than the last knot given is dropped: the
@@ -47,9 +55,13 @@ impl EstimateLine {
     /// late to have stopped there, lags the handlers), and the line between
     /// the knots around it already holds its value.
     pub fn knot(&mut self, k: Knot) {
-        let last = self.pending.back().map_or(self.from.0, |p| p.t_s);
+        let last = self.pending.last().map_or(self.from.0, |p| p.t_s);
         if k.t_s >= last {
-            self.pending.push_back(k);
+            if self.next >= USED_KEPT {
+                self.pending.drain(..self.next);
+                self.next = 0;
+            }
+            self.pending.push(k);
         }
     }
 
@@ -57,7 +69,7 @@ impl EstimateLine {
     /// ran (its knot was given with the value before them); `corrected`:
     /// the value before them is replaced too (the line runs to it).
     pub fn set_after(&mut self, t_s: f64, after_a: f64, corrected: bool) {
-        match self.pending.back_mut() {
+        match self.pending.last_mut() {
             Some(k) if k.t_s == t_s => {
                 k.after_a = after_a;
                 if corrected {
@@ -73,18 +85,32 @@ impl EstimateLine {
     /// next knot, or to `t1` without one before it; the knots it reaches
     /// are used up.
     pub fn piece_from(&mut self, t: f64, t1: f64) -> Piece {
-        while let Some(k) = self.pending.front().filter(|k| k.t_s <= t).copied() {
-            self.from = (k.t_s, k.after_a);
-            self.pending.pop_front();
+        while let Some(k) = self.front().filter(|k| k.t_s <= t).copied() {
+            self.use_up(&k);
         }
         let e0 = self.value_at(t);
-        match self.pending.front().filter(|k| k.t_s <= t1).copied() {
+        match self.front().filter(|k| k.t_s <= t1).copied() {
             Some(k) => {
-                self.from = (k.t_s, k.after_a);
-                self.pending.pop_front();
+                self.use_up(&k);
                 Piece { t0: t, t1: k.t_s, e0, e1: k.before_a }
             }
             None => Piece { t0: t, t1, e0, e1: self.value_at(t1) },
+        }
+    }
+
+    /// The first knot not yet reached.
+    fn front(&self) -> Option<&Knot> {
+        self.pending.get(self.next)
+    }
+
+    /// The line reaches `k`, the first knot pending: the next piece starts
+    /// there (the queue emptied when it was the last).
+    fn use_up(&mut self, k: &Knot) {
+        self.from = (k.t_s, k.after_a);
+        self.next += 1;
+        if self.next == self.pending.len() {
+            self.pending.clear();
+            self.next = 0;
         }
     }
 
@@ -93,7 +119,7 @@ impl EstimateLine {
     /// next knot).
     fn value_at(&self, t: f64) -> f64 {
         let (ta, ea) = self.from;
-        match self.pending.front() {
+        match self.front() {
             Some(k) if k.t_s > ta => ea + (k.before_a - ea) * ((t - ta) / (k.t_s - ta)),
             _ => ea,
         }

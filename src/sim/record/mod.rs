@@ -60,7 +60,6 @@ pub struct Recorder {
     pub il_peak_a: f64,
     /// The output through each disturbance.
     pub transients: TransientTracker,
-    last: Option<Observation>,
     /// The firmware's estimate, knots not yet recorded.
     estimate: EstimateLine,
 }
@@ -106,7 +105,6 @@ impl Recorder {
             off_min_s: f64::INFINITY,
             il_peak_a: 0.0,
             transients: TransientTracker::default(),
-            last: None,
             estimate: EstimateLine::default(),
         }
     }
@@ -168,7 +166,6 @@ impl Recorder {
         s.take_output(o.vo_v);
         s.take_current(o.il_a);
         s.take_estimate(o.il_est_a);
-        self.last = Some(o);
     }
 
     /// The firmware's estimate at an event, just before and just after its
@@ -238,21 +235,19 @@ impl Recorder {
         // there (same time, cycle and slice) unless the estimate steps at
         // the knot between them.
         let mut taken = f64::NAN;
-        let il_est_a = loop {
+        loop {
             let piece = self.estimate.piece_from(t, t1_s);
             self.take_estimate_extremes(&piece, one_slice, piece.e0 == taken);
             self.integrate_estimate_piece(t0_s, &il, &piece, window);
             if piece.t1 >= t1_s {
-                break piece.e1;
+                break;
             }
             t = piece.t1;
             taken = piece.e1;
-        };
+        }
         if gate_on {
             self.add_duty(t0_s, t1_s);
         }
-        self.last =
-            Some(Observation { t_s: t1_s, vo_v: p.vo[2], il_a: p.states[2][0], il_est_a, gate_on });
     }
 
     /// The output's and current's extremes over a panel that spans
