@@ -60,18 +60,21 @@ impl Quadratic {
 
     /// The lowest and highest value over the panel.
     pub fn range(&self) -> (f64, f64) {
-        let (a, b) = (self.c[0], self.at(self.h));
-        let (lo, hi) = if a < b { (a, b) } else { (b, a) };
-        match self.turn() {
-            Some((_, v)) => (lo.min(v), hi.max(v)),
-            None => (lo, hi),
-        }
+        self.extremes().range
     }
 
-    /// The points where the extremes over the panel lie, `(s, value)`: the
-    /// ends and the turning point.
-    pub fn extreme_points(&self) -> impl Iterator<Item = (f64, f64)> {
-        [(0.0, self.c[0]), (self.h, self.at(self.h))].into_iter().chain(self.turn())
+    /// Where the extremes over the panel lie besides the start (the end's
+    /// value and the turning point), and the range they make: found once
+    /// for both.
+    pub fn extremes(&self) -> Extremes {
+        let (a, b) = (self.c[0], self.at(self.h));
+        let (lo, hi) = if a < b { (a, b) } else { (b, a) };
+        let turn = self.turn();
+        let range = match turn {
+            Some((_, v)) => (lo.min(v), hi.max(v)),
+            None => (lo, hi),
+        };
+        Extremes { end: b, turn, range }
     }
 
     /// The last `s` in `[0, h]` where the quadratic equals `level`, if any.
@@ -90,6 +93,17 @@ impl Quadratic {
         let roots = [q / a, if q == 0.0 { 0.0 } else { c / q }];
         roots.into_iter().filter(|&s| inside(s)).reduce(f64::max)
     }
+}
+
+/// A quadratic's extremes over its panel ([`Quadratic::extremes`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Extremes {
+    /// The value at the end.
+    pub end: f64,
+    /// The turning point strictly inside, if any: `(s, value)`.
+    pub turn: Option<(f64, f64)>,
+    /// The lowest and highest value.
+    pub range: (f64, f64),
 }
 
 /// `∫ₐᵇ (e(s) − q(s))² ds` for `e` linear from `ea` at `a` to `eb` at `b`

@@ -45,6 +45,18 @@ impl Cycle {
             raise_or_set(&mut self.il_est_max_a, e);
         }
     }
+
+    /// The output's range `(lo, hi)` (as both taken, `lo ≤ hi`).
+    pub(super) fn take_output_range(&mut self, (lo, hi): (f64, f64)) {
+        raise(&mut self.vo_max_v, hi);
+        lower(&mut self.vo_min_v, lo);
+    }
+
+    /// The current's range `(lo, hi)`.
+    pub(super) fn take_current_range(&mut self, (lo, hi): (f64, f64)) {
+        raise(&mut self.il_max_a, hi);
+        lower(&mut self.il_min_a, lo);
+    }
 }
 
 /// Waveform envelope over one slice of time, for plots and CSV.
@@ -83,6 +95,26 @@ impl Slice {
         if e.is_finite() {
             lower_or_set(&mut self.il_est_min_a, e);
             raise_or_set(&mut self.il_est_max_a, e);
+        }
+    }
+
+    /// The output's range `(lo, hi)` (as both taken, `lo ≤ hi`).
+    pub(super) fn take_output_range(&mut self, (lo, hi): (f64, f64)) {
+        lower(&mut self.vo_min_v, lo);
+        raise(&mut self.vo_max_v, hi);
+    }
+
+    /// The current's range `(lo, hi)`.
+    pub(super) fn take_current_range(&mut self, (lo, hi): (f64, f64)) {
+        lower(&mut self.il_min_a, lo);
+        raise(&mut self.il_max_a, hi);
+    }
+
+    /// The estimate's range `(lo, hi)`, NaN for none.
+    pub(super) fn take_estimate_range(&mut self, (lo, hi): (f64, f64)) {
+        if lo.is_finite() {
+            lower_or_set(&mut self.il_est_min_a, lo);
+            raise_or_set(&mut self.il_est_max_a, hi);
         }
     }
 
@@ -164,7 +196,7 @@ pub(super) fn lower(m: &mut f64, x: f64) {
 
 /// `m ← max(m, x)` for a number `x`, where an `m` of NaN means "none yet".
 #[inline]
-fn raise_or_set(m: &mut f64, x: f64) {
+pub(super) fn raise_or_set(m: &mut f64, x: f64) {
     if m.is_nan() || x > *m {
         *m = x;
     }
@@ -172,7 +204,7 @@ fn raise_or_set(m: &mut f64, x: f64) {
 
 /// `m ← min(m, x)` for a number `x`, where an `m` of NaN means "none yet".
 #[inline]
-fn lower_or_set(m: &mut f64, x: f64) {
+pub(super) fn lower_or_set(m: &mut f64, x: f64) {
     if m.is_nan() || x < *m {
         *m = x;
     }

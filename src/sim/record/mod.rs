@@ -20,7 +20,7 @@ use super::plant::{EnergyLedger, Panel};
 use super::quadratic::{squared_difference, Quadratic};
 use super::transient::TransientTracker;
 use estimate::{EstimateLine, Knot, Piece};
-use items::{lower, raise};
+use items::{lower, lower_or_set, raise, raise_or_set};
 pub use items::{Cycle, Observation, Slice, Window, WindowBoundary};
 
 /// Cell width of the inductor-current record in the steady windows, s.
@@ -193,122 +193,112 @@ impl Recorder {
         let vo = Quadratic::through(p.h, p.vo);
         let il = Quadratic::through(p.h, [p.states[0][0], p.states[1][0], p.states[2][0]]);
         let t1_s = t0_s + p.h;
-        let (v_lo, v_hi) = match p.vo_turn {
-            Some((_, v)) => (v.min(p.vo[0]).min(p.vo[2]), v.max(p.vo[0]).max(p.vo[2])),
-            None => vo.range(),
+        // The output's turn: the plant's, on the closed form, if it found
+        // one; else the quadratic's.
+        let (vo_turn, v_range) = match p.vo_turn {
+            Some((s, v)) => {
+                (Some((s, v)), (v.min(p.vo[0]).min(p.vo[2]), v.max(p.vo[0]).max(p.vo[2])))
+            }
+            None => {
+                let e = vo.extremes();
+                (e.turn, e.range)
+            }
         };
-        let (i_lo, i_hi) = il.range();
+        let i_ext = il.extremes();
+        let (i_lo, i_hi) = i_ext.range;
         let i_peak = i_hi.max(-i_lo);
         raise(&mut self.il_peak_a, i_peak);
         if let Some(c) = self.current.as_mut() {
-            c.take_output(v_lo);
-            c.take_output(v_hi);
-            c.take_current(i_lo);
-            c.take_current(i_hi);
+            c.take_output_range(v_range);
+            c.take_current_range(i_ext.range);
         }
         let slices = (self.slice_index(t0_s), self.slice_index(t1_s));
         if slices.0 == slices.1 {
             let s = &mut self.slices[slices.0];
-            s.take_output(v_lo);
-            s.take_output(v_hi);
-            s.take_current(i_lo);
-            s.take_current(i_hi);
+            s.take_output_range(v_range);
+            s.take_current_range(i_ext.range);
         } else {
-            self.take_extremes_by_slice(t0_s, p, &vo, &il);
+            let ends = [(p.vo[0], p.vo[2]), (il.c[0], i_ext.end)];
+            self.take_extremes_by_slice(t0_s, slices, ends, [vo_turn, i_ext.turn]);
         }
-        self.transients.panel(t0_s, &vo, (v_lo, v_hi), i_peak);
+        self.transients.panel(t0_s, &vo, v_range, i_peak);
         let window = self.window_at(t0_s + 0.5 * p.h);
         if let Some(k) = window {
             let w = &mut self.windows[k];
             w.vo_integral += vo.total();
             w.il_integral += il.total();
-            lower(&mut w.vo_min_v, v_lo);
-            raise(&mut w.vo_max_v, v_hi);
+            lower(&mut w.vo_min_v, v_range.0);
+            raise(&mut w.vo_max_v, v_range.1);
             if let Some(cells) = self.il_cells.get_mut(k) {
                 cells.add_quadratic(t0_s, &il);
             }
         }
-        // A panel inside one slice has each of its pieces there.
-        let one_slice = (slices.0 == slices.1).then_some(slices.0);
+        self.take_estimate(t0_s, t1_s, slices, &il, window);
+        if gate_on {
+            self.add_duty(t0_s, t1_s);
+        }
+    }
+
+    /// The output's and current's extremes over a panel from `t0_s` that
+    /// spans envelope slices (from `slices.0` to `slices.1`), each in its
+    /// slice: `ends`, their values at the panel's start and end (in the
+    /// first and last slice), `turns`, where they turn inside, if they do.
+    fn take_extremes_by_slice(
+        &mut self,
+        t0_s: f64,
+        slices: (usize, usize),
+        [(v0, v1), (i0, i1)]: [(f64, f64); 2],
+        [v_turn, i_turn]: [Option<(f64, f64)>; 2],
+    ) {
+        self.slices[slices.0].take_output_range((v0, v0));
+        self.slices[slices.0].take_current_range((i0, i0));
+        self.slices[slices.1].take_output_range((v1, v1));
+        self.slices[slices.1].take_current_range((i1, i1));
+        if let Some((s, v)) = v_turn {
+            self.slice_at(t0_s + s).take_output_range((v, v));
+        }
+        if let Some((s, i)) = i_turn {
+            self.slice_at(t0_s + s).take_current_range((i, i));
+        }
+    }
+
+    /// The firmware's estimate over a panel from `t0_s` to `t1_s` (in the
+    /// envelope slices `slices.0` to `slices.1`) whose current is `il`: its
+    /// straight pieces up to the panel's end, their extremes in the cycle
+    /// and the envelope, their integrals in the steady window `window`.
+    fn take_estimate(
+        &mut self,
+        t0_s: f64,
+        t1_s: f64,
+        slices: (usize, usize),
+        il: &Quadratic,
+        window: Option<usize>,
+    ) {
+        let mut extremes = EstimateExtremes::new(slices.0);
         let mut t = t0_s;
+        // The slice where the piece starts (the last one's end).
+        let mut k0 = slices.0;
         // Where the last piece ended, already taken: the next one starts
         // there (same time, cycle and slice) unless the estimate steps at
         // the knot between them.
         let mut taken = f64::NAN;
         loop {
             let piece = self.estimate.piece_from(t, t1_s);
-            self.take_estimate_extremes(&piece, one_slice, piece.e0 == taken);
-            self.integrate_estimate_piece(t0_s, &il, &piece, window);
+            // A panel inside one slice has each of its pieces there.
+            let k1 = if slices.0 == slices.1 { k0 } else { self.slice_index(piece.t1) };
+            if piece.e0 != taken {
+                extremes.take(k0, piece.e0, &mut self.slices);
+            }
+            extremes.take(k1, piece.e1, &mut self.slices);
+            if let Some(k) = window {
+                integrate_estimate_piece(&mut self.windows[k], t0_s, il, &piece);
+            }
             if piece.t1 >= t1_s {
                 break;
             }
-            t = piece.t1;
-            taken = piece.e1;
+            (t, k0, taken) = (piece.t1, k1, piece.e1);
         }
-        if gate_on {
-            self.add_duty(t0_s, t1_s);
-        }
-    }
-
-    /// The output's and current's extremes over a panel that spans
-    /// envelope slices, each in its slice.
-    fn take_extremes_by_slice(&mut self, t0_s: f64, p: &Panel, vo: &Quadratic, il: &Quadratic) {
-        let ends = [(0.0, p.vo[0]), (p.h, p.vo[2])];
-        let turn = match p.vo_turn {
-            Some(turn) => Some(turn),
-            None => vo.turn(),
-        };
-        for (s, v) in ends.into_iter().chain(turn) {
-            self.slice_at(t0_s + s).take_output(v);
-        }
-        for (s, i) in il.extreme_points() {
-            self.slice_at(t0_s + s).take_current(i);
-        }
-    }
-
-    /// The extremes of a straight piece of the firmware's estimate, in the
-    /// cycle and the envelope; `one_slice`: the slice the whole panel lies
-    /// in, if it lies in one; `start_taken`: its start was taken already
-    /// (the last piece's end).
-    fn take_estimate_extremes(
-        &mut self,
-        piece: &Piece,
-        one_slice: Option<usize>,
-        start_taken: bool,
-    ) {
-        let slices = match one_slice {
-            Some(s) => (s, s),
-            None => (self.slice_index(piece.t0), self.slice_index(piece.t1)),
-        };
-        if let Some(c) = self.current.as_mut() {
-            if !start_taken {
-                c.take_estimate(piece.e0);
-            }
-            c.take_estimate(piece.e1);
-        }
-        if !start_taken {
-            self.slices[slices.0].take_estimate(piece.e0);
-        }
-        self.slices[slices.1].take_estimate(piece.e1);
-    }
-
-    /// A straight piece of the firmware's estimate inside a panel from
-    /// `t0_s` whose current is `il`, in a steady window: its integral and
-    /// that of its squared error (exact for a line less a quadratic).
-    fn integrate_estimate_piece(
-        &mut self,
-        t0_s: f64,
-        il: &Quadratic,
-        piece: &Piece,
-        window: Option<usize>,
-    ) {
-        let Some(w) = window.map(|k| &mut self.windows[k]) else { return };
-        let dt = piece.t1 - piece.t0;
-        w.il_est_integral += 0.5 * (piece.e0 + piece.e1) * dt;
-        if piece.e0.is_finite() && piece.e1.is_finite() && dt > 0.0 {
-            let (a, b) = (piece.t0 - t0_s, piece.t1 - t0_s);
-            w.est_err_sq_integral += squared_difference(il, a, b, piece.e0, piece.e1);
-        }
+        extremes.finish(&mut self.slices, self.current.as_mut());
     }
 
     /// The steady window a panel centred at `mid_s` lies in, if any
@@ -406,5 +396,61 @@ impl Recorder {
     /// The completed cycles that start in a steady window.
     pub fn steady_cycles(&self) -> impl Iterator<Item = &Cycle> + '_ {
         self.cycles.iter().filter(|c| c.period_s.is_finite() && self.is_steady(c.t_s))
+    }
+}
+
+/// A straight piece of the firmware's estimate inside a panel from `t0_s`
+/// whose current is `il`, in the steady window `w`: its integral and that
+/// of its squared error (exact for a line less a quadratic).
+fn integrate_estimate_piece(w: &mut Window, t0_s: f64, il: &Quadratic, piece: &Piece) {
+    let dt = piece.t1 - piece.t0;
+    w.il_est_integral += 0.5 * (piece.e0 + piece.e1) * dt;
+    if piece.e0.is_finite() && piece.e1.is_finite() && dt > 0.0 {
+        let (a, b) = (piece.t0 - t0_s, piece.t1 - t0_s);
+        w.est_err_sq_integral += squared_difference(il, a, b, piece.e0, piece.e1);
+    }
+}
+
+/// The estimate's extremes over one panel, gathered point by point in time
+/// order: taken into each envelope slice once (its range over the points
+/// there) and into the cycle once, not point by point (the same extremes:
+/// the estimate's values are numbers or skipped, so order does not matter).
+struct EstimateExtremes {
+    /// The slice of the points gathered in `range`.
+    slice: usize,
+    /// Their lowest and highest value (NaN: none yet).
+    range: (f64, f64),
+    /// The highest value over the panel (NaN: none yet).
+    max: f64,
+}
+
+impl EstimateExtremes {
+    /// None yet; the first points in slice `slice`.
+    fn new(slice: usize) -> Self {
+        Self { slice, range: (f64::NAN, f64::NAN), max: f64::NAN }
+    }
+
+    /// The estimate `e` in slice `slice` (at or after the last point's);
+    /// `slices`: the envelope, where the range of an earlier slice goes.
+    fn take(&mut self, slice: usize, e: f64, slices: &mut [Slice]) {
+        if !e.is_finite() {
+            return;
+        }
+        if slice != self.slice {
+            slices[self.slice].take_estimate_range(self.range);
+            (self.slice, self.range) = (slice, (e, e));
+        } else {
+            lower_or_set(&mut self.range.0, e);
+            raise_or_set(&mut self.range.1, e);
+        }
+        raise_or_set(&mut self.max, e);
+    }
+
+    /// The extremes gathered, into the envelope and the present cycle.
+    fn finish(self, slices: &mut [Slice], cycle: Option<&mut Cycle>) {
+        slices[self.slice].take_estimate_range(self.range);
+        if let Some(c) = cycle {
+            c.take_estimate(self.max);
+        }
     }
 }
