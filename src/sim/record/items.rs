@@ -196,7 +196,7 @@ pub(super) fn lower(m: &mut f64, x: f64) {
 
 /// `m ← max(m, x)` for a number `x`, where an `m` of NaN means "none yet".
 #[inline]
-pub(super) fn raise_or_set(m: &mut f64, x: f64) {
+fn raise_or_set(m: &mut f64, x: f64) {
     if m.is_nan() || x > *m {
         *m = x;
     }
@@ -204,7 +204,7 @@ pub(super) fn raise_or_set(m: &mut f64, x: f64) {
 
 /// `m ← min(m, x)` for a number `x`, where an `m` of NaN means "none yet".
 #[inline]
-pub(super) fn lower_or_set(m: &mut f64, x: f64) {
+fn lower_or_set(m: &mut f64, x: f64) {
     if m.is_nan() || x < *m {
         *m = x;
     }

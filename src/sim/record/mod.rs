@@ -20,7 +20,7 @@ use super::plant::{EnergyLedger, Panel};
 use super::quadratic::{squared_difference, Quadratic};
 use super::transient::TransientTracker;
 use estimate::{EstimateLine, Knot, Piece};
-use items::{lower, lower_or_set, raise, raise_or_set};
+use items::{lower, raise};
 pub use items::{Cycle, Observation, Slice, Window, WindowBoundary};
 
 /// Cell width of the inductor-current record in the steady windows, s.
@@ -418,16 +418,17 @@ fn integrate_estimate_piece(w: &mut Window, t0_s: f64, il: &Quadratic, piece: &P
 struct EstimateExtremes {
     /// The slice of the points gathered in `range`.
     slice: usize,
-    /// Their lowest and highest value (NaN: none yet).
+    /// Their lowest and highest value (+∞ and −∞: none yet, so that each
+    /// point is one comparison against each).
     range: (f64, f64),
-    /// The highest value over the panel (NaN: none yet).
+    /// The highest value in the slices before (−∞: none).
     max: f64,
 }
 
 impl EstimateExtremes {
     /// None yet; the first points in slice `slice`.
     fn new(slice: usize) -> Self {
-        Self { slice, range: (f64::NAN, f64::NAN), max: f64::NAN }
+        Self { slice, range: (f64::INFINITY, f64::NEG_INFINITY), max: f64::NEG_INFINITY }
     }
 
     /// The estimate `e` in slice `slice` (at or after the last point's);
@@ -437,18 +438,27 @@ impl EstimateExtremes {
             return;
         }
         if slice != self.slice {
-            slices[self.slice].take_estimate_range(self.range);
-            (self.slice, self.range) = (slice, (e, e));
-        } else {
-            lower_or_set(&mut self.range.0, e);
-            raise_or_set(&mut self.range.1, e);
+            self.flush(slices);
+            self.slice = slice;
         }
-        raise_or_set(&mut self.max, e);
+        lower(&mut self.range.0, e);
+        raise(&mut self.range.1, e);
+    }
+
+    /// The range gathered in the present slice, into it; none gathered
+    /// after.
+    fn flush(&mut self, slices: &mut [Slice]) {
+        let (lo, hi) = self.range;
+        if lo <= hi {
+            slices[self.slice].take_estimate_range((lo, hi));
+            raise(&mut self.max, hi);
+        }
+        self.range = (f64::INFINITY, f64::NEG_INFINITY);
     }
 
     /// The extremes gathered, into the envelope and the present cycle.
-    fn finish(self, slices: &mut [Slice], cycle: Option<&mut Cycle>) {
-        slices[self.slice].take_estimate_range(self.range);
+    fn finish(mut self, slices: &mut [Slice], cycle: Option<&mut Cycle>) {
+        self.flush(slices);
         if let Some(c) = cycle {
             c.take_estimate(self.max);
         }
