@@ -111,8 +111,7 @@ impl CellGrid {
     /// grid): `⌊(t − from)/Δt⌋` through i64, one instruction where `floor`
     /// is a library call.
     fn cell_of(&self, t: f64) -> usize {
-        let last = self.n as i64 - 1;
-        (((t - self.from_s) / self.dt_s) as i64).clamp(0, last) as usize
+        ((((t - self.from_s) / self.dt_s) as i64).max(0) as usize).min(self.n - 1)
     }
 
     /// Add the quadratic `q` over `[t0_s, t0_s + q.h]` (the parts outside
@@ -121,13 +120,13 @@ impl CellGrid {
     /// centre plus `c₂·Δt²/12`).
     pub fn add_quadratic(&mut self, t0_s: f64, q: &Quadratic) {
         let end = self.from_s + self.span_s();
-        let (lo, hi) = (t0_s.max(self.from_s), (t0_s + q.h).min(end));
+        let (lo, hi) = (later(t0_s, self.from_s), earlier(t0_s + q.h, end));
         if hi <= lo {
             return;
         }
         let n = self.n;
         let k = self.cell_of(lo);
-        let first_end = self.edge(k + 1).min(hi);
+        let first_end = earlier(self.edge(k + 1), hi);
         self.add_quadratic_part(t0_s, q, k, lo, first_end);
         let (mut t, mut k) = (first_end, k + 1);
         let whole_end = self.whole_cells_end(k, hi);
@@ -150,7 +149,7 @@ impl CellGrid {
             (t, k) = (self.edge(whole_end), whole_end);
         }
         if t < hi && k < n {
-            self.add_quadratic_part(t0_s, q, k, t, self.edge(k + 1).min(hi));
+            self.add_quadratic_part(t0_s, q, k, t, earlier(self.edge(k + 1), hi));
         }
     }
 
@@ -202,6 +201,7 @@ impl CellGrid {
     /// The first cell from `k` on that a segment ending at `hi` does not
     /// cover whole (or the number of cells): cells `k..` it returns end
     /// before `hi`.
+    #[inline(always)]
     fn whole_cells_end(&self, k: usize, hi: f64) -> usize {
         let n = self.n;
         let partial = |j: usize| j >= n || self.edge(j + 1) >= hi;
@@ -227,6 +227,28 @@ fn covering_cells(from_s: f64, to_s: f64, max_dt_s: f64) -> (f64, usize) {
     let span = (to_s - from_s).max(0.0);
     let n = ((span / max_dt_s).ceil() as usize).max(1).next_power_of_two();
     (span / n as f64, n)
+}
+
+/// The later of two times, `b` if `a` is NaN (as `f64::max` for a `b`
+/// that is a number, without its handling of a NaN `b`).
+#[inline]
+fn later(a: f64, b: f64) -> f64 {
+    if a > b {
+        a
+    } else {
+        b
+    }
+}
+
+/// The earlier of two times, `b` if `a` is NaN (as `f64::min` for a `b`
+/// that is a number).
+#[inline]
+fn earlier(a: f64, b: f64) -> f64 {
+    if a < b {
+        a
+    } else {
+        b
+    }
 }
 
 /// Start of cell `k` of a grid from `from_s` in cells of `dt_s`, s.
