@@ -151,6 +151,17 @@ impl Peripherals {
         }
     }
 
+    /// Whether the running handler's writes so far leave every output as
+    /// it is now (none, or each the value already there): its
+    /// [`commit`](Self::commit) now would change nothing.
+    pub(crate) fn staged_no_change(&self) -> bool {
+        let s = &self.shared;
+        let p = s.pending.get();
+        p.gate.is_none_or(|on| on == s.gate.get())
+            && p.compare.is_none_or(|c| c == s.compare.get())
+            && p.dac.is_none_or(|code| code == s.dac.get())
+    }
+
     /// The armed compare, if any.
     pub fn compare(&self) -> Option<Compare> {
         self.shared.compare.get()

@@ -50,13 +50,57 @@ impl<F: Firmware> Engine<F> {
 
     /// A fast handler ending at `end` just ran: its outputs take effect
     /// then.
+    ///
+    /// When they change nothing (most conversions rewrite the DAC's code),
+    /// the loop need not stop at the end: the gate, the armed compare and
+    /// the DAC are those [`after_handler`](Self::after_handler) last
+    /// followed (only handlers write them and each write is followed; the
+    /// compare's own pulse end, which could undo a rewrite of the gate,
+    /// does not fall before the end), so there the pin would be unchanged,
+    /// the comparator synced, and the compare armed for the same tick.
+    /// Interrupts waiting for the core wake the loop at the end anyway
+    /// ([`next_event`](super::schedule::Schedule::next_event)); the
+    /// look-ahead still stops there ([`look_ahead`](Self::look_ahead)).
     fn handler_ran(&mut self, end: u64) {
         if end <= self.tick {
             self.peripherals.commit();
             self.after_handler();
+        } else if self.outputs_followed
+            && self.peripherals.staged_no_change()
+            && self.schedule.compare.is_none_or(|t| t > end)
+        {
+            self.peripherals.commit();
+            if self.comparator.exists() {
+                self.scan_stop = Some(end);
+            }
         } else {
             self.effects_at = Some(end);
         }
+    }
+
+    /// Look ahead of the plant up to `target` (see
+    /// [`watch_until`](Self::watch_until)), stopping first at a handler's
+    /// end that changed nothing before it, as the loop did when it stopped
+    /// there: a scan split elsewhere rounds its states differently, and
+    /// the record must not change in its last bits. Returns the tick the
+    /// loop goes to.
+    pub(super) fn look_ahead(&mut self, target: u64) -> u64 {
+        let Some(stop) = self.scan_stop.filter(|&stop| stop <= target) else {
+            return self.watch_until(target);
+        };
+        if stop == target {
+            self.scan_stop = None;
+            return self.watch_until(target);
+        }
+        let reached = self.watch_until(stop);
+        if reached < stop {
+            return reached;
+        }
+        self.scan_stop = None;
+        // A crossing found on the way may have brought its interrupt
+        // before `target`.
+        let target = self.next_event();
+        self.watch_until(target)
     }
 
     /// Outputs of handlers that have ended by now.
@@ -188,6 +232,7 @@ impl<F: Firmware> Engine<F> {
     /// After a handler: the gate pin, the armed compare, the comparator's
     /// DAC.
     fn after_handler(&mut self) {
+        self.outputs_followed = true;
         self.follow_pin();
         self.schedule.compare = self.peripherals.compare().map(|c| {
             // A deadline already due fires at once (next tick).

@@ -155,6 +155,14 @@ struct Engine<F> {
     cpu: Cpu,
     /// A fast handler's outputs take effect at this tick (when it ends).
     effects_at: Option<u64>,
+    /// The end of a handler whose writes changed nothing, where the
+    /// look-ahead stops although the loop does not (see
+    /// [`look_ahead`](Self::look_ahead)).
+    scan_stop: Option<u64>,
+    /// The gate, compare and comparator have followed the peripherals
+    /// since a handler last ran (false until the first: a firmware may
+    /// have armed them while it was built).
+    outputs_followed: bool,
     /// Stops where nothing happens, every this many ticks (see
     /// [`RunControl::probe_every_ticks`]).
     probe: Option<u64>,
@@ -193,7 +201,7 @@ pub fn run_firmware_with<F: Firmware>(
         let target = engine.next_event();
         engine.tick = if engine.comparator.exists() {
             // A comparator may fire inside the interval: look ahead first.
-            engine.watch_until(target)
+            engine.look_ahead(target)
         } else {
             target
         };
@@ -304,6 +312,8 @@ impl<F: Firmware> Engine<F> {
             recorder,
             cpu,
             effects_at: None,
+            scan_stop: None,
+            outputs_followed: false,
             probe: None,
         })
     }
