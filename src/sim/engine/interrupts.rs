@@ -15,12 +15,30 @@ impl<F: Firmware> Engine<F> {
     /// higher-priority late arrival is on a Cortex-M), then the
     /// comparator, then the conversion. Each runs to its end before the
     /// next starts (see `cpu`).
+    ///
+    /// Most passes of the loop have none due: that is found here, inline,
+    /// before the handlers' code is entered.
+    #[inline]
     pub(super) fn interrupts(&mut self) {
+        if self.cpu.free_at(self.tick) && self.interrupt_due() {
+            self.take_interrupts();
+        }
+    }
+
+    /// Whether an interrupt is due at the tick (the core aside).
+    #[inline]
+    fn interrupt_due(&self) -> bool {
+        let due = |t: Option<u64>| t.is_some_and(|t| t <= self.tick);
+        due(self.schedule.conversion.map(|c| c.irq_at))
+            || due(self.schedule.edge.map(|e| e.at))
+            || due(self.schedule.compare_irq)
+    }
+
+    /// [`interrupts`](Self::interrupts), one or more being due.
+    #[inline(never)]
+    fn take_interrupts(&mut self) {
         while self.cpu.free_at(self.tick) {
-            let due = |t: Option<u64>| t.is_some_and(|t| t <= self.tick);
-            let entering = due(self.schedule.conversion.map(|c| c.irq_at))
-                || due(self.schedule.edge.map(|e| e.at))
-                || due(self.schedule.compare_irq);
+            let entering = self.interrupt_due();
             if entering && self.schedule.compare_irq.is_some() {
                 self.schedule.compare_irq = Some(self.tick);
             }
