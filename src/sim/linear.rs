@@ -500,6 +500,40 @@ impl Followed<'_> {
         ]
     }
 
+    /// Where the value turns (its rate is zero) inside `(a, b)`, in closed
+    /// form, when the followed function has no ramp (`β = 0`) and the
+    /// solution is coupled: the rate is then `A·P(t) + B·Q(t)` with
+    /// `A = γ·s + δ`, `B = γ·Δ + δ·s` (from `P' = s·P + Δ·Q`,
+    /// `Q' = P + s·Q`), zero where `A·cos ωt + (B/ω)·sin ωt = 0`
+    /// (`Δ = −ω² < 0`), where `tanh(r·t) = −A·r/B` (`Δ = r² > 0`), or at
+    /// `t = −A/B` (`Δ = 0`). `None` when no closed form applies or it
+    /// finds no turn inside (the caller then searches).
+    pub fn turn_within(&self, a: f64, b: f64) -> Option<f64> {
+        let Form::Coupled(c) = &self.solution.form else { return None };
+        let [_, beta, gamma, delta, _] = self.terms;
+        if beta != 0.0 {
+            return None;
+        }
+        let (ra, rb) = (gamma * c.s + delta, gamma * c.delta + delta * c.s);
+        let t = if c.delta < 0.0 {
+            // A·cos θ + C·sin θ = R·sin(θ + ψ), ψ = atan2(A, C): zero at
+            // θ = kπ − ψ; the first k past `a`.
+            let w = c.root;
+            let psi = ra.atan2(rb / w);
+            let k = ((w * a + psi) / core::f64::consts::PI).ceil();
+            (k * core::f64::consts::PI - psi) / w
+        } else if c.delta > 0.0 {
+            let x = -ra * c.root / rb;
+            if x.is_nan() || x.abs() >= 1.0 {
+                return None;
+            }
+            x.atanh() / c.root
+        } else {
+            -ra / rb
+        };
+        (t > a && t < b).then_some(t)
+    }
+
     fn combine(&self, f: &Flow, t: f64) -> f64 {
         let [alpha, beta, gamma, delta, epsilon] = self.terms;
         alpha + beta * t + gamma * f.p + delta * f.q + epsilon * f.r

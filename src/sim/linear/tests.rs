@@ -207,3 +207,51 @@ fn singular_coupled_systems_are_refused() {
     assert!(Solution::new(System { a: [[1.0, 2.0], [2.0, 4.0]], b0: [1.0, 0.0], b1: [0.0; 2] })
         .is_none());
 }
+
+#[test]
+fn closed_form_turns_are_where_the_rate_changes_sign() {
+    // With constant forcing the level is α + γ·P(t) + δ·Q(t), and its rate
+    // vanishes where the closed forms of the second-order linear ODE (any
+    // linear-systems text: e^{st}·cos ωt, e^{st}·cosh rt, e^{st}·t) put it.
+    // Each interval over which the rate changes sign must hold the
+    // closed-form turn, where bisection on the rate itself lands.
+    let systems = [
+        // Under-damped (Δ < 0), over-damped (Δ > 0), critically damped (Δ = 0).
+        [[-3.4e3, -2.1e4], [4.5e3, -1.8e3]],
+        [[-9.0e3, 2.0e3], [3.0e3, -1.0e3]],
+        [[-2.0e3, 1.0e4], [0.0, -2.0e3]],
+    ];
+    let level = Affine { c: [1.0, 0.1], k0: -5.0, k1: 0.0 };
+    // Starts on either side of the forced state; the second puts the
+    // over-damped system's fast mode against its slow one, so it turns.
+    let starts = [[-40.0, 9.0], [2067.0, -626.0], [-900.0, -400.0]];
+    let h = 2e-5;
+    for a in systems {
+        let s = Solution::new(System { a, b0: [5.1e5, -4.0e3], b1: [0.0; 2] }).unwrap();
+        let mut turns = 0;
+        for x0 in starts {
+            let trajectory = s.start_at(x0, 1e-4);
+            let path = trajectory.follow(&level);
+            let rising = |t: f64| path.value_and_rate(t).1 > 0.0;
+            for k in 0..100 {
+                let (lo, hi) = (k as f64 * h, (k + 1) as f64 * h);
+                if rising(lo) == rising(hi) {
+                    continue;
+                }
+                let t = path.turn_within(lo, hi).expect("a turn inside");
+                let (mut l, mut u) = (lo, hi);
+                for _ in 0..80 {
+                    let m = 0.5 * (l + u);
+                    if rising(m) == rising(l) {
+                        l = m;
+                    } else {
+                        u = m;
+                    }
+                }
+                assert!((t - 0.5 * (l + u)).abs() < 1e-12 * hi, "{t} vs {l} in {a:?}");
+                turns += 1;
+            }
+        }
+        assert!(turns >= 1, "no turn seen in {a:?}");
+    }
+}

@@ -140,15 +140,19 @@ fn start_of(bracket: &Bracket, r_lo: f64, r_hi: f64) -> f64 {
 }
 
 /// Where a level whose value and rate are `fa`, `ra` at `a` and `fb`, `rb`
-/// (a rate of the other sign) at `b` turns, with its value there: Newton
-/// on the rate from the turn of the cubic through the ends' values and
-/// rates ([`Hermite`]; the rates' linear interpolation when that turn is
-/// not inside), kept inside the interval.
+/// (a rate of the other sign) at `b` turns, with its value there: in
+/// closed form where the trajectory allows ([`Followed::turn_within`]),
+/// else Newton on the rate from the turn of the cubic through the ends'
+/// values and rates ([`Hermite`]; the rates' linear interpolation when
+/// that turn is not inside), kept inside the interval.
 pub(super) fn turn(
     path: &Followed<'_>,
     (a, fa, ra): (f64, f64, f64),
     (b, fb, rb): (f64, f64, f64),
 ) -> (f64, f64) {
+    if let Some(t) = path.turn_within(a, b) {
+        return (t, path.value(t));
+    }
     let (mut lo, mut hi) = (a, b);
     let mut t = match Hermite::new(fa, ra, fb, rb, b - a)
         .turns()
