@@ -76,6 +76,15 @@ impl Interval<'_> {
     /// The first time in the interval `level` is reached from the side
     /// away from `toward`, just past the crossing.
     pub fn first(&self, level: &Affine, toward: Toward) -> Option<f64> {
+        self.first_crossing(level, toward).map(|c| c.t)
+    }
+
+    /// [`first`](Self::first), and whether the level runs on without a
+    /// turn from the crossing to the interval's end (it does not turn in
+    /// the interval, or its one turn comes before the crossing: on an
+    /// interval this short, a small part of the slowest oscillation's half
+    /// period, the level turns at most once).
+    pub fn first_crossing(&self, level: &Affine, toward: Toward) -> Option<Crossing> {
         let value = |p: &Ahead| level.value(&p.x, self.tau + p.t);
         let (fa, fb) = (value(&self.from), value(&self.to));
         let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
@@ -90,23 +99,32 @@ impl Interval<'_> {
         }
         let path = self.trajectory.follow(level);
         // The bracket, with the level's rates at its ends (zero at a turn).
-        let (bracket, r_lo, r_hi) = if turns {
+        let (bracket, r_lo, r_hi, runs_on) = if turns {
             let (tm, fm) = turn(&path, (a, fa, ra), (b, fb, rb));
             if !reached(fa) && reached(fm) {
-                (Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }, ra, 0.0)
+                (Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }, ra, 0.0, false)
             } else if !reached(fm) && reached(fb) {
-                (Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }, 0.0, rb)
+                (Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }, 0.0, rb, true)
             } else {
                 return None;
             }
         } else if !reached(fa) && reached(fb) {
-            (Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }, ra, rb)
+            (Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }, ra, rb, true)
         } else {
             return None;
         };
         let start = start_of(&bracket, r_lo, r_hi);
-        Some(refine_from(&path, bracket, start, &reached))
+        Some(Crossing { t: refine_from(&path, bracket, start, &reached), runs_on })
     }
+}
+
+/// A level's first crossing in an interval.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(super) struct Crossing {
+    /// Its time after the plant's, just past the crossing, s.
+    pub t: f64,
+    /// The level does not turn from the crossing to the interval's end.
+    pub runs_on: bool,
 }
 
 /// Whether a level that turns inside an interval of length `h` (value and

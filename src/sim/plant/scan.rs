@@ -109,9 +109,10 @@ impl Plant {
         if let Some(w) = watch {
             let toward = if w.rising { Toward::Above } else { Toward::Below };
             let level = self.output.less(w.level_v);
-            consider(&mut first, interval.first(&level, toward), Stop::Crossing);
+            let crossing = interval.first_crossing(&level, toward);
+            consider(&mut first, crossing.map(|c| c.t), Stop::Crossing);
             let crossed = matches!(first, Some((_, Stop::Crossing(_))));
-            if crossed && alone && !interval.turns(&level) {
+            if crossed && alone && crossing.is_some_and(|c| c.runs_on) {
                 clear_to = Some(end);
             }
         }
