@@ -516,12 +516,14 @@ impl Followed<'_> {
         }
         let (ra, rb) = (gamma * c.s + delta, gamma * c.delta + delta * c.s);
         let t = if c.delta < 0.0 {
-            // A·cos θ + C·sin θ = R·sin(θ + ψ), ψ = atan2(A, C): zero at
-            // θ = kπ − ψ; the first k past `a`.
+            // A·cos θ + (B/ω)·sin θ = 0 at θ = θ₀ + kπ, θ₀ = atan(−A·ω/B)
+            // in (−π/2, π/2): the first k past `a`. (θ₀ + kπ does not cancel
+            // near critical damping, where ω·t is small; A = B = 0 gives
+            // NaN, no turn.)
             let w = c.root;
-            let psi = ra.atan2(rb / w);
-            let k = ((w * a + psi) / core::f64::consts::PI).ceil();
-            (k * core::f64::consts::PI - psi) / w
+            let theta = (-ra * w / rb).atan();
+            let k = ((w * a - theta) / core::f64::consts::PI).ceil();
+            (theta + k * core::f64::consts::PI) / w
         } else if c.delta > 0.0 {
             let x = -ra * c.root / rb;
             if x.is_nan() || x.abs() >= 1.0 {

@@ -210,32 +210,37 @@ fn singular_coupled_systems_are_refused() {
 
 #[test]
 fn closed_form_turns_are_where_the_rate_changes_sign() {
-    // With constant forcing the level is α + γ·P(t) + δ·Q(t), and its rate
-    // vanishes where the closed forms of the second-order linear ODE (any
-    // linear-systems text: e^{st}·cos ωt, e^{st}·cosh rt, e^{st}·t) put it.
-    // Each interval over which the rate changes sign must hold the
-    // closed-form turn, where bisection on the rate itself lands.
-    let systems = [
-        // Under-damped (Δ < 0), over-damped (Δ > 0), critically damped (Δ = 0).
-        [[-3.4e3, -2.1e4], [4.5e3, -1.8e3]],
-        [[-9.0e3, 2.0e3], [3.0e3, -1.0e3]],
-        [[-2.0e3, 1.0e4], [0.0, -2.0e3]],
+    // With constant forcing a level's rate vanishes where the closed forms
+    // of the second-order linear ODE put it (e^{st}·cos ωt, e^{st}·cosh rt,
+    // e^{st}·t: the forms in this module's documentation, as in any
+    // linear-systems text). Independently of them, the rate is the level's
+    // weights on x' = A·x + b at the propagated state: over each interval
+    // where it changes sign, bisection on it must land on the closed-form
+    // turn, and where it keeps its sign there must be no turn.
+    let cases = [
+        // Under-damped (Δ < 0), over-damped (Δ > 0), critically damped
+        // (Δ = 0), and barely under-damped (Δ = −1e-4: ω·t near zero).
+        ([[-3.4e3, -2.1e4], [4.5e3, -1.8e3]], [1.0, 0.1], -5.0),
+        ([[-9.0e3, 2.0e3], [3.0e3, -1.0e3]], [1.0, 0.1], -5.0),
+        ([[-2.0e3, 1.0e4], [0.0, -2.0e3]], [1.0, 0.1], -5.0),
+        ([[-2.0e3, 1.0e4], [-1.0e-8, -2.0e3]], [-1.0, -0.1], 5.0),
     ];
-    let level = Affine { c: [1.0, 0.1], k0: -5.0, k1: 0.0 };
     // Starts on either side of the forced state; the second puts the
     // over-damped system's fast mode against its slow one, so it turns.
     let starts = [[-40.0, 9.0], [2067.0, -626.0], [-900.0, -400.0]];
     let h = 2e-5;
-    for a in systems {
+    for (a, c, k0) in cases {
         let s = Solution::new(System { a, b0: [5.1e5, -4.0e3], b1: [0.0; 2] }).unwrap();
+        let level = Affine { c, k0, k1: 0.0 };
         let mut turns = 0;
         for x0 in starts {
             let trajectory = s.start_at(x0, 1e-4);
             let path = trajectory.follow(&level);
-            let rising = |t: f64| path.value_and_rate(t).1 > 0.0;
+            let rising = |t: f64| level.rate(&trajectory.rate(&trajectory.at(t), t)) > 0.0;
             for k in 0..100 {
                 let (lo, hi) = (k as f64 * h, (k + 1) as f64 * h);
                 if rising(lo) == rising(hi) {
+                    assert_eq!(path.turn_within(lo, hi), None, "in {a:?} from {x0:?}");
                     continue;
                 }
                 let t = path.turn_within(lo, hi).expect("a turn inside");
@@ -253,5 +258,28 @@ fn closed_form_turns_are_where_the_rate_changes_sign() {
             }
         }
         assert!(turns >= 1, "no turn seen in {a:?}");
+    }
+}
+
+#[test]
+fn no_closed_form_turn_for_a_ramp_or_the_held_form() {
+    // A ramped forcing adds β·t to the level, and the held form has no
+    // coupled solution: both are left to the caller's search.
+    let ramped = Solution::new(System {
+        a: [[-3.4e3, -2.1e4], [4.5e3, -1.8e3]],
+        b0: [5.1e5, -4.0e3],
+        b1: [1.0e8, -3.0e5],
+    })
+    .unwrap();
+    let held = Solution::new(System {
+        a: [[0.0, 0.0], [4.5e3, -1.8e3]],
+        b0: [0.0, -9.0e3],
+        b1: [0.0, 0.0],
+    })
+    .unwrap();
+    let level = Affine { c: [1.0, 0.1], k0: -5.0, k1: 0.0 };
+    for s in [ramped, held] {
+        let trajectory = s.start_at([-40.0, 9.0], 1e-4);
+        assert_eq!(trajectory.follow(&level).turn_within(0.0, 1e-3), None);
     }
 }
