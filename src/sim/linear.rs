@@ -29,6 +29,8 @@
 //! middle and at the end of a step come from one evaluation at the middle
 //! and the doubling formulas `P(2h) = P² + Δ·Q²`, `Q(2h) = 2·P·Q`.
 
+use core::f64::consts::PI;
+
 #[cfg(test)]
 mod tests;
 
@@ -522,8 +524,8 @@ impl Followed<'_> {
             // NaN, no turn.)
             let w = c.root;
             let theta = (-ra * w / rb).atan();
-            let k = ((w * a - theta) / core::f64::consts::PI).ceil();
-            (theta + k * core::f64::consts::PI) / w
+            let k = ((w * a - theta) / PI).ceil();
+            (theta + k * PI) / w
         } else if c.delta > 0.0 {
             let x = -ra * c.root / rb;
             if x.is_nan() || x.abs() >= 1.0 {
@@ -534,6 +536,21 @@ impl Followed<'_> {
             -ra / rb
         };
         (t > a && t < b).then_some(t)
+    }
+
+    /// Whether the value turns at most once in any interval of length `h`
+    /// (its rate has at most one zero there). Without a ramp its rate is
+    /// `e^{st}` times `A·cos ωt + (B/ω)·sin ωt` (`Δ < 0`: zeros `π/ω`
+    /// apart, so at most one when `ω·h < π`), `A·cosh rt + (B/r)·sinh rt`
+    /// or `A + B·t` (`Δ ≥ 0`: at most one zero); in the held form a
+    /// constant plus one exponential, ramp or not. A ramp adds a constant
+    /// to the coupled form's rate, which may then meet the oscillation or
+    /// the two exponentials' sum twice: `false`.
+    pub fn turns_at_most_once(&self, h: f64) -> bool {
+        match &self.solution.form {
+            Form::Coupled(c) => self.terms[1] == 0.0 && (c.delta >= 0.0 || c.root * h < PI),
+            Form::Held { .. } => true,
+        }
     }
 
     fn combine(&self, f: &Flow, t: f64) -> f64 {

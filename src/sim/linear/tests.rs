@@ -282,4 +282,11 @@ fn no_closed_form_turn_for_a_ramp_or_the_held_form() {
         let trajectory = s.start_at([-40.0, 9.0], 1e-4);
         assert_eq!(trajectory.follow(&level).turn_within(0.0, 1e-3), None);
     }
+    // The held form's rate is a constant plus one exponential: one zero
+    // at most, however long; a ramped coupled one may have two, however
+    // short.
+    let turns_once =
+        |s: &Solution, h: f64| s.start_at([-40.0, 9.0], 1e-4).follow(&level).turns_at_most_once(h);
+    assert!(turns_once(&held, 1.0));
+    assert!(!turns_once(&ramped, 1e-9));
 }

@@ -80,10 +80,10 @@ impl Interval<'_> {
     }
 
     /// [`first`](Self::first), and whether the level runs on without a
-    /// turn from the crossing to the interval's end (it does not turn in
-    /// the interval, or its one turn comes before the crossing: on an
-    /// interval this short, a small part of the slowest oscillation's half
-    /// period, the level turns at most once).
+    /// turn from the crossing to the interval's end: it does not turn in
+    /// the interval, or its one turn comes before the crossing (both known
+    /// only where it turns at most once in the interval: see
+    /// [`Followed::turns_at_most_once`]).
     pub fn first_crossing(&self, level: &Affine, toward: Toward) -> Option<Crossing> {
         let value = |p: &Ahead| level.value(&p.x, self.tau + p.t);
         let (fa, fb) = (value(&self.from), value(&self.to));
@@ -104,12 +104,14 @@ impl Interval<'_> {
             if !reached(fa) && reached(fm) {
                 (Bracket { lo: a, f_lo: fa, hi: tm, f_hi: fm }, ra, 0.0, false)
             } else if !reached(fm) && reached(fb) {
-                (Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }, 0.0, rb, true)
+                let runs_on = path.turns_at_most_once(b - a);
+                (Bracket { lo: tm, f_lo: fm, hi: b, f_hi: fb }, 0.0, rb, runs_on)
             } else {
                 return None;
             }
         } else if !reached(fa) && reached(fb) {
-            (Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }, ra, rb, true)
+            let runs_on = path.turns_at_most_once(b - a);
+            (Bracket { lo: a, f_lo: fa, hi: b, f_hi: fb }, ra, rb, runs_on)
         } else {
             return None;
         };
@@ -198,4 +200,58 @@ pub(super) fn turn(
         t = if c != 0.0 && newton > lo && newton < hi { newton } else { 0.5 * (lo + hi) };
     }
     (t, value)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sim::linear::{Solution, System};
+
+    /// An under-damped stage with constant forcing (`s = −3 900/s`,
+    /// `ω ≈ 9 490 rad/s`), the level `i_L + 0.1·v_C`, from a start that
+    /// turns soon after.
+    fn setting() -> (Solution, Affine) {
+        let system =
+            System { a: [[-6.0e3, -2.1e4], [4.5e3, -1.8e3]], b0: [5.1e5, -4.0e3], b1: [0.0; 2] };
+        (Solution::new(system).unwrap(), Affine { c: [1.0, 0.1], k0: 0.0, k1: 0.0 })
+    }
+
+    fn crossing(tr: &Trajectory<'_>, a: f64, b: f64, level: &Affine, t: Toward) -> Crossing {
+        let ahead = |t: f64| Ahead { t, x: tr.at(t) };
+        let (from, to) = (ahead(a), ahead(b));
+        let moving = [tr.rate(&from.x, a), tr.rate(&to.x, b)];
+        let interval = Interval { trajectory: tr, tau: 0.0, from, to, moving };
+        assert!(interval.turns(level), "the level turns in [{a}, {b}]");
+        interval.first_crossing(level, t).expect("a crossing")
+    }
+
+    #[test]
+    fn a_level_runs_on_only_past_its_one_turn() {
+        // The rate of e^{st}·(A·cos ωt + C·sin ωt) vanishes every π/ω (any
+        // linear-systems text): an interval shorter than that holds one
+        // turn, and past a crossing after it the level moves away.
+        let (solution, path_level) = setting();
+        let tr = solution.start_at([-40.0, 9.0], 0.0);
+        let path = tr.follow(&path_level);
+        let turn = path.turn_within(0.0, 1e-3).expect("a turn");
+        let after =
+            if path.value_and_rate(turn + 1e-6).1 > 0.0 { Toward::Above } else { Toward::Below };
+        let before = if after == Toward::Above { Toward::Below } else { Toward::Above };
+        let (short, long) = (2e-5, 5e-5);
+        // Turn, then crossing: the level runs on to the interval's end.
+        let level = path_level.less(path.value(turn + 0.5 * long));
+        let c = crossing(&tr, turn - short, turn + long, &level, after);
+        assert!(c.t > turn && c.runs_on, "{c:?}");
+        // Crossing, then turn: it comes back.
+        let level = path_level.less(path.value(turn - 0.5 * long));
+        let c = crossing(&tr, turn - long, turn + short, &level, before);
+        assert!(c.t < turn && !c.runs_on, "{c:?}");
+        // Turn, then crossing, on an interval longer than π/ω: a second
+        // turn cannot be ruled out, and the level is not said to run on.
+        let omega = ((6.0e3f64 - 1.8e3).powi(2) / 4.0 - 2.1e4 * 4.5e3).abs().sqrt();
+        let h = 1.03 * core::f64::consts::PI / omega;
+        let level = path_level.less(path.value(turn + 0.5 * long));
+        let c = crossing(&tr, turn - short, turn - short + h, &level, after);
+        assert!(c.t > turn && !c.runs_on, "{c:?}");
+    }
 }

@@ -29,19 +29,21 @@ pub struct Event {
     /// Its kind.
     pub stop: Stop,
     /// For the watched crossing when it is the interval's only event and
-    /// the output does not turn in the interval: what is known past it.
+    /// the output does not turn between it and the interval's end: what is
+    /// known past it.
     /// Up to the interval's end (given here) the output stays past the
     /// level, so the same level watched the other way is not reached, and
     /// no other level is.
     pub clear_to: Option<Ahead>,
 }
 
-/// How far ahead of the plant one scan looks at most, as a fraction of the
-/// fastest response's time constant `1/ρ` (`ρ` the larger eigenvalue
-/// magnitude of the present mode; about 100 µs for the demo stage, see
-/// [`super::PANEL_OF_FASTEST`], so a scan looks about 6 µs ahead): an event found
-/// beyond the next one costs no second scan, and a step this short keeps
-/// to the flow's power series. The Hermite cubic that rules out a turn back
+/// How far ahead of the plant one scan looks at least (further only when
+/// the loop's next event is further), as a fraction of the fastest
+/// response's time constant `1/ρ` (`ρ` the larger eigenvalue magnitude of
+/// the present mode; about 100 µs for the demo stage, see
+/// [`super::PANEL_OF_FASTEST`], so a scan looks about 6 µs ahead): an event
+/// found beyond the next one costs no second scan, and a step this short
+/// keeps to the flow's power series. The Hermite cubic that rules out a turn back
 /// to a level errs by about `(ρ·h)⁴/384` of the level's scale, well inside
 /// the margin `super::interval` rules out a turn with.
 pub const LOOKAHEAD_OF_FASTEST: f64 = 1.0 / 16.0;
