@@ -43,6 +43,9 @@ impl<F: Firmware> Engine<F> {
     /// the record must not change in its last bits. Returns the tick the
     /// loop goes to.
     pub(super) fn look_ahead(&mut self, target: u64) -> u64 {
+        // A stop is set at a handler's start for its end, and taken or
+        // passed by the time the loop reaches it.
+        debug_assert!(self.scan_stop.is_none_or(|stop| stop > self.tick));
         let Some(stop) = self.scan_stop.filter(|&stop| stop <= target) else {
             return self.watch_until(target);
         };

@@ -159,9 +159,11 @@ struct Engine<F> {
     /// look-ahead stops although the loop does not (see
     /// [`look_ahead`](Self::look_ahead)).
     scan_stop: Option<u64>,
-    /// The gate, compare and comparator have followed the peripherals
-    /// since a handler last ran (false until the first: a firmware may
-    /// have armed them while it was built).
+    /// Set when a handler's outputs are first followed, and kept: from
+    /// then on the gate, compare and comparator are what the peripherals
+    /// last set, as each later write is followed. False before, for a
+    /// firmware that armed them while it was built; housekeeping at tick 0
+    /// runs first and sets it, so no fast handler sees it false today.
     outputs_followed: bool,
     /// Stops where nothing happens, every this many ticks (see
     /// [`RunControl::probe_every_ticks`]).

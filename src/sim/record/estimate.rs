@@ -67,7 +67,9 @@ impl EstimateLine {
 
     /// The estimate after the handlers of the event at `t_s`, once they
     /// ran (its knot was given with the value before them); `corrected`:
-    /// the value before them is replaced too (the line runs to it).
+    /// the value before them is replaced too (the line runs to it). The
+    /// last knot in the queue is never used up (the queue is emptied when
+    /// it is), so it is the one to change.
     pub fn set_after(&mut self, t_s: f64, after_a: f64, corrected: bool) {
         match self.pending.last_mut() {
             Some(k) if k.t_s == t_s => {
@@ -145,5 +147,28 @@ mod tests {
                 Piece { t0: 2.0, t1: 3.0, e0: 0.5, e1: 0.5 },
             ]
         );
+    }
+
+    #[test]
+    fn a_line_read_behind_its_knots_stays_straight_between_them() {
+        // Knots at t = k, A: before k, after k + ½. Read one knot behind
+        // the last given, the queue never empties and its used-up front is
+        // dropped as it grows; each piece must still be the straight line
+        // from knot k − 2's value after it to knot k − 1's value before it
+        // (slope ½ A/s).
+        let mut line = EstimateLine::default();
+        let knot = |k: f64| Knot { t_s: k, before_a: k, after_a: k + 0.5 };
+        line.knot(knot(0.0));
+        line.knot(knot(1.0));
+        for k in 2..(4 * USED_KEPT) {
+            let k = k as f64;
+            line.knot(knot(k));
+            let on_line = |t: f64| (k - 1.5) + 0.5 * (t - (k - 2.0));
+            let piece = line.piece_from(k - 1.5, k - 1.25);
+            let want =
+                Piece { t0: k - 1.5, t1: k - 1.25, e0: on_line(k - 1.5), e1: on_line(k - 1.25) };
+            assert_eq!(piece, want, "at knot {k}");
+        }
+        assert!(line.pending.len() <= USED_KEPT + 2, "{} kept", line.pending.len());
     }
 }

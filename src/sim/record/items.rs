@@ -110,7 +110,8 @@ impl Slice {
         raise(&mut self.il_max_a, hi);
     }
 
-    /// The estimate's range `(lo, hi)`, NaN for none.
+    /// The estimate's range `(lo, hi)`, `lo ≤ hi`; none taken when not
+    /// finite.
     pub(super) fn take_estimate_range(&mut self, (lo, hi): (f64, f64)) {
         if lo.is_finite() {
             lower_or_set(&mut self.il_est_min_a, lo);
