@@ -167,24 +167,29 @@ fn a_step_split_in_two_lands_where_the_whole_step_does() {
     }
 }
 
+/// A coupled system under a ramped forcing.
+fn ramped_coupled() -> Solution {
+    Solution::new(System {
+        a: [[-3.4e3, -2.1e4], [4.5e3, -1.8e3]],
+        b0: [5.1e5, -4.0e3],
+        b1: [1.0e8, -3.0e5],
+    })
+    .unwrap()
+}
+
+/// A held system (the first component constant) under a ramped forcing.
+fn ramped_held() -> Solution {
+    Solution::new(System { a: [[0.0, 0.0], [4.5e3, -1.8e3]], b0: [0.0, -9.0e3], b1: [0.0, 2e6] })
+        .unwrap()
+}
+
 #[test]
 fn a_followed_level_matches_the_state_and_its_rate_a_central_difference() {
     // The level c·x + k₀ + k₁·τ along a trajectory, from the scalar form,
     // against the same function of the state there; its rate against the
     // central difference (f(t + h) − f(t − h))/2h, whose error is
     // h²·f‴/6 (any numerical-analysis text).
-    let coupled = Solution::new(System {
-        a: [[-3.4e3, -2.1e4], [4.5e3, -1.8e3]],
-        b0: [5.1e5, -4.0e3],
-        b1: [1.0e8, -3.0e5],
-    })
-    .unwrap();
-    let held = Solution::new(System {
-        a: [[0.0, 0.0], [4.5e3, -1.8e3]],
-        b0: [0.0, -9.0e3],
-        b1: [0.0, 2e6],
-    })
-    .unwrap();
+    let (coupled, held) = (ramped_coupled(), ramped_held());
     let level = Affine { c: [0.04, 0.98], k0: -5.0, k1: -2.0e2 };
     for s in [coupled, held] {
         let (x0, tau0) = ([1.2, 5.01], 2e-4);
@@ -265,18 +270,7 @@ fn closed_form_turns_are_where_the_rate_changes_sign() {
 fn no_closed_form_turn_for_a_ramp_or_the_held_form() {
     // A ramped forcing adds β·t to the level, and the held form has no
     // coupled solution: both are left to the caller's search.
-    let ramped = Solution::new(System {
-        a: [[-3.4e3, -2.1e4], [4.5e3, -1.8e3]],
-        b0: [5.1e5, -4.0e3],
-        b1: [1.0e8, -3.0e5],
-    })
-    .unwrap();
-    let held = Solution::new(System {
-        a: [[0.0, 0.0], [4.5e3, -1.8e3]],
-        b0: [0.0, -9.0e3],
-        b1: [0.0, 0.0],
-    })
-    .unwrap();
+    let (ramped, held) = (ramped_coupled(), ramped_held());
     let level = Affine { c: [1.0, 0.1], k0: -5.0, k1: 0.0 };
     for s in [ramped, held] {
         let trajectory = s.start_at([-40.0, 9.0], 1e-4);
