@@ -250,15 +250,15 @@ impl Recorder {
         [(v0, v1), (i0, i1)]: [(f64, f64); 2],
         [v_turn, i_turn]: [Option<(f64, f64)>; 2],
     ) {
-        self.slices[slices.0].take_output_range((v0, v0));
-        self.slices[slices.0].take_current_range((i0, i0));
-        self.slices[slices.1].take_output_range((v1, v1));
-        self.slices[slices.1].take_current_range((i1, i1));
+        self.slices[slices.0].take_output(v0);
+        self.slices[slices.0].take_current(i0);
+        self.slices[slices.1].take_output(v1);
+        self.slices[slices.1].take_current(i1);
         if let Some((s, v)) = v_turn {
-            self.slice_at(t0_s + s).take_output_range((v, v));
+            self.slice_at(t0_s + s).take_output(v);
         }
         if let Some((s, i)) = i_turn {
-            self.slice_at(t0_s + s).take_current_range((i, i));
+            self.slice_at(t0_s + s).take_current(i);
         }
     }
 
