@@ -18,6 +18,7 @@ pub struct Quadratic {
 
 impl Quadratic {
     /// The quadratic through `[f(0), f(h/2), f(h)]`.
+    #[inline]
     pub fn through(h: f64, [f0, fm, f1]: [f64; 3]) -> Self {
         if h <= 0.0 {
             return Self { c: [f1, 0.0, 0.0], h: 0.0 };
@@ -40,16 +41,19 @@ impl Quadratic {
     }
 
     /// `∫ₐᵇ`.
+    #[inline]
     pub fn integral(&self, a: f64, b: f64) -> f64 {
         self.antiderivative(b) - self.antiderivative(a)
     }
 
     /// `∫₀ʰ`: Simpson's rule on the three values (exact for a quadratic).
+    #[inline]
     pub fn total(&self) -> f64 {
         self.antiderivative(self.h)
     }
 
     /// The turning point strictly inside the panel, if any: `(s, value)`.
+    #[inline]
     pub fn turn(&self) -> Option<(f64, f64)> {
         if self.c[2] == 0.0 {
             return None;
@@ -66,6 +70,7 @@ impl Quadratic {
     /// Where the extremes over the panel lie besides the start (the end's
     /// value and the turning point), and the range they make: found once
     /// for both.
+    #[inline]
     pub fn extremes(&self) -> Extremes {
         let (a, b) = (self.c[0], self.at(self.h));
         let (lo, hi) = if a < b { (a, b) } else { (b, a) };
@@ -109,6 +114,7 @@ pub struct Extremes {
 /// `∫ₐᵇ (e(s) − q(s))² ds` for `e` linear from `ea` at `a` to `eb` at `b`
 /// and `q` a quadratic: three-point Gauss–Legendre quadrature, exact for
 /// the quartic integrand (Abramowitz & Stegun, table 25.4).
+#[inline]
 pub fn squared_difference(q: &Quadratic, a: f64, b: f64, ea: f64, eb: f64) -> f64 {
     const NODE: f64 = 0.774_596_669_241_483_4; // √(3/5)
     let (mid, half) = (0.5 * (a + b), 0.5 * (b - a));

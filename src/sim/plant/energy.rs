@@ -112,6 +112,7 @@ impl EnergyLedger {
     }
 
     /// Draw `joules` from the source, lost in `term`.
+    #[inline]
     pub(super) fn draw(&mut self, term: Loss, joules: f64) {
         self.loss_j[term as usize] += joules;
         self.input_j += joules;
@@ -119,6 +120,7 @@ impl EnergyLedger {
 
     /// Add a segment's energies: its [`Integrals`] weighted by the
     /// parameters of the mode that conducted.
+    #[inline]
     pub(super) fn add(&mut self, model: &PowerModel<'_>, s: &Integrals) {
         let p = model.params;
         let diode = p.diode_vf_v * s.abs_i + p.diode_rd_ohm * s.i2;
@@ -163,6 +165,7 @@ pub struct Integrals {
 impl Integrals {
     /// `∫` over a segment of `dt` by Simpson's rule, from the values at its
     /// start, middle and end.
+    #[inline]
     pub fn simpson(dt: f64, a: &Self, m: &Self, b: &Self) -> Self {
         let w = dt * (1.0 / 6.0);
         let rule = |fa: f64, fm: f64, fb: f64| w * (fa + 4.0 * fm + fb);
@@ -183,6 +186,7 @@ impl Integrals {
     /// plain rule for cubics), so its error falls as `dt⁷`, not `dt⁵`
     /// (the Euler–Maclaurin correction of the composite rule; e.g. Davis &
     /// Rabinowitz, Methods of Numerical Integration, §2.9).
+    #[inline]
     pub fn corrected_simpson(dt: f64, [a, m, b]: [&Self; 3], rate_a: &Self, rate_b: &Self) -> Self {
         let (w, c) = (dt * (1.0 / 30.0), dt * dt * (1.0 / 60.0));
         let rule = |f: fn(&Self) -> f64| {
@@ -216,6 +220,7 @@ impl PowerModel<'_> {
     /// its rate, `(v_o, dv_o)`; `|i|` taken with the sign `sign` (the
     /// current's over the segment: at a DCM zero the segment ends just past
     /// zero, where the current's own sign would turn the rate round).
+    #[inline]
     pub fn rate(
         &self,
         x: &Vec2,
@@ -240,12 +245,14 @@ impl PowerModel<'_> {
 
     /// The integrands at inductor current `i`, capacitor voltage `v_c`,
     /// time `tau`.
+    #[inline]
     pub fn at(&self, i: f64, v_c: f64, tau: f64) -> Integrals {
         self.at_output(i, self.output.value(&[i, v_c], tau), tau)
     }
 
     /// [`at`](Self::at) where the output voltage `v_o` is known already
     /// (a panel's, computed once for the record and the energies).
+    #[inline]
     pub fn at_output(&self, i: f64, v_o: f64, tau: f64) -> Integrals {
         let i_load = self.env.load_g_s * v_o + self.env.load_i_at(tau);
         let i_c = i - i_load;

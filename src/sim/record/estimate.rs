@@ -54,6 +54,7 @@ impl EstimateLine {
     /// firmware's state behind it has moved on since (the plant, found
     /// late to have stopped there, lags the handlers), and the line between
     /// the knots around it already holds its value.
+    #[inline]
     pub fn knot(&mut self, k: Knot) {
         let last = self.pending.last().map_or(self.from.0, |p| p.t_s);
         if k.t_s >= last {

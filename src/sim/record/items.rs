@@ -30,16 +30,19 @@ pub struct Cycle {
 }
 
 impl Cycle {
+    #[inline]
     pub(super) fn take_output(&mut self, v: f64) {
         raise(&mut self.vo_max_v, v);
         lower(&mut self.vo_min_v, v);
     }
 
+    #[inline]
     pub(super) fn take_current(&mut self, i: f64) {
         raise(&mut self.il_max_a, i);
         lower(&mut self.il_min_a, i);
     }
 
+    #[inline]
     pub(super) fn take_estimate(&mut self, e: f64) {
         if e.is_finite() {
             raise_or_set(&mut self.il_est_max_a, e);
@@ -47,12 +50,14 @@ impl Cycle {
     }
 
     /// The output's range `(lo, hi)` (as both taken, `lo ≤ hi`).
+    #[inline]
     pub(super) fn take_output_range(&mut self, (lo, hi): (f64, f64)) {
         raise(&mut self.vo_max_v, hi);
         lower(&mut self.vo_min_v, lo);
     }
 
     /// The current's range `(lo, hi)`.
+    #[inline]
     pub(super) fn take_current_range(&mut self, (lo, hi): (f64, f64)) {
         raise(&mut self.il_max_a, hi);
         lower(&mut self.il_min_a, lo);
@@ -81,16 +86,19 @@ pub struct Slice {
 }
 
 impl Slice {
+    #[inline]
     pub(super) fn take_output(&mut self, v: f64) {
         lower(&mut self.vo_min_v, v);
         raise(&mut self.vo_max_v, v);
     }
 
+    #[inline]
     pub(super) fn take_current(&mut self, i: f64) {
         lower(&mut self.il_min_a, i);
         raise(&mut self.il_max_a, i);
     }
 
+    #[inline]
     pub(super) fn take_estimate(&mut self, e: f64) {
         if e.is_finite() {
             lower_or_set(&mut self.il_est_min_a, e);
@@ -99,12 +107,14 @@ impl Slice {
     }
 
     /// The output's range `(lo, hi)` (as both taken, `lo ≤ hi`).
+    #[inline]
     pub(super) fn take_output_range(&mut self, (lo, hi): (f64, f64)) {
         lower(&mut self.vo_min_v, lo);
         raise(&mut self.vo_max_v, hi);
     }
 
     /// The current's range `(lo, hi)`.
+    #[inline]
     pub(super) fn take_current_range(&mut self, (lo, hi): (f64, f64)) {
         lower(&mut self.il_min_a, lo);
         raise(&mut self.il_max_a, hi);
@@ -112,6 +122,7 @@ impl Slice {
 
     /// The estimate's range `(lo, hi)`, `lo ≤ hi`; none taken when not
     /// finite.
+    #[inline]
     pub(super) fn take_estimate_range(&mut self, (lo, hi): (f64, f64)) {
         if lo.is_finite() {
             lower_or_set(&mut self.il_est_min_a, lo);

@@ -62,6 +62,10 @@ pub struct Recorder {
     pub transients: TransientTracker,
     /// The firmware's estimate, knots not yet recorded.
     estimate: EstimateLine,
+    /// Where the last panel ended and the envelope slice holding that
+    /// instant (NaN: none yet): the next panel, which starts there as a
+    /// rule, takes its first slice from here.
+    panel_end: (f64, usize),
 }
 
 impl Recorder {
@@ -106,6 +110,7 @@ impl Recorder {
             il_peak_a: 0.0,
             transients: TransientTracker::default(),
             estimate: EstimateLine::default(),
+            panel_end: (f64::NAN, 0),
         }
     }
 
@@ -171,6 +176,7 @@ impl Recorder {
     /// The firmware's estimate at an event, just before and just after its
     /// handlers (and at any time the plant is moved to, where both are the
     /// same): the record takes it as straight in between.
+    #[inline]
     pub fn estimate_knot(&mut self, t_s: f64, before_a: f64, after_a: f64) {
         self.estimate.knot(Knot { t_s, before_a, after_a });
     }
@@ -212,7 +218,12 @@ impl Recorder {
             c.take_output_range(v_range);
             c.take_current_range(i_ext.range);
         }
-        let slices = (self.slice_index(t0_s), self.slice_index(t1_s));
+        let first = match self.panel_end {
+            (t, k) if t == t0_s => k,
+            _ => self.slice_index(t0_s),
+        };
+        let slices = (first, self.slice_index(t1_s));
+        self.panel_end = (t1_s, slices.1);
         if slices.0 == slices.1 {
             let s = &mut self.slices[slices.0];
             s.take_output_range(v_range);
@@ -235,7 +246,7 @@ impl Recorder {
         }
         self.take_estimate(t0_s, t1_s, slices, &il, window);
         if gate_on {
-            self.add_duty(t0_s, t1_s);
+            self.add_duty(t0_s, t1_s, slices.0);
         }
     }
 
@@ -285,7 +296,7 @@ impl Recorder {
         loop {
             let piece = self.estimate.piece_from(t, t1_s);
             // A panel inside one slice has each of its pieces there.
-            let k1 = if slices.0 == slices.1 { k0 } else { self.slice_index(piece.t1) };
+            let k1 = if slices.0 == slices.1 { k0 } else { self.slice_within(piece.t1, slices) };
             if piece.e0 != taken {
                 extremes.take(k0, piece.e0, &mut self.slices);
             }
@@ -324,17 +335,39 @@ impl Recorder {
         ((t_s * self.slices_per_s) as i64).clamp(0, last as i64) as usize
     }
 
-    /// The gate on over `[t0_s, t1_s]`: each slice's share of it.
-    fn add_duty(&mut self, t0_s: f64, t1_s: f64) {
+    /// The index of the envelope slice holding `t_s`, a time inside a
+    /// panel whose start and end lie in the slices `slices` ([`slice_index`](
+    /// Self::slice_index) the same): in the common case of a panel over
+    /// two slices, one comparison with the second's start, `⌊x⌋ ≥ m` being
+    /// `x ≥ m` for a whole `m`.
+    fn slice_within(&self, t_s: f64, slices: (usize, usize)) -> usize {
+        if slices.1 == slices.0 + 1 {
+            if t_s * self.slices_per_s >= slices.1 as i64 as f64 {
+                slices.1
+            } else {
+                slices.0
+            }
+        } else {
+            self.slice_index(t_s)
+        }
+    }
+
+    /// The gate on over `[t0_s, t1_s]`, which starts in the slice `first`:
+    /// each slice's share of it.
+    fn add_duty(&mut self, t0_s: f64, t1_s: f64, first: usize) {
         let mut t = t0_s;
+        let mut k = first;
         while t < t1_s {
             let slice_s = self.slice_s;
-            let s = self.slice_at(t);
+            let s = &mut self.slices[k];
             let end = (s.t_s + slice_s).min(t1_s);
             // The last slice holds whatever lies beyond the run.
             let end = if end <= t { t1_s } else { end };
             s.duty += (end - t) / slice_s;
             t = end;
+            if t < t1_s {
+                k = self.slice_index(t);
+            }
         }
     }
 
