@@ -190,6 +190,7 @@ impl TransientTracker {
     /// magnitude `il_peak_a`: the output's extremes, and where it last came
     /// back into the band (the exact crossing) when it left it within the
     /// panel.
+    #[inline]
     pub fn panel(&mut self, t0_s: f64, vo: &Quadratic, (lo, hi): (f64, f64), il_peak_a: f64) {
         let mid = t0_s + 0.5 * vo.h;
         while self.watches.get(self.cursor).is_some_and(|w| mid >= w.end_s) {

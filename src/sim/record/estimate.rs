@@ -87,23 +87,28 @@ impl EstimateLine {
     /// The straight piece of the line from `t` towards `t1`: up to the
     /// next knot, or to `t1` without one before it; the knots it reaches
     /// are used up.
+    #[inline]
     pub fn piece_from(&mut self, t: f64, t1: f64) -> Piece {
-        while let Some(k) = self.front().filter(|k| k.t_s <= t).copied() {
+        // The first knot pending, read once for each knot passed: the
+        // piece's start, end and values all need it.
+        let mut next = self.front();
+        while let Some(k) = next.filter(|k| k.t_s <= t) {
             self.use_up(&k);
+            next = self.front();
         }
-        let e0 = self.value_at(t);
-        match self.front().filter(|k| k.t_s <= t1).copied() {
+        let e0 = self.value_at(t, next);
+        match next.filter(|k| k.t_s <= t1) {
             Some(k) => {
                 self.use_up(&k);
                 Piece { t0: t, t1: k.t_s, e0, e1: k.before_a }
             }
-            None => Piece { t0: t, t1, e0, e1: self.value_at(t1) },
+            None => Piece { t0: t, t1, e0, e1: self.value_at(t1, next) },
         }
     }
 
     /// The first knot not yet reached.
-    fn front(&self) -> Option<&Knot> {
-        self.pending.get(self.next)
+    fn front(&self) -> Option<Knot> {
+        self.pending.get(self.next).copied()
     }
 
     /// The line reaches `k`, the first knot pending: the next piece starts
@@ -117,12 +122,12 @@ impl EstimateLine {
         }
     }
 
-    /// The value at `t` on the present piece: the line from its start to
-    /// the next knot's value before that knot's handlers (held without a
-    /// next knot).
-    fn value_at(&self, t: f64) -> f64 {
+    /// The value at `t` on the present piece, `next` the first knot
+    /// pending: the line from the piece's start to that knot's value
+    /// before its handlers (held without a next knot).
+    fn value_at(&self, t: f64, next: Option<Knot>) -> f64 {
         let (ta, ea) = self.from;
-        match self.front() {
+        match next {
             Some(k) if k.t_s > ta => ea + (k.before_a - ea) * ((t - ta) / (k.t_s - ta)),
             _ => ea,
         }
