@@ -119,7 +119,9 @@ impl CellGrid {
     /// inside it, divided by the width (over a whole cell, the value at the
     /// centre plus `c₂·Δt²/12`).
     pub fn add_quadratic(&mut self, t0_s: f64, q: &Quadratic) {
-        let end = self.from_s + self.span_s();
+        // The grid's end, `from + n·Δt` as `span_s` has it, through i64
+        // (one instruction where a `usize` takes several).
+        let end = self.edge(self.n);
         let (lo, hi) = (later(t0_s, self.from_s), earlier(t0_s + q.h, end));
         if hi <= lo {
             return;

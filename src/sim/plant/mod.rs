@@ -294,7 +294,11 @@ impl Plant {
             return;
         }
         let longest = PANEL_OF_FASTEST / self.solutions.at(self.solution).fastest_rate();
-        let n = (dt / longest).ceil().clamp(1.0, f64::from(u32::MAX));
+        // One panel as a rule (the moves between events are short): no
+        // `ceil`, a library call, for it (`dt ≤ longest` gives a quotient of
+        // at most one, rounded or not).
+        let n =
+            if dt <= longest { 1.0 } else { (dt / longest).ceil().clamp(1.0, f64::from(u32::MAX)) };
         let h = dt / n;
         let mut done = 0.0;
         for k in 1..=n as u32 {
@@ -314,7 +318,10 @@ impl Plant {
                 self.output.value(&end, tau0 + step),
             ];
             let vo_rates = [self.output.rate(&rates[0]), self.output.rate(&rates[1])];
-            let vo_turn = self.output_turn(&trajectory, step, [vo[0], vo[2]], vo_rates);
+            // The rates' signs first, here: most panels have no turn, and
+            // need no call to find that.
+            let vo_turn = (vo_rates[0] * vo_rates[1] < 0.0)
+                .then(|| self.output_turn(&trajectory, step, [vo[0], vo[2]], vo_rates));
             let panel = Panel { tau0, h: step, states: [x0, mid, end], vo, vo_turn };
             self.accumulate_panel(&panel, &rates, vo_rates);
             record(&panel);
@@ -325,18 +332,17 @@ impl Plant {
     }
 
     /// Where the output turns on `trajectory` over `h` (its values `ends`
-    /// and its rates `[r0, r1]` at its start and end), when the rates have
-    /// opposite signs: time after the start, s, and value, V.
+    /// and its rates `[r0, r1]` at its start and end, of opposite signs):
+    /// time after the start, s, and value, V.
+    #[inline(never)]
     fn output_turn(
         &self,
         trajectory: &Trajectory<'_>,
         h: f64,
         ends: [f64; 2],
         [r0, r1]: [f64; 2],
-    ) -> Option<(f64, f64)> {
-        (r0 * r1 < 0.0).then(|| {
-            interval::turn(&trajectory.follow(&self.output), (0.0, ends[0], r0), (h, ends[1], r1))
-        })
+    ) -> (f64, f64) {
+        interval::turn(&trajectory.follow(&self.output), (0.0, ends[0], r0), (h, ends[1], r1))
     }
 
     /// Act on an event [`scan`](Self::scan) found, once the plant has been
