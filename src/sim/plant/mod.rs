@@ -334,7 +334,6 @@ impl Plant {
     /// Where the output turns on `trajectory` over `h` (its values `ends`
     /// and its rates `[r0, r1]` at its start and end, of opposite signs):
     /// time after the start, s, and value, V.
-    #[inline(never)]
     fn output_turn(
         &self,
         trajectory: &Trajectory<'_>,

@@ -336,10 +336,10 @@ impl Recorder {
     }
 
     /// The index of the envelope slice holding `t_s`, a time inside a
-    /// panel whose start and end lie in the slices `slices` ([`slice_index`](
-    /// Self::slice_index) the same): in the common case of a panel over
-    /// two slices, one comparison with the second's start, `⌊x⌋ ≥ m` being
-    /// `x ≥ m` for a whole `m`.
+    /// panel whose start and end lie in the slices `slices` (the same as
+    /// [`slice_index`](Self::slice_index)): for a panel over two slices,
+    /// the common case, one comparison with the second's start, `⌊x⌋ ≥ m`
+    /// being `x ≥ m` for a whole `m`.
     fn slice_within(&self, t_s: f64, slices: (usize, usize)) -> usize {
         if slices.1 == slices.0 + 1 {
             if t_s * self.slices_per_s >= slices.1 as i64 as f64 {
