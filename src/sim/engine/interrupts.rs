@@ -34,6 +34,13 @@ impl<F: Firmware> Engine<F> {
             || due(self.schedule.compare_irq)
     }
 
+    /// Whether the comparator's interrupt can be taken at the tick: due,
+    /// the core free.
+    #[inline]
+    pub(super) fn edge_interrupt_due(&self) -> bool {
+        self.cpu.free_at(self.tick) && self.schedule.edge.is_some_and(|e| e.at <= self.tick)
+    }
+
     /// [`interrupts`](Self::interrupts), one or more being due.
     #[inline(never)]
     fn take_interrupts(&mut self) {

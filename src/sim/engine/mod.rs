@@ -200,14 +200,22 @@ pub fn run_firmware_with<F: Firmware>(
         if events.is_multiple_of(CHECK_EVERY) && control.check(engine.tick as f64 * engine.tick_s) {
             return Err(RunError::Cancelled);
         }
-        let target = engine.next_event();
+        let others = engine.next_but_sample();
+        let target = others.min(engine.schedule.next_sample);
         engine.tick = if engine.comparator.exists() {
             // A comparator may fire inside the interval: look ahead first.
             engine.look_ahead(target)
         } else {
             target
         };
-        engine.dispatch();
+        // Before `others` nothing is due but an ADC sample (the tick lies
+        // past the last pass's, which took the samples due, and before the
+        // next probe stop), or a comparator interrupt the look-ahead found
+        // on the way: without one the core may take, the tick's only event
+        // is the sample, or none (the look-ahead stopped short at a
+        // crossing's interrupt that waits for the core).
+        let sample_alone = engine.tick < others && !engine.edge_interrupt_due();
+        engine.dispatch(sample_alone);
     }
     engine.catch_up();
     let out = engine.finish(stored_start, scenario);
@@ -337,7 +345,14 @@ impl<F: Firmware> Engine<F> {
 
     /// The next tick something happens.
     fn next_event(&self) -> u64 {
-        let mut next = self.schedule.next_event(self.cpu.busy_until());
+        self.next_but_sample().min(self.schedule.next_sample)
+    }
+
+    /// The next tick something other than an ADC sampling instant happens
+    /// (see [`Schedule::next_but_sample`]).
+    #[inline]
+    fn next_but_sample(&self) -> u64 {
+        let mut next = self.schedule.next_but_sample(self.cpu.busy_until());
         if let Some(t) = self.effects_at {
             next = next.min(t);
         }
@@ -364,11 +379,17 @@ impl<F: Firmware> Engine<F> {
         ticks as i64 as f64 * self.tick_s
     }
 
-    /// Handle every event due at the current tick.
-    fn dispatch(&mut self) {
+    /// Handle every event due at the current tick; `sample_alone`: none
+    /// is, but for an ADC sample (the other checks skipped).
+    #[inline]
+    fn dispatch(&mut self, sample_alone: bool) {
         self.knot_at_tick = false;
         let unseen = self.edge_unseen;
-        self.dispatch_events();
+        if !sample_alone {
+            self.dispatch_events();
+        }
+        // The last of the tick's events.
+        self.sample();
         if self.knot_at_tick {
             self.knot_after(unseen && !self.edge_unseen);
         }
@@ -387,6 +408,5 @@ impl<F: Firmware> Engine<F> {
         self.handler_outputs();
         self.interrupts();
         self.housekeeping();
-        self.sample();
     }
 }

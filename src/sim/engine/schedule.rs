@@ -89,13 +89,14 @@ impl Schedule {
         schedule
     }
 
-    /// The next tick something happens; interrupts wait for the core while
-    /// it is busy until `busy_until`.
+    /// The next tick something other than an ADC sampling instant happens
+    /// (the run's end included); interrupts wait for the core while it is
+    /// busy until `busy_until`.
     #[inline]
-    pub fn next_event(&self, busy_until: u64) -> u64 {
+    pub fn next_but_sample(&self, busy_until: u64) -> u64 {
         let entry = |t: u64| t.max(busy_until);
         // The housekeeping tick, too, waits for a handler in progress.
-        let mut next = self.end.min(self.next_sample).min(entry(self.next_housekeeping));
+        let mut next = self.end.min(entry(self.next_housekeeping));
         if let Some(c) = &self.conversion {
             next = next.min(entry(c.irq_at));
         }
