@@ -77,27 +77,31 @@ impl<F: Firmware> Engine<F> {
     /// then.
     ///
     /// When they change nothing (most conversions rewrite the DAC's code),
-    /// the loop need not stop at the end: the gate, the armed compare and
-    /// the DAC are those [`after_handler`](Self::after_handler) last
-    /// followed (only handlers write them and each write is followed; the
-    /// compare's own pulse end, which could undo a rewrite of the gate,
-    /// does not fall before the end), so there the pin would be unchanged,
-    /// the comparator synced, and the compare armed for the same tick.
-    /// Interrupts waiting for the core wake the loop at the end anyway
-    /// ([`next_event`](super::schedule::Schedule::next_event)); the
-    /// look-ahead still stops there ([`look_ahead`](Self::look_ahead)).
+    /// the loop need not stop at the end, nor follow them there: the gate,
+    /// the armed compare and the DAC are those
+    /// [`after_handler`](Self::after_handler) last followed (only handlers
+    /// write them and each write is followed; the compare's own pulse end,
+    /// which could undo a rewrite of the gate, does not fall before the
+    /// end), so there the pin would be unchanged, the comparator synced,
+    /// and the compare armed for the same tick (the same instant, counted
+    /// from a later tick). Interrupts waiting for the core wake the loop at
+    /// the end anyway
+    /// ([`next_but_sample`](super::schedule::Schedule::next_but_sample));
+    /// the look-ahead still stops there ([`look_ahead`](Self::look_ahead)).
+    /// A handler that takes no time, its end the tick, is done with the
+    /// same way.
     fn handler_ran(&mut self, end: u64) {
-        if end <= self.tick {
-            self.peripherals.commit();
-            self.after_handler();
-        } else if self.outputs_followed
+        if self.outputs_followed
             && self.peripherals.staged_no_change()
             && self.schedule.compare.is_none_or(|t| t > end)
         {
             self.peripherals.commit();
-            if self.comparator.exists() {
+            if end > self.tick && self.comparator.exists() {
                 self.scan_stop = Some(end);
             }
+        } else if end <= self.tick {
+            self.peripherals.commit();
+            self.after_handler();
         } else {
             self.effects_at = Some(end);
         }
