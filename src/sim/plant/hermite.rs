@@ -10,41 +10,48 @@
 
 /// `p(s) = fa·(2s³ − 3s² + 1) + ra·(s³ − 2s² + s) + fb·(3s² − 2s³) +
 /// rb·(s³ − s²)` for `s ∈ [0, 1]` across an interval of length `h`: `ra`,
-/// `rb` are the rates times `h`.
+/// `rb` are the rates times `h`. Held by its powers,
+/// `p(s) = c₀ + c₁·s + c₂·s² + c₃·s³` (`c₀ = fa`, `c₁ = ra`,
+/// `c₂ = 3·(fb − fa) − 2·ra − rb`, `c₃ = 2·(fa − fb) + ra + rb`), so a
+/// value costs three multiply-adds: the refinement of a crossing starts
+/// from its zero, found by a few Newton steps.
 #[derive(Clone, Copy, Debug)]
 pub(super) struct Hermite {
-    pub fa: f64,
-    pub ra: f64,
-    pub fb: f64,
-    pub rb: f64,
+    /// `[c₀, c₁, c₂, c₃]`.
+    c: [f64; 4],
 }
 
 impl Hermite {
     /// Through `fa` with rate `ra` (per second) at the start and `fb`,
     /// `rb` at the end of an interval of `h` seconds.
     pub fn new(fa: f64, ra: f64, fb: f64, rb: f64, h: f64) -> Self {
-        Self { fa, ra: h * ra, fb, rb: h * rb }
+        let (ra, rb) = (h * ra, h * rb);
+        let rise = fb - fa;
+        Self { c: [fa, ra, 3.0 * rise - 2.0 * ra - rb, ra + rb - 2.0 * rise] }
+    }
+
+    /// `p(0)`, `p(1)`: the values at the ends.
+    fn ends(&self) -> (f64, f64) {
+        let [c0, c1, c2, c3] = self.c;
+        (c0, c0 + c1 + c2 + c3)
     }
 
     /// `p(s)`.
     pub fn value(&self, s: f64) -> f64 {
-        let Self { fa, ra, fb, rb } = *self;
-        let (s2, s3) = (s * s, s * s * s);
-        fa * (2.0 * s3 - 3.0 * s2 + 1.0)
-            + ra * (s3 - 2.0 * s2 + s)
-            + fb * (3.0 * s2 - 2.0 * s3)
-            + rb * (s3 - s2)
+        let [c0, c1, c2, c3] = self.c;
+        ((c3 * s + c2) * s + c1) * s + c0
     }
 
-    /// `p'(s) = A·s² + B·s + C`: `[A, B, C]`.
-    fn slope_coefficients(&self) -> [f64; 3] {
-        let Self { fa, ra, fb, rb } = *self;
-        [6.0 * (fa - fb) + 3.0 * (ra + rb), 6.0 * (fb - fa) - 4.0 * ra - 2.0 * rb, ra]
+    /// `p'(s)`.
+    fn slope(&self, s: f64) -> f64 {
+        let [_, c1, c2, c3] = self.c;
+        (3.0 * c3 * s + 2.0 * c2) * s + c1
     }
 
     /// Where `p'` is zero (NaN for a root that is not there).
     pub fn turns(&self) -> [f64; 2] {
-        let [qa, qb, qc] = self.slope_coefficients();
+        let [_, qc, c2, c3] = self.c;
+        let (qa, qb) = (3.0 * c3, 2.0 * c2);
         if qa == 0.0 {
             [-qc / qb, f64::NAN]
         } else {
@@ -58,11 +65,10 @@ impl Hermite {
     /// cubic is close to a straight line on these intervals), or `None`
     /// when a step leaves the interval.
     pub fn zero(&self) -> Option<f64> {
-        let [qa, qb, qc] = self.slope_coefficients();
-        let mut s = self.fa / (self.fa - self.fb);
+        let (fa, fb) = self.ends();
+        let mut s = fa / (fa - fb);
         for _ in 0..3 {
-            let slope = (qa * s + qb) * s + qc;
-            s -= self.value(s) / slope;
+            s -= self.value(s) / self.slope(s);
         }
         (s > 0.0 && s < 1.0).then_some(s)
     }

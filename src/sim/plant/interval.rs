@@ -33,11 +33,15 @@ pub(super) enum Toward {
 }
 
 impl Toward {
+    /// Whether `v` is on this side of zero: `±v ≥ 0` (the sign flip is
+    /// exact), without a branch on the side in the refinement's loop.
+    #[inline]
     pub(super) fn reached(self, v: f64) -> bool {
-        match self {
-            Toward::Above => v >= 0.0,
-            Toward::Below => v <= 0.0,
-        }
+        let sign = match self {
+            Toward::Above => 1.0,
+            Toward::Below => -1.0,
+        };
+        sign * v >= 0.0
     }
 }
 
@@ -137,7 +141,7 @@ pub(super) struct Crossing {
 /// `h⁴·f⁗/384`, is a few millionths of it on the plant's short intervals.
 fn clear_of_level(fa: f64, ra: f64, fb: f64, rb: f64, h: f64, toward: Toward) -> bool {
     let cubic = Hermite::new(fa, ra, fb, rb, h);
-    let margin = 1e-3 * fa.abs().max(fb.abs()).max(cubic.ra.abs()).max(cubic.rb.abs());
+    let margin = 1e-3 * fa.abs().max(fb.abs()).max((h * ra).abs()).max((h * rb).abs());
     cubic.turns().into_iter().filter(|s| *s > 0.0 && *s < 1.0).all(|s| {
         let v = cubic.value(s);
         match toward {
