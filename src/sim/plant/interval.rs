@@ -59,10 +59,10 @@ pub(super) struct Interval<'a> {
 
 impl Interval<'_> {
     /// Whether `level`'s rate has opposite signs at the interval's ends
-    /// (it turns inside).
+    /// (it turns inside): the tests' check of a setting.
+    #[cfg(test)]
     pub fn turns(&self, level: &Affine) -> bool {
-        let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
-        ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum()
+        opposite_signs(level.rate(&self.moving[0]), level.rate(&self.moving[1]))
     }
 
     /// Whether the inductor current may reach `amps` in the interval, by
@@ -73,8 +73,7 @@ impl Interval<'_> {
     pub fn current_may_reach(&self, amps: f64, toward: Toward) -> bool {
         let (fa, fb) = (self.from.x[0] - amps, self.to.x[0] - amps);
         let (ra, rb) = (self.moving[0][0], self.moving[1][0]);
-        let turns = ra != 0.0 && rb != 0.0 && ra.signum() != rb.signum();
-        turns || (!toward.reached(fa) && toward.reached(fb))
+        opposite_signs(ra, rb) || (!toward.reached(fa) && toward.reached(fb))
     }
 
     /// The first time in the interval `level` is reached from the side
@@ -88,16 +87,35 @@ impl Interval<'_> {
     /// the interval, or its one turn comes before the crossing (both known
     /// only where it turns at most once in the interval: see
     /// [`Followed::turns_at_most_once`]).
+    ///
+    /// The first test, in line where the scan calls it, rules out most
+    /// levels (not past at the end, no turn) on the ends' values and rates
+    /// alone; the rest is [`crossing_within`](Self::crossing_within).
+    #[inline]
     pub fn first_crossing(&self, level: &Affine, toward: Toward) -> Option<Crossing> {
         let value = |p: &Ahead| level.value(&p.x, self.tau + p.t);
         let (fa, fb) = (value(&self.from), value(&self.to));
         let (ra, rb) = (level.rate(&self.moving[0]), level.rate(&self.moving[1]));
-        let reached = |v: f64| toward.reached(v);
-        let (a, b) = (self.from.t, self.to.t);
-        let turns = self.turns(level);
-        if !turns && (reached(fa) || !reached(fb)) {
+        let turns = opposite_signs(ra, rb);
+        if !turns && (toward.reached(fa) || !toward.reached(fb)) {
             return None;
         }
+        self.crossing_within(level, toward, [fa, ra, fb, rb], turns)
+    }
+
+    /// [`first_crossing`](Self::first_crossing) past its first test, from
+    /// the level's value and rate at the interval's start and end
+    /// (`[fa, ra, fb, rb]`) and whether it `turns` inside.
+    #[inline(never)]
+    fn crossing_within(
+        &self,
+        level: &Affine,
+        toward: Toward,
+        [fa, ra, fb, rb]: [f64; 4],
+        turns: bool,
+    ) -> Option<Crossing> {
+        let reached = |v: f64| toward.reached(v);
+        let (a, b) = (self.from.t, self.to.t);
         if turns && !reached(fb) && clear_of_level(fa, ra, fb, rb, b - a, toward) {
             return None;
         }
@@ -122,6 +140,14 @@ impl Interval<'_> {
         let start = start_of(&bracket, r_lo, r_hi);
         Some(Crossing { t: refine_from(&path, bracket, start, &reached), runs_on })
     }
+}
+
+/// Whether two rates have opposite signs, neither zero (a level with
+/// these rates at an interval's ends turns inside); a NaN counts as
+/// either sign.
+#[inline]
+fn opposite_signs(ra: f64, rb: f64) -> bool {
+    ra != 0.0 && rb != 0.0 && !(ra > 0.0 && rb > 0.0) && !(ra < 0.0 && rb < 0.0)
 }
 
 /// A level's first crossing in an interval.
