@@ -61,13 +61,16 @@ impl Hermite {
     }
 
     /// The zero of `p` in `(0, 1)` when `p(0)` and `p(1)` have opposite
-    /// signs: Newton's method from the chord's zero, three steps (the
-    /// cubic is close to a straight line on these intervals), or `None`
-    /// when a step leaves the interval.
+    /// signs: Newton's method from the chord's zero, two steps, or `None`
+    /// when a step leaves the interval. The cubic is close to a straight
+    /// line on these intervals: on the default scenario the chord's zero
+    /// lies a twentieth of the interval from the crossing (median), two
+    /// steps bring it to a few millionths, the cubic's own error, and a
+    /// third step comes no closer to the crossing.
     pub fn zero(&self) -> Option<f64> {
         let (fa, fb) = self.ends();
         let mut s = fa / (fa - fb);
-        for _ in 0..3 {
+        for _ in 0..2 {
             s -= self.value(s) / self.slope(s);
         }
         (s > 0.0 && s < 1.0).then_some(s)
