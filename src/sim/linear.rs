@@ -245,6 +245,20 @@ impl Solution {
         }
     }
 
+    /// [`flow`](Self::flow) with the coupled form's short series in line
+    /// (the same sums `Coupled::flow` takes for it), the rest called: for
+    /// a scan's end and the refinements inside it, whose steps are short.
+    #[inline(always)]
+    fn near_flow(&self, t: f64) -> Flow {
+        match &self.form {
+            Form::Coupled(c) if c.radius * t <= SHORT_LIMIT => {
+                let [p, q] = estrin_short(&c.taylor, t);
+                Flow { p, q, r: 0.0 }
+            }
+            _ => self.flow(t),
+        }
+    }
+
     /// The time derivative of the flow `f` over `t`: for the coupled form
     /// `d/dt e^{A·t} = A·e^{A·t}` with `A = s·I + N`, `N² = Δ·I`, gives
     /// `P' = s·P + Δ·Q`, `Q' = P + s·Q`; for the held form
@@ -419,7 +433,7 @@ pub struct Trajectory<'a> {
 impl Trajectory<'_> {
     /// The state `t` after the start.
     pub fn at(&self, t: f64) -> Vec2 {
-        self.solution.propagator(&self.solution.flow(t), self.tau0, t).apply(&self.x0)
+        self.solution.propagator(&self.solution.near_flow(t), self.tau0, t).apply(&self.x0)
     }
 
     /// The states at `t/2` and at `t`.
@@ -482,7 +496,7 @@ impl Followed<'_> {
 
     /// The value and its time derivative `t` after the start.
     pub fn value_and_rate(&self, t: f64) -> (f64, f64) {
-        let f = self.solution.flow(t);
+        let f = self.solution.near_flow(t);
         let d = self.solution.flow_rate(&f);
         let [_, beta, gamma, delta, epsilon] = self.terms;
         (self.combine(&f, t), beta + gamma * d.p + delta * d.q + epsilon * d.r)
