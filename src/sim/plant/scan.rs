@@ -103,8 +103,12 @@ impl Plant {
             }
             _ => {}
         }
-        for (edge, toward) in self.band_edges(from.x[0]) {
-            consider(&mut first, current(edge, toward), Stop::BandEdge);
+        if self.params.saturation.is_some() {
+            for (edge, toward) in self.band_edges(from.x[0]) {
+                if edge.is_finite() {
+                    consider(&mut first, current(edge, toward), Stop::BandEdge);
+                }
+            }
         }
         let alone = first.is_none();
         let mut clear_to = None;
@@ -122,15 +126,15 @@ impl Plant {
     }
 
     /// The present band's edges as signed currents, with the side past
-    /// each, for a current of `i`'s sign.
-    fn band_edges(&self, i: f64) -> impl Iterator<Item = (f64, Toward)> {
+    /// each, for a current of `i`'s sign (an edge the band does not have
+    /// is infinite; a stage without saturation has none: the caller
+    /// tests both, on a fixed pair rather than a filtered iterator).
+    #[inline]
+    fn band_edges(&self, i: f64) -> [(f64, Toward); 2] {
         let (lo, hi) = self.band_range;
-        let saturating = self.params.saturation.is_some();
         let (up, down) =
             if i < 0.0 { (Toward::Below, Toward::Above) } else { (Toward::Above, Toward::Below) };
         let sign = if i < 0.0 { -1.0 } else { 1.0 };
         [(sign * hi, up), (sign * lo, down)]
-            .into_iter()
-            .filter(move |&(edge, _)| saturating && edge.is_finite())
     }
 }
