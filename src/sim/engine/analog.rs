@@ -105,8 +105,8 @@ impl<F: Firmware> Engine<F> {
                 Some(found) => found,
                 None if to <= self.scanned.t => break,
                 None => {
-                    let horizon = to.max(self.scanned.t + self.plant.lookahead_s());
-                    let scan = self.plant.scan(self.scanned, horizon, self.comparator.watch());
+                    let end = self.plant.scan_end(self.scanned.t, to);
+                    let scan = self.plant.scan(self.scanned, end, self.comparator.watch());
                     match scan.event {
                         None => self.scanned = scan.end,
                         found => self.found = found,

@@ -40,7 +40,7 @@ pub use events::{Stop, Watch};
 pub use interval::Ahead;
 pub use params::{CoreLoss, Environment, InputCapacitor, PlantParams, Stage};
 pub use saturation::Saturation;
-pub use scan::{Event, Scan};
+pub use scan::{Event, Scan, SCAN_OF_FASTEST};
 
 use crate::sim::linear::{Affine, Trajectory, Vec2};
 use conduction::{output_map, Solutions};

@@ -48,6 +48,21 @@ pub struct Event {
 /// the margin `super::interval` rules out a turn with.
 pub const LOOKAHEAD_OF_FASTEST: f64 = 1.0 / 16.0;
 
+/// The longest interval one scan tests as a whole, as a fraction of the
+/// fastest response's time constant `1/ρ` (the loop may ask for more, up
+/// to its next event; the rest is left to the next scan). A level is tested
+/// from its values and rates at the interval's ends: a turn inside shows as
+/// a change of sign of its rate, and the cubic through the ends (Hermite)
+/// rules a turn's return clear of the level within an error of
+/// `(ρ·h)⁴/384` of the level's scale, 1e-5 here, a hundredth of the margin
+/// `super::interval` allows. Without a ramp a level's rate is `e^{st}`
+/// times a sinusoid of `ω ≤ ρ` (zeros `π/ω` apart) or a sum of two
+/// exponentials (one zero at most): one turn at most inside `h < π/ρ`,
+/// where a longer interval could hold a crossing and its return with the
+/// rate of one sign at both ends. The same fraction bounds the plant's
+/// panels ([`super::PANEL_OF_FASTEST`]).
+pub const SCAN_OF_FASTEST: f64 = 0.25;
+
 /// The longest look ahead, s, for a plant without a fast response (an idle
 /// stage into no load).
 const LONGEST_LOOKAHEAD_S: f64 = 1e-3;
@@ -60,6 +75,20 @@ impl Plant {
         (LOOKAHEAD_OF_FASTEST / rate).min(LONGEST_LOOKAHEAD_S)
     }
 
+    /// Where one [`scan`](Self::scan) from `from` (s after the plant's
+    /// time) toward the loop's next event at `to` ends: at `to`, but at
+    /// least the [look-ahead](Self::lookahead_s) on and at most the
+    /// longest interval a scan tests as a whole ([`SCAN_OF_FASTEST`]) on;
+    /// the rest is left to the next scan.
+    pub fn scan_end(&self, from: f64, to: f64) -> f64 {
+        // Both fractions are powers of two: times `1/ρ`, the same values
+        // as divided by `ρ`, for one division.
+        let time_constant = 1.0 / self.solutions.at(self.solution).fastest_rate();
+        let longest = from + SCAN_OF_FASTEST * time_constant;
+        let lookahead = from + (LOOKAHEAD_OF_FASTEST * time_constant).min(LONGEST_LOOKAHEAD_S);
+        to.min(longest).max(lookahead)
+    }
+
     /// The state at `ahead`, the plant's own time `0`.
     pub fn ahead(&self, t: f64) -> Ahead {
         Ahead { t, x: if t == 0.0 { [self.i_l(), self.v_c()] } else { self.state_ahead(t) } }
@@ -68,7 +97,11 @@ impl Plant {
     /// The first event in `(from.t, to]` after the plant's time, if any,
     /// without moving the plant: the diode current reaching zero, a
     /// saturation-band edge, or the `watch`ed crossing of the output.
+    /// `to` is where [`scan_end`](Self::scan_end) ends a scan from `from`:
+    /// a longer interval, tested as a whole, could hide a crossing and
+    /// its return.
     pub fn scan(&self, from: Ahead, to: f64, watch: Option<Watch>) -> Scan {
+        debug_assert!(to <= self.scan_end(from.t, to), "a scan past its longest interval");
         let trajectory = self.trajectory();
         let end = Ahead { t: to, x: trajectory.at(to) };
         let interval = Interval {
@@ -136,5 +169,54 @@ impl Plant {
             if i < 0.0 { (Toward::Below, Toward::Above) } else { (Toward::Above, Toward::Below) };
         let sign = if i < 0.0 { -1.0 } else { 1.0 };
         [(sign * hi, up), (sign * lo, down)]
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::sim::plant::Environment;
+    use crate::sim::Scenario;
+
+    /// The first event scanning `(0, to]` as the event loop does: scan on
+    /// from each scan's end until one finds an event or reaches `to`.
+    fn first_event_by_scans(plant: &Plant, to: f64, watch: Watch) -> Option<Event> {
+        let mut from = plant.ahead(0.0);
+        loop {
+            let scan = plant.scan(from, plant.scan_end(from.t, to), Some(watch));
+            if scan.event.is_some() || scan.end.t >= to {
+                return scan.event;
+            }
+            from = scan.end;
+        }
+    }
+
+    #[test]
+    fn a_crossing_and_its_return_inside_one_long_interval_are_found() {
+        // The demo stage with the high side on, 24 V into 2.5 Ω: an
+        // under-damped LC (ω ≈ 1/√(LC) ≈ 9 800 rad/s, a period of about
+        // 640 µs; any circuits text), started 2 A above the current of its
+        // resting point so the output swings up past a level and back down
+        // within the period. Over one period the output's rate has the same
+        // sign at both ends and its value is below the level at the end: an
+        // interval tested as a whole from its ends sees no crossing.
+        let mut params = Scenario::default_demo().plant;
+        params.saturation = None;
+        let mut plant = Plant::new(params, 5.0);
+        plant.set_environment(Environment { vin_v: 24.0, load_g_s: 0.4, ..Environment::default() });
+        plant.set_mode(Conduction::HighSide);
+        let rest_v = 24.0 * 2.5 / (2.5 + params.dcr_ohm);
+        plant.set_state(rest_v / 2.5 + 2.0, rest_v);
+        let v_at = |t: f64| plant.v_out_of(&plant.state_ahead(t), t);
+        // The first time the output reaches `level`, on 1 ns samples.
+        let period = 2.0 * core::f64::consts::PI * (params.l_h * params.c_f).sqrt();
+        let peak = (0..(period * 1e9) as usize).map(|k| v_at(k as f64 * 1e-9)).fold(0.0, f64::max);
+        let level = 0.5 * (rest_v + peak);
+        let sampled = (0..).map(|k| k as f64 * 1e-9).find(|&t| v_at(t) >= level).unwrap();
+        assert!(v_at(period) < level, "the output is back below the level after a period");
+        let watch = Watch { level_v: level, rising: true };
+        let event = first_event_by_scans(&plant, period, watch).expect("the crossing is found");
+        assert!(matches!(event.stop, Stop::Crossing(_)), "{event:?}");
+        assert!((event.t - sampled).abs() <= 1e-9, "{} against {sampled} s", event.t);
     }
 }
