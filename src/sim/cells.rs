@@ -150,7 +150,7 @@ impl CellGrid {
             self.cells.push(0.0);
         }
         if whole_end > k + 1 {
-            let value = whole_cell_averages(q, self.edge_centre(k + 1) - t0_s, dt);
+            let value = whole_cell_averages(q, self.cell_centre(k + 1) - t0_s, dt);
             // Cell counts stay below 2³¹ (see `new`).
             self.cells.extend((0..(whole_end - k - 1) as i32).map(value));
         }
@@ -175,7 +175,7 @@ impl CellGrid {
         let (mut t, mut k) = (first_end, k + 1);
         let whole_end = self.whole_cells_end(k, hi);
         if whole_end > k {
-            let value = whole_cell_averages(q, self.edge_centre(k) - t0_s, self.dt_s);
+            let value = whole_cell_averages(q, self.cell_centre(k) - t0_s, self.dt_s);
             self.add_whole_cells(k, whole_end, value);
             (t, k) = (self.edge(whole_end), whole_end);
         }
@@ -185,7 +185,7 @@ impl CellGrid {
     }
 
     /// The centre of cell `k`, s (`k + 0.5` cells from the start).
-    fn edge_centre(&self, k: usize) -> f64 {
+    fn cell_centre(&self, k: usize) -> f64 {
         self.from_s + (k as i64 as f64 + 0.5) * self.dt_s
     }
 

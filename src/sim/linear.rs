@@ -251,11 +251,8 @@ impl Solution {
     #[inline(always)]
     fn near_flow(&self, t: f64) -> Flow {
         match &self.form {
-            Form::Coupled(c) if c.radius * t <= SHORT_LIMIT => {
-                let [p, q] = estrin_short(&c.taylor, t);
-                Flow { p, q, r: 0.0 }
-            }
-            _ => self.flow(t),
+            Form::Coupled(c) => c.short_flow(t).unwrap_or_else(|| c.flow(t)),
+            Form::Held { g } => held_flow(*g, t),
         }
     }
 
@@ -302,13 +299,22 @@ fn taylor_coefficients(s: f64, det: f64) -> [[f64; 2]; TAYLOR_TERMS] {
 }
 
 impl Coupled {
+    /// The flow over a short step (`ρ·t ≤ SHORT_LIMIT`) by its shortest
+    /// series, else `None`.
+    #[inline(always)]
+    fn short_flow(&self, t: f64) -> Option<Flow> {
+        (self.radius * t <= SHORT_LIMIT).then(|| {
+            let [p, q] = estrin_short(&self.taylor, t);
+            Flow { p, q, r: 0.0 }
+        })
+    }
+
     #[inline]
     fn flow(&self, t: f64) -> Flow {
-        let reach = self.radius * t;
-        if reach <= SHORT_LIMIT {
-            let [p, q] = estrin_short(&self.taylor, t);
-            return Flow { p, q, r: 0.0 };
+        if let Some(f) = self.short_flow(t) {
+            return f;
         }
+        let reach = self.radius * t;
         if reach <= TAYLOR_LIMIT {
             let [p, q] = estrin(&self.taylor, t);
             return Flow { p, q, r: 0.0 };

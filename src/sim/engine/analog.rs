@@ -68,9 +68,11 @@ impl<F: Firmware> Engine<F> {
     /// DCM zero or a band edge, moving the plant to each DCM zero or band
     /// edge found (a crossing changes the comparator, not the plant); returns
     /// the tick the loop may go to (earlier than `target` when a crossing's
-    /// interrupt comes first). One scan looks up to
-    /// [`Plant::lookahead_s`](crate::sim::plant::Plant::lookahead_s) ahead
-    /// and keeps what it found, so the events before it cost no scan.
+    /// interrupt comes first). One scan looks at least
+    /// [`Plant::lookahead_s`](crate::sim::plant::Plant::lookahead_s) ahead,
+    /// at most [`SCAN_OF_FASTEST`](crate::sim::plant::SCAN_OF_FASTEST) of
+    /// the fastest time constant, and keeps what it found, so the events
+    /// before it cost no scan.
     #[inline]
     pub(super) fn watch_until(&mut self, target: u64) -> u64 {
         if self.seen_clear_to(target) {
@@ -105,8 +107,7 @@ impl<F: Firmware> Engine<F> {
                 Some(found) => found,
                 None if to <= self.scanned.t => break,
                 None => {
-                    let end = self.plant.scan_end(self.scanned.t, to);
-                    let scan = self.plant.scan(self.scanned, end, self.comparator.watch());
+                    let scan = self.plant.scan(self.scanned, to, self.comparator.watch());
                     match scan.event {
                         None => self.scanned = scan.end,
                         found => self.found = found,

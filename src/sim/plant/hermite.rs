@@ -3,10 +3,11 @@
 //! first estimate of where it crosses zero.
 //!
 //! On the plant's short intervals (a sixteenth of the fastest time
-//! constant, see [`super::scan`]) the cubic errs by about `h⁴·f⁗/384`,
-//! a few millionths of the level's scale: close enough to rule out a turn
-//! back to a level with a margin, and to start the refinement of a
-//! crossing on the closed form a Newton step or two from its end.
+//! constant as a rule, a quarter at most, see `super::scan`) the cubic
+//! errs by about `h⁴·f⁗/384`, some 4e-8 of the level's oscillation at a
+//! sixteenth and 1e-5 at a quarter: close enough to rule out a turn back
+//! to a level with a margin, and to start the refinement of a crossing on
+//! the closed form a Newton step or two from its end.
 
 /// `p(s) = fa·(2s³ − 3s² + 1) + ra·(s³ − 2s² + s) + fb·(3s² − 2s³) +
 /// rb·(s³ − s²)` for `s ∈ [0, 1]` across an interval of length `h`: `ra`,
@@ -14,7 +15,7 @@
 /// `p(s) = c₀ + c₁·s + c₂·s² + c₃·s³` (`c₀ = fa`, `c₁ = ra`,
 /// `c₂ = 3·(fb − fa) − 2·ra − rb`, `c₃ = 2·(fa − fb) + ra + rb`), so a
 /// value costs three multiply-adds: the refinement of a crossing starts
-/// from its zero, found by a few Newton steps.
+/// from its zero, found by two Newton steps.
 #[derive(Clone, Copy, Debug)]
 pub(super) struct Hermite {
     /// `[c₀, c₁, c₂, c₃]`.
@@ -62,7 +63,10 @@ impl Hermite {
 
     /// The zero of `p` in `(0, 1)` when `p(0)` and `p(1)` have opposite
     /// signs: Newton's method from the chord's zero, two steps, or `None`
-    /// when a step leaves the interval. The cubic is close to a straight
+    /// when the last step lands outside the interval (`p(1)` is taken as
+    /// the sum of the coefficients, the end value within rounding: where
+    /// that flips a tiny end's sign the start lands outside, and the
+    /// caller takes the chord's zero). The cubic is close to a straight
     /// line on these intervals: on the default scenario the chord's zero
     /// lies a twentieth of the interval from the crossing (median), two
     /// steps bring it to a few millionths, the cubic's own error, and a

@@ -164,7 +164,8 @@ pub(super) struct Crossing {
 /// the side away from `toward`: the cubic through the ends' values and
 /// rates ([`Hermite`]) turns farther from the level than a thousandth of
 /// the level's scale over the interval, where the cubic's own error,
-/// `h⁴·f⁗/384`, is a few millionths of it on the plant's short intervals.
+/// `h⁴·f⁗/384`, is at most about 1e-5 of the level's oscillation on the
+/// plant's intervals (see `super::scan::SCAN_OF_FASTEST`).
 fn clear_of_level(fa: f64, ra: f64, fb: f64, rb: f64, h: f64, toward: Toward) -> bool {
     let cubic = Hermite::new(fa, ra, fb, rb, h);
     let margin = 1e-3 * fa.abs().max(fb.abs()).max((h * ra).abs()).max((h * rb).abs());

@@ -37,15 +37,13 @@ pub struct Event {
     pub clear_to: Option<Ahead>,
 }
 
-/// How far ahead of the plant one scan looks at least (further only when
-/// the loop's next event is further), as a fraction of the fastest
+/// How far ahead of the plant one scan looks at least (further when the
+/// loop's next event is further, up to [`SCAN_OF_FASTEST`]), as a fraction of the fastest
 /// response's time constant `1/ρ` (`ρ` the larger eigenvalue magnitude of
 /// the present mode; about 100 µs for the demo stage, see
 /// [`super::PANEL_OF_FASTEST`], so a scan looks about 6 µs ahead): an event
 /// found beyond the next one costs no second scan, and a step this short
-/// keeps to the flow's power series. The Hermite cubic that rules out a turn back
-/// to a level errs by about `(ρ·h)⁴/384` of the level's scale, well inside
-/// the margin `super::interval` rules out a turn with.
+/// keeps to the flow's shortest power series.
 pub const LOOKAHEAD_OF_FASTEST: f64 = 1.0 / 16.0;
 
 /// The longest interval one scan tests as a whole, as a fraction of the
@@ -53,26 +51,28 @@ pub const LOOKAHEAD_OF_FASTEST: f64 = 1.0 / 16.0;
 /// to its next event; the rest is left to the next scan). A level is tested
 /// from its values and rates at the interval's ends: a turn inside shows as
 /// a change of sign of its rate, and the cubic through the ends (Hermite)
-/// rules a turn's return clear of the level within an error of
-/// `(ρ·h)⁴/384` of the level's scale, 1e-5 here, a hundredth of the margin
-/// `super::interval` allows. Without a ramp a level's rate is `e^{st}`
-/// times a sinusoid of `ω ≤ ρ` (zeros `π/ω` apart) or a sum of two
-/// exponentials (one zero at most): one turn at most inside `h < π/ρ`,
-/// where a longer interval could hold a crossing and its return with the
-/// rate of one sign at both ends. The same fraction bounds the plant's
-/// panels ([`super::PANEL_OF_FASTEST`]).
-pub const SCAN_OF_FASTEST: f64 = 0.25;
+/// rules a turn's return clear of the level within an error of about
+/// `(ρ·h)⁴/384` of the oscillation's amplitude, 1e-5 of it here, inside the
+/// margin of a thousandth of the ends' values and rates that
+/// `super::interval` allows. Without a ramp of the input or the load a
+/// level's rate is `e^{st}` times a sinusoid of `ω ≤ ρ` (zeros `π/ω` apart)
+/// or a sum of two exponentials (one zero at most): one turn at most inside
+/// `h < π/ρ`, where a longer interval could hold a crossing and its return
+/// with the rate of one sign at both ends. A ramp adds a constant to the
+/// rate, and two turns may then fall inside one interval; the excursion
+/// between them, about `(ρ·h)³/12` of the amplitude, is what a crossing
+/// and return there could hide. The plant's panels have the same bound.
+pub const SCAN_OF_FASTEST: f64 = super::PANEL_OF_FASTEST;
 
 /// The longest look ahead, s, for a plant without a fast response (an idle
 /// stage into no load).
 const LONGEST_LOOKAHEAD_S: f64 = 1e-3;
 
 impl Plant {
-    /// How far ahead one [`scan`](Self::scan) may look on the present
-    /// solution, s.
+    /// How far ahead one [`scan`](Self::scan) looks at least on the
+    /// present solution, s.
     pub fn lookahead_s(&self) -> f64 {
-        let rate = self.solutions.at(self.solution).fastest_rate();
-        (LOOKAHEAD_OF_FASTEST / rate).min(LONGEST_LOOKAHEAD_S)
+        lookahead_of(self.time_constant_s())
     }
 
     /// Where one [`scan`](Self::scan) from `from` (s after the plant's
@@ -81,12 +81,14 @@ impl Plant {
     /// longest interval a scan tests as a whole ([`SCAN_OF_FASTEST`]) on;
     /// the rest is left to the next scan.
     pub fn scan_end(&self, from: f64, to: f64) -> f64 {
-        // Both fractions are powers of two: times `1/ρ`, the same values
-        // as divided by `ρ`, for one division.
-        let time_constant = 1.0 / self.solutions.at(self.solution).fastest_rate();
-        let longest = from + SCAN_OF_FASTEST * time_constant;
-        let lookahead = from + (LOOKAHEAD_OF_FASTEST * time_constant).min(LONGEST_LOOKAHEAD_S);
-        to.min(longest).max(lookahead)
+        let time_constant = self.time_constant_s();
+        to.min(from + SCAN_OF_FASTEST * time_constant).max(from + lookahead_of(time_constant))
+    }
+
+    /// The fastest response's time constant `1/ρ` on the present
+    /// solution, s (infinite for a plant that does not move).
+    fn time_constant_s(&self) -> f64 {
+        1.0 / self.solutions.at(self.solution).fastest_rate()
     }
 
     /// The state at `ahead`, the plant's own time `0`.
@@ -94,14 +96,14 @@ impl Plant {
         Ahead { t, x: if t == 0.0 { [self.i_l(), self.v_c()] } else { self.state_ahead(t) } }
     }
 
-    /// The first event in `(from.t, to]` after the plant's time, if any,
-    /// without moving the plant: the diode current reaching zero, a
-    /// saturation-band edge, or the `watch`ed crossing of the output.
-    /// `to` is where [`scan_end`](Self::scan_end) ends a scan from `from`:
-    /// a longer interval, tested as a whole, could hide a crossing and
-    /// its return.
-    pub fn scan(&self, from: Ahead, to: f64, watch: Option<Watch>) -> Scan {
-        debug_assert!(to <= self.scan_end(from.t, to), "a scan past its longest interval");
+    /// The first event after `from.t` (s after the plant's time), looking
+    /// toward the loop's next event at `target`, if any, without moving
+    /// the plant: the diode current reaching zero, a saturation-band edge,
+    /// or the `watch`ed crossing of the output. The interval scanned ends
+    /// where [`scan_end`](Self::scan_end) says (the [`Scan`]'s end): a
+    /// longer one, tested as a whole, could hide a crossing and its return.
+    pub fn scan(&self, from: Ahead, target: f64, watch: Option<Watch>) -> Scan {
+        let to = self.scan_end(from.t, target);
         let trajectory = self.trajectory();
         let end = Ahead { t: to, x: trajectory.at(to) };
         let interval = Interval {
@@ -172,6 +174,13 @@ impl Plant {
     }
 }
 
+/// The look-ahead for a fastest time constant of `time_constant` s: a
+/// power-of-two fraction of it, so the same value as the fraction divided
+/// by the rate.
+fn lookahead_of(time_constant: f64) -> f64 {
+    (LOOKAHEAD_OF_FASTEST * time_constant).min(LONGEST_LOOKAHEAD_S)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -183,7 +192,7 @@ mod tests {
     fn first_event_by_scans(plant: &Plant, to: f64, watch: Watch) -> Option<Event> {
         let mut from = plant.ahead(0.0);
         loop {
-            let scan = plant.scan(from, plant.scan_end(from.t, to), Some(watch));
+            let scan = plant.scan(from, to, Some(watch));
             if scan.event.is_some() || scan.end.t >= to {
                 return scan.event;
             }
@@ -214,6 +223,8 @@ mod tests {
         let level = 0.5 * (rest_v + peak);
         let sampled = (0..).map(|k| k as f64 * 1e-9).find(|&t| v_at(t) >= level).unwrap();
         assert!(v_at(period) < level, "the output is back below the level after a period");
+        let slope = |t: f64| v_at(t + 1e-9) - v_at(t);
+        assert!(slope(0.0) * slope(period) > 0.0, "the output moves the same way at both ends");
         let watch = Watch { level_v: level, rising: true };
         let event = first_event_by_scans(&plant, period, watch).expect("the crossing is found");
         assert!(matches!(event.stop, Stop::Crossing(_)), "{event:?}");
