@@ -134,8 +134,14 @@ impl CellGrid {
             // Cells past the first already held: added out of order.
             return self.add_quadratic_held(t0_s, q, k, (lo, hi));
         }
-        // In time order (the record's case): cell `k` is the last held or
-        // the next, every cell after it is appended.
+        self.add_quadratic_in_order(t0_s, q, k, (lo, hi));
+    }
+
+    /// [`add_quadratic`](Self::add_quadratic) over `[lo, hi]` from cell
+    /// `k` on, in time order (the record's case): cell `k` is the last held
+    /// or the next, every cell after it is appended.
+    #[inline]
+    fn add_quadratic_in_order(&mut self, t0_s: f64, q: &Quadratic, k: usize, (lo, hi): (f64, f64)) {
         let first_end = earlier(self.edge(k + 1), hi);
         let whole_end = self.whole_cells_end(k + 1, hi);
         let dt = self.dt_s;
