@@ -293,7 +293,7 @@ impl Plant {
         if dt <= 0.0 {
             return;
         }
-        let longest = PANEL_OF_FASTEST / self.solutions.at(self.solution).fastest_rate();
+        let longest = PANEL_OF_FASTEST * self.time_constant_s();
         // One panel as a rule (the moves between events are short): no
         // `ceil`, a library call, for it (`dt ≤ longest` gives a quotient of
         // at most one, rounded or not).

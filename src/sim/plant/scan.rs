@@ -86,8 +86,10 @@ impl Plant {
     }
 
     /// The fastest response's time constant `1/ρ` on the present
-    /// solution, s (infinite for a plant that does not move).
-    fn time_constant_s(&self) -> f64 {
+    /// solution, s (infinite for a plant that does not move): scans and
+    /// panels are power-of-two fractions of it, the same values as the
+    /// fractions divided by `ρ`.
+    pub(super) fn time_constant_s(&self) -> f64 {
         1.0 / self.solutions.at(self.solution).fastest_rate()
     }
 
