@@ -12,6 +12,7 @@ mod ceramic;
 mod cli;
 mod cli_emission;
 mod closed_loop;
+mod comparator_lookahead;
 mod config_errors;
 mod cpu;
 mod design_boards;
