@@ -119,13 +119,7 @@ impl CellGrid {
     /// inside it, divided by the width (over a whole cell, the value at the
     /// centre plus `c₂·Δt²/12`).
     pub fn add_quadratic(&mut self, t0_s: f64, q: &Quadratic) {
-        // The grid's end, `from + n·Δt` as `span_s` has it, through i64
-        // (one instruction where a `usize` takes several).
-        let end = self.edge(self.n);
-        let (lo, hi) = (later(t0_s, self.from_s), earlier(t0_s + q.h, end));
-        if hi <= lo {
-            return;
-        }
+        let Some((lo, hi)) = self.inside(t0_s, t0_s + q.h) else { return };
         let k = self.cell_of(lo);
         if self.cells.len() < k {
             self.cells.resize(k, 0.0);
@@ -135,6 +129,15 @@ impl CellGrid {
             return self.add_quadratic_held(t0_s, q, k, (lo, hi));
         }
         self.add_quadratic_in_order(t0_s, q, k, (lo, hi));
+    }
+
+    /// The part of `[a, b]` inside the grid, if any. The grid's end is
+    /// `from + n·Δt` as `span_s` has it, through i64 (one instruction where
+    /// a `usize` takes several).
+    #[inline]
+    fn inside(&self, a: f64, b: f64) -> Option<(f64, f64)> {
+        let (lo, hi) = (later(a, self.from_s), earlier(b, self.edge(self.n)));
+        (hi > lo).then_some((lo, hi))
     }
 
     /// [`add_quadratic`](Self::add_quadratic) over `[lo, hi]` from cell
@@ -416,11 +419,8 @@ mod tests {
                 let q =
                     Quadratic { c: [rnd() - 0.5, (rnd() - 0.5) * 1e5, (rnd() - 0.5) * 1e10], h };
                 a.add_quadratic(t, &q);
-                let end = b.from_s + b.span_s();
-                let (lo, hi) = (later(t, b.from_s), earlier(t + q.h, end));
-                if hi > lo {
-                    let k = b.cell_of(lo);
-                    b.add_quadratic_held(t, &q, k, (lo, hi));
+                if let Some((lo, hi)) = b.inside(t, t + q.h) {
+                    b.add_quadratic_held(t, &q, b.cell_of(lo), (lo, hi));
                 }
                 t += h + if trial % 5 == 1 && rnd() < 0.2 { rnd() * 5e-6 } else { 0.0 };
             }
