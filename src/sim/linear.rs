@@ -245,13 +245,14 @@ impl Solution {
         }
     }
 
-    /// [`flow`](Self::flow) with the coupled form's short series in line
-    /// (the same sums `Coupled::flow` takes for it), the rest called: for
-    /// a scan's end and the refinements inside it, whose steps are short.
+    /// [`flow`](Self::flow) with the coupled form's series in line (the
+    /// same sums `Coupled::flow` takes for them), the closed forms called:
+    /// for a scan's end and the refinements inside it, whose steps are
+    /// short.
     #[inline(always)]
     fn near_flow(&self, t: f64) -> Flow {
         match &self.form {
-            Form::Coupled(c) => c.short_flow(t).unwrap_or_else(|| c.flow(t)),
+            Form::Coupled(c) => c.series_flow(t).unwrap_or_else(|| c.closed_flow(t)),
             Form::Held { g } => held_flow(*g, t),
         }
     }
@@ -299,26 +300,35 @@ fn taylor_coefficients(s: f64, det: f64) -> [[f64; 2]; TAYLOR_TERMS] {
 }
 
 impl Coupled {
-    /// The flow over a short step (`ρ·t ≤ SHORT_LIMIT`) by its shortest
-    /// series, else `None`.
+    /// The flow over a step within the Taylor series' reach
+    /// (`ρ·t ≤ TAYLOR_LIMIT`), by the shortest series that holds it, else
+    /// `None`.
     #[inline(always)]
-    fn short_flow(&self, t: f64) -> Option<Flow> {
-        (self.radius * t <= SHORT_LIMIT).then(|| {
-            let [p, q] = estrin_short(&self.taylor, t);
-            Flow { p, q, r: 0.0 }
-        })
+    fn series_flow(&self, t: f64) -> Option<Flow> {
+        let reach = self.radius * t;
+        let [p, q] = if reach <= SHORT_LIMIT {
+            estrin_short(&self.taylor, t)
+        } else if reach <= TAYLOR_LIMIT {
+            estrin(&self.taylor, t)
+        } else {
+            return None;
+        };
+        Some(Flow { p, q, r: 0.0 })
     }
 
-    #[inline]
+    /// The flow over `t`. Called, not in line: only the scan's steps take
+    /// the series in line (`Solution::near_flow`); a panel's or a turn's
+    /// step is one call.
+    #[inline(never)]
     fn flow(&self, t: f64) -> Flow {
-        if let Some(f) = self.short_flow(t) {
-            return f;
-        }
-        let reach = self.radius * t;
-        if reach <= TAYLOR_LIMIT {
-            let [p, q] = estrin(&self.taylor, t);
-            return Flow { p, q, r: 0.0 };
-        }
+        self.series_flow(t).unwrap_or_else(|| self.closed_flow(t))
+    }
+
+    /// The flow over a step past the series' reach, by its closed forms
+    /// (called: such steps are rare, and their library calls dwarf a
+    /// call's cost).
+    #[inline(never)]
+    fn closed_flow(&self, t: f64) -> Flow {
         let x = self.delta * t * t;
         if x.abs() <= SERIES_LIMIT {
             let (c, s) = even_odd_series(x);
