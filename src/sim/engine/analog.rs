@@ -245,7 +245,7 @@ impl<F: Firmware> Engine<F> {
     /// interrupt after the propagation delay, on the next tick, and the
     /// latency.
     fn schedule_edge_interrupt(&mut self, at_s: f64, tick: u64) {
-        let ready = ((at_s + self.comparator_delay_s) / self.tick_s).ceil() as u64;
+        let ready = ceil_to_u64((at_s + self.comparator_delay_s) / self.tick_s);
         let at = ready.max(tick + 1) + self.latency_ticks;
         if self.schedule.edge.is_some() {
             self.cpu.merge(Handler::Comparator);
@@ -322,6 +322,55 @@ impl<F: Firmware> Engine<F> {
             self.schedule.dead_time_end = Some(self.tick + self.dead_ticks);
         } else {
             self.plant.set_mode(final_mode);
+        }
+    }
+}
+
+/// `x.ceil() as u64` for every `x` (saturating, NaN to zero), without
+/// `ceil`, a library call on the baseline x86-64 target: a comparator
+/// edge's tick, one per crossing taken. The truncation is `⌊x⌋` for
+/// `0 ≤ x < 2⁶⁴`, exact in `f64` where `x` has a fraction (below 2⁵²);
+/// past 2⁶⁴ it saturates, as the cast of the ceiling does.
+fn ceil_to_u64(x: f64) -> u64 {
+    let below = x as u64;
+    if (below as f64) < x {
+        below.saturating_add(1)
+    } else {
+        below
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::ceil_to_u64;
+
+    #[test]
+    fn ceil_to_u64_matches_the_library_ceil() {
+        let tiny = f64::MIN_POSITIVE;
+        let cases = [
+            0.0,
+            -0.0,
+            tiny,
+            0.5,
+            1.0,
+            1.0 + f64::EPSILON,
+            2.5,
+            1e9 + 0.25,
+            4503599627370495.5,
+            4503599627370497.0,
+            9007199254740993.0,
+            1.8446744073709552e19,
+            1e300,
+            -0.5,
+            -1.0,
+            -7.25,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            f64::NAN,
+        ];
+        for x in cases {
+            assert_eq!(ceil_to_u64(x), x.ceil() as u64, "{x}");
+            assert_eq!(ceil_to_u64(x.next_up()), x.next_up().ceil() as u64, "{x} up");
         }
     }
 }
