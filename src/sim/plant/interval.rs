@@ -91,7 +91,7 @@ impl Interval<'_> {
     /// The first test, in line where the scan calls it, rules out most
     /// levels (not past at the end, no turn) on the ends' values and rates
     /// alone; the rest is [`crossing_within`](Self::crossing_within).
-    #[inline]
+    #[inline(always)]
     pub fn first_crossing(&self, level: &Affine, toward: Toward) -> Option<Crossing> {
         let value = |p: &Ahead| level.value(&p.x, self.tau + p.t);
         let (fa, fb) = (value(&self.from), value(&self.to));
