@@ -448,6 +448,10 @@ pub struct Trajectory<'a> {
 
 impl Trajectory<'_> {
     /// The state `t` after the start.
+    // In line always: a scan's end and the state at a tick call it once
+    // each, and a call (its frame, the state through memory) costs a
+    // good part of the flow itself.
+    #[inline(always)]
     pub fn at(&self, t: f64) -> Vec2 {
         self.solution.propagator(&self.solution.near_flow(t), self.tau0, t).apply(&self.x0)
     }
