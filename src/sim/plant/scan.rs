@@ -104,6 +104,10 @@ impl Plant {
     /// or the `watch`ed crossing of the output. The interval scanned ends
     /// where [`scan_end`](Self::scan_end) says (the [`Scan`]'s end): a
     /// longer one, tested as a whole, could hide a crossing and its return.
+    // In line always: the event loop's `scan_until` is its one caller in
+    // a run, and in line the start, the result and the plant's fields
+    // pass in registers, not through memory and a frame of their own.
+    #[inline(always)]
     pub fn scan(&self, from: Ahead, target: f64, watch: Option<Watch>) -> Scan {
         let to = self.scan_end(from.t, target);
         let trajectory = self.trajectory();
