@@ -106,7 +106,9 @@ impl Interval<'_> {
     /// [`first_crossing`](Self::first_crossing) past its first test, from
     /// the level's value and rate at the interval's start and end
     /// (`[fa, ra, fb, rb]`) and whether it `turns` inside.
-    #[inline(never)]
+    // In line always, as `first_crossing` is: in the scan for the watched
+    // output (most calls), the bracket's values stay in registers.
+    #[inline(always)]
     fn crossing_within(
         &self,
         level: &Affine,
