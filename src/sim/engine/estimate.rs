@@ -8,6 +8,11 @@
 //! after each such tick's handlers (a knot), and the bend between two
 //! knots, found from the line's slopes at both ends; the record takes the
 //! estimate as straight between the knots it is given.
+//!
+//! The value before a tick's handlers is kept until one runs: the knot
+//! after them, and the record's observations at a gate edge, are the same
+//! reading (the firmware's state has not moved), taken without asking
+//! again.
 
 use super::Engine;
 use crate::sim::firmware::Firmware;
@@ -18,6 +23,19 @@ use crate::tick::Instant;
 /// reading rounds once).
 const STRAIGHT_WITHIN_A: f64 = 4.0 / 65_536.0;
 
+/// The firmware's estimate at the tick being dispatched, as the recorder
+/// has it.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(super) enum TickEstimate {
+    /// Not given at this tick yet.
+    NotGiven,
+    /// Given before the tick's handlers, none run since: the estimate at
+    /// the tick still, A.
+    Holds(f64),
+    /// Given, and a handler has run since.
+    Moved,
+}
+
 impl<F: Firmware> Engine<F> {
     /// The firmware's current estimate at `at`, A (NaN: none).
     pub(super) fn estimate_at(&self, at: Instant) -> f64 {
@@ -25,8 +43,11 @@ impl<F: Firmware> Engine<F> {
     }
 
     /// The firmware's estimate at the tick.
-    fn estimate_now(&self) -> f64 {
-        self.estimate_at(self.now())
+    pub(super) fn estimate_now(&self) -> f64 {
+        match self.tick_estimate {
+            TickEstimate::Holds(e) => e,
+            TickEstimate::NotGiven | TickEstimate::Moved => self.estimate_at(self.now()),
+        }
     }
 
     /// The timer's reading at tick `k` (ticks since t = 0).
@@ -39,15 +60,22 @@ impl<F: Firmware> Engine<F> {
     /// since the last knot; the value after the handlers follows in
     /// [`knot_after`](Self::knot_after).
     pub(super) fn knot_before(&mut self) {
-        if self.knot_at_tick {
+        if self.tick_estimate != TickEstimate::NotGiven {
             return;
         }
-        self.knot_at_tick = true;
         let e = self.estimate_now();
+        self.tick_estimate = TickEstimate::Holds(e);
         if let Some((t_s, bend)) = self.last_knot.and_then(|(a, e_a)| self.bend_since(a, e_a, e)) {
             self.recorder.estimate_knot(t_s, bend, bend);
         }
         self.recorder.estimate_knot(self.seconds(self.tick), e, e);
+    }
+
+    /// [`knot_before`](Self::knot_before) a handler, which moves the
+    /// firmware's state.
+    pub(super) fn knot_before_handler(&mut self) {
+        self.knot_before();
+        self.tick_estimate = TickEstimate::Moved;
     }
 
     /// The estimate after the tick's handlers; `corrected`: they learned of

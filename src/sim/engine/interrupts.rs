@@ -61,7 +61,7 @@ impl<F: Firmware> Engine<F> {
     /// timer read at its pin write reads that end (its outputs take effect
     /// then). Returns the end, for [`handler_ran`](Self::handler_ran).
     fn start_handler(&mut self, handler: Handler) -> u64 {
-        self.knot_before();
+        self.knot_before_handler();
         let end = self.cpu.run_fast(handler, self.tick);
         self.set_handler_clock(end);
         self.peripherals.stage();
@@ -198,7 +198,7 @@ impl<F: Firmware> Engine<F> {
             self.cpu.merge(Handler::Housekeeping);
             return;
         }
-        self.knot_before();
+        self.knot_before_handler();
         let now = self.now();
         // The core is the tick's until it ends, preempted by the fast
         // handlers; its pin writes (a stop, a start on the comparator's

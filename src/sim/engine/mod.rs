@@ -43,6 +43,7 @@ use super::transient::TransientTracker;
 use crate::guard::ClampCounts;
 use crate::supervisor::FaultKind;
 use crate::tick::Instant;
+use estimate::TickEstimate;
 use schedule::{Breakpoint, Schedule, WindowEdge};
 
 /// Envelope slices kept for plots and CSV (20 µs each over a 10 ms run,
@@ -134,8 +135,8 @@ struct Engine<F> {
     found: Option<Event>,
     /// The DAC code the comparator's level was last settled for.
     synced_dac: Option<u16>,
-    /// The firmware's estimate at this tick was given to the recorder.
-    knot_at_tick: bool,
+    /// The firmware's estimate at this tick, as given to the recorder.
+    tick_estimate: TickEstimate,
     /// The last tick the estimate was given at, with its value after the
     /// handlers there.
     last_knot: Option<(u64, f64)>,
@@ -307,7 +308,7 @@ impl<F: Firmware> Engine<F> {
             scanned: Ahead { t: 0.0, x: [sc.initial_inductor_a, sc.initial_output_v] },
             found: None,
             synced_dac: None,
-            knot_at_tick: false,
+            tick_estimate: TickEstimate::NotGiven,
             last_knot: None,
             edge_unseen: false,
             gate: false,
@@ -383,14 +384,14 @@ impl<F: Firmware> Engine<F> {
     /// is, but for an ADC sample (the other checks skipped).
     #[inline]
     fn dispatch(&mut self, sample_alone: bool) {
-        self.knot_at_tick = false;
+        self.tick_estimate = TickEstimate::NotGiven;
         let unseen = self.edge_unseen;
         if !sample_alone {
             self.dispatch_events();
         }
         // The last of the tick's events.
         self.sample();
-        if self.knot_at_tick {
+        if self.tick_estimate != TickEstimate::NotGiven {
             self.knot_after(unseen && !self.edge_unseen);
         }
     }
