@@ -41,17 +41,19 @@ impl<F: Firmware> Engine<F> {
         self.cpu.free_at(self.tick) && self.schedule.edge.is_some_and(|e| e.at <= self.tick)
     }
 
-    /// [`interrupts`](Self::interrupts), one or more being due.
+    /// [`interrupts`](Self::interrupts), one or more being due and the
+    /// core free.
     #[inline(never)]
     fn take_interrupts(&mut self) {
-        while self.cpu.free_at(self.tick) {
-            let entering = self.interrupt_due();
-            if entering && self.schedule.compare_irq.is_some() {
+        loop {
+            // One is entered: a compare pending is taken first.
+            if self.schedule.compare_irq.is_some() {
                 self.schedule.compare_irq = Some(self.tick);
             }
             let ran =
                 self.compare_interrupt() || self.edge_interrupt() || self.conversion_interrupt();
-            if !ran {
+            debug_assert!(ran, "one was due");
+            if !(self.cpu.free_at(self.tick) && self.interrupt_due()) {
                 return;
             }
         }
