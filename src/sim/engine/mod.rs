@@ -166,9 +166,6 @@ struct Engine<F> {
     /// firmware that armed them while it was built; housekeeping at tick 0
     /// runs first and sets it, so no fast handler sees it false today.
     outputs_followed: bool,
-    /// Stops where nothing happens, every this many ticks (see
-    /// [`RunControl::probe_every_ticks`]).
-    probe: Option<u64>,
 }
 
 /// Run a scenario with a firmware of your own: `build` receives the
@@ -192,7 +189,9 @@ pub fn run_firmware_with<F: Firmware>(
     let peripherals = Peripherals::new();
     let firmware = build(&peripherals);
     let mut engine = Engine::new(scenario, firmware, peripherals)?;
-    engine.probe = control.probe_every_ticks.filter(|&p| p > 0);
+    if let Some(every) = control.probe_every_ticks.filter(|&p| p > 0) {
+        engine.schedule.probe_every(every);
+    }
     let stored_start = engine.plant.stored_j();
     engine.start_up();
     let mut events = 0u32;
@@ -325,7 +324,6 @@ impl<F: Firmware> Engine<F> {
             effects_at: None,
             scan_stop: None,
             outputs_followed: false,
-            probe: None,
         })
     }
 
@@ -356,9 +354,6 @@ impl<F: Firmware> Engine<F> {
         let mut next = self.schedule.next_but_sample(self.cpu.busy_until());
         if let Some(t) = self.effects_at {
             next = next.min(t);
-        }
-        if let Some(p) = self.probe {
-            next = next.min((self.tick / p + 1) * p);
         }
         next
     }
@@ -397,10 +392,10 @@ impl<F: Firmware> Engine<F> {
     }
 
     fn dispatch_events(&mut self) {
-        if self.probe.is_some_and(|p| self.tick.is_multiple_of(p)) {
-            self.catch_up();
-        }
-        if self.schedule.next_profile_tick() <= self.tick {
+        if self.schedule.next_rare_tick() <= self.tick {
+            if self.schedule.take_probe(self.tick) {
+                self.catch_up();
+            }
             self.profile_breakpoints();
             self.window_edges();
         }

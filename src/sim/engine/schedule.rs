@@ -61,10 +61,15 @@ pub(super) struct Schedule {
     /// come.
     window_edges: Vec<WindowEdge>,
     next_window_edge: usize,
+    /// Stops where nothing happens (see
+    /// [`RunControl::probe_every_ticks`](crate::sim::RunControl::probe_every_ticks)):
+    /// their period and the next one's tick.
+    probe: Option<(u64, u64)>,
     pub end: u64,
-    /// The next breakpoint's or window boundary's tick (`u64::MAX`: none),
-    /// kept as they are taken: every pass of the loop asks for it twice.
-    next_profile: u64,
+    /// The next breakpoint's, window boundary's or probe stop's tick
+    /// (`u64::MAX`: none), kept as they are taken: these events are rare,
+    /// and every pass of the loop asks for the first of them twice.
+    next_rare: u64,
 }
 
 impl Schedule {
@@ -82,11 +87,18 @@ impl Schedule {
             next_break: 0,
             window_edges,
             next_window_edge: 0,
+            probe: None,
             end,
-            next_profile: u64::MAX,
+            next_rare: u64::MAX,
         };
-        schedule.find_next_profile_tick();
+        schedule.find_next_rare_tick();
         schedule
+    }
+
+    /// Stop every `period` ticks from now on (tick 0), `period` > 0.
+    pub fn probe_every(&mut self, period: u64) {
+        self.probe = Some((period, period));
+        self.find_next_rare_tick();
     }
 
     /// The next tick something other than an ADC sampling instant happens
@@ -112,28 +124,41 @@ impl Schedule {
         if let Some(t) = self.dead_time_end {
             next = next.min(t);
         }
-        next.min(self.next_profile_tick())
+        next.min(self.next_rare_tick())
     }
 
-    /// The next breakpoint's or window boundary's tick (`u64::MAX`: none).
+    /// The next breakpoint's, window boundary's or probe stop's tick
+    /// (`u64::MAX`: none).
     #[inline]
-    pub fn next_profile_tick(&self) -> u64 {
-        self.next_profile
+    pub fn next_rare_tick(&self) -> u64 {
+        self.next_rare
     }
 
-    /// Find [`next_profile_tick`](Self::next_profile_tick) again, after
-    /// one was taken.
-    fn find_next_profile_tick(&mut self) {
+    /// Find [`next_rare_tick`](Self::next_rare_tick) again, after one was
+    /// taken.
+    fn find_next_rare_tick(&mut self) {
         let b = self.breaks.get(self.next_break).map_or(u64::MAX, |b| b.tick);
         let w = self.window_edges.get(self.next_window_edge).map_or(u64::MAX, |w| w.tick);
-        self.next_profile = b.min(w);
+        let p = self.probe.map_or(u64::MAX, |(_, next)| next);
+        self.next_rare = b.min(w).min(p);
+    }
+
+    /// Whether a probe stop is due by `tick`; it is taken, the next one
+    /// set a period after the tick.
+    pub fn take_probe(&mut self, tick: u64) -> bool {
+        let Some((period, next)) = self.probe.as_mut().filter(|(_, next)| *next <= tick) else {
+            return false;
+        };
+        *next = (tick / *period + 1) * *period;
+        self.find_next_rare_tick();
+        true
     }
 
     /// The breakpoint due by `tick`, taken from the schedule.
     pub fn take_break(&mut self, tick: u64) -> Option<Breakpoint> {
         let b = *self.breaks.get(self.next_break).filter(|b| b.tick <= tick)?;
         self.next_break += 1;
-        self.find_next_profile_tick();
+        self.find_next_rare_tick();
         Some(b)
     }
 
@@ -141,7 +166,7 @@ impl Schedule {
     pub fn take_window_edge(&mut self, tick: u64) -> Option<WindowEdge> {
         let w = *self.window_edges.get(self.next_window_edge).filter(|w| w.tick <= tick)?;
         self.next_window_edge += 1;
-        self.find_next_profile_tick();
+        self.find_next_rare_tick();
         Some(w)
     }
 }
