@@ -247,8 +247,8 @@ impl Solution {
 
     /// [`flow`](Self::flow) with the coupled form's series in line (the
     /// same sums `Coupled::flow` takes for them), the closed forms called:
-    /// for a scan's end and the refinements inside it, whose steps are
-    /// short.
+    /// for a scan's end, the refinements inside it and a panel's half
+    /// step, which are short.
     #[inline(always)]
     fn near_flow(&self, t: f64) -> Flow {
         match &self.form {
@@ -316,9 +316,9 @@ impl Coupled {
         Some(Flow { p, q, r: 0.0 })
     }
 
-    /// The flow over `t`. Called, not in line: only the scan's steps take
-    /// the series in line (`Solution::near_flow`); a panel's or a turn's
-    /// step is one call.
+    /// The flow over `t`. Called, not in line: only the scan's and the
+    /// panels' steps take the series in line (`Solution::near_flow`); a
+    /// turn's step is one call.
     #[inline(never)]
     fn flow(&self, t: f64) -> Flow {
         self.series_flow(t).unwrap_or_else(|| self.closed_flow(t))
@@ -463,7 +463,9 @@ impl Trajectory<'_> {
     #[inline(always)]
     pub fn midpoint_and_end(&self, t: f64) -> (Vec2, Vec2) {
         let (s, h) = (self.solution, 0.5 * t);
-        let half = s.flow(h);
+        // The series in line, as at a scan's end: a panel's half step is
+        // within their reach as a rule.
+        let half = s.near_flow(h);
         let full = s.doubled(&half, h);
         let (to_mid, to_end) =
             (s.propagator(&half, self.tau0, h), s.propagator(&full, self.tau0, t));
