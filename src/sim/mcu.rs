@@ -153,20 +153,34 @@ pub(super) struct Comparator {
     pub(super) level: bool,
     /// DAC threshold in output volts (DAC wiring).
     threshold_v: f64,
+    /// The crossing watched for now, kept with the level and threshold it
+    /// follows: the scans and the syncs ask for it several times per
+    /// switching cycle, and the choice among the wirings cost more than
+    /// keeping it.
+    watch: Option<Watch>,
 }
 
 impl Comparator {
     pub(super) fn new(source: ComparatorSource) -> Self {
-        Self { source, level: false, threshold_v: 0.0 }
+        let mut comparator = Self { source, level: false, threshold_v: 0.0, watch: None };
+        comparator.watch = comparator.watched();
+        comparator
     }
 
     /// Whether there is one.
     pub(super) fn exists(&self) -> bool {
-        self.source != ComparatorSource::None
+        // A match on the variant: the derived comparison also looks at
+        // the Schmitt levels.
+        !matches!(self.source, ComparatorSource::None)
     }
 
     /// The crossing the plant must stop at.
     pub(super) fn watch(&self) -> Option<Watch> {
+        self.watch
+    }
+
+    /// [`watch`](Self::watch) from the wiring, the level and the threshold.
+    fn watched(&self) -> Option<Watch> {
         match self.source {
             ComparatorSource::None => None,
             ComparatorSource::Dac => Some(Watch { level_v: self.threshold_v, rising: !self.level }),
@@ -199,12 +213,14 @@ impl Comparator {
         };
         let changed = level != self.level;
         self.level = level;
+        self.watch = self.watched();
         changed
     }
 
     /// The output crossed the watched level.
     pub(super) fn flip(&mut self) {
         self.level = !self.level;
+        self.watch = self.watched();
     }
 }
 
