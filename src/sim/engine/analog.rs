@@ -302,17 +302,21 @@ impl<F: Firmware> Engine<F> {
         }
     }
 
-    /// Switch the plant when the gate pin changed.
+    /// Switch the plant when the gate pin changed. Inline: a handler often
+    /// leaves the pin as it was, and the check alone costs less than a
+    /// call.
+    #[inline]
     pub(super) fn follow_pin(&mut self) {
         let on = self.peripherals.gate();
         if on != self.gate {
-            self.catch_up();
             self.switch_gate(on);
-            self.forget_ahead();
         }
     }
 
+    /// The gate's edge: the plant caught up to the tick and switched.
+    #[inline(never)]
     fn switch_gate(&mut self, on: bool) {
+        self.catch_up();
         let t = self.t_s();
         let o = self.observation();
         if on {
@@ -338,6 +342,7 @@ impl<F: Firmware> Engine<F> {
         } else {
             self.plant.set_mode(final_mode);
         }
+        self.forget_ahead();
     }
 }
 
