@@ -45,7 +45,10 @@ impl Adc {
     }
 
     /// The result for the output at `tick`: ideal converter plus noise,
-    /// saturating at the rails; an open divider reads 0 V.
+    /// saturating at the rails; an open divider reads 0 V. Inline, as
+    /// [`convert_input`](Self::convert_input): one call each per sample,
+    /// and the calls cost a good part of the arithmetic.
+    #[inline]
     pub(super) fn convert_output(&mut self, v_out: f64, tick: u64) -> u16 {
         let open = self.open_from.is_some_and(|t| tick >= t);
         let exact = self.output.exact_code(if open { 0.0 } else { v_out });
@@ -54,6 +57,7 @@ impl Adc {
     }
 
     /// The result for the input.
+    #[inline]
     pub(super) fn convert_input(&mut self, v_in: f64) -> u16 {
         let noisy = self.input.exact_code(v_in) + self.noise();
         self.input.saturate(round_half_away(noisy))
