@@ -196,6 +196,9 @@ pub struct Cpu {
     costs: Option<Costs>,
     /// Each handler's cost in timer ticks (ceiling).
     ticks: [u64; 4],
+    /// Each handler's cycles, zero when no core is named: read once per
+    /// handler run, without asking for the costs each time.
+    cycles: [f64; 4],
     /// The fast handlers' core is busy until this tick.
     busy_until: u64,
     /// The housekeeping tick in progress ends at this tick.
@@ -217,6 +220,7 @@ impl Cpu {
         Self {
             costs,
             ticks,
+            cycles: costs.map_or([0.0; 4], |c| c.cycles),
             busy_until: 0,
             housekeeping_until: None,
             spent: [0.0; 4],
@@ -277,7 +281,7 @@ impl Cpu {
     fn account(&mut self, handler: Handler) {
         let i = handler.index();
         self.calls[i] += 1;
-        self.spent[i] += self.costs.map_or(0.0, |c| c.cycles(handler));
+        self.spent[i] += self.cycles[i];
     }
 
     /// What the run cost the CPU over `simulated_s`.
