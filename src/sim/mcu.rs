@@ -39,9 +39,10 @@ impl Adc {
         }
     }
 
-    /// The output channel.
-    pub(super) fn output_channel(&self) -> &AdcChannel {
-        &self.output.channel
+    /// The output voltage an output code stands for (a DAC threshold on
+    /// the output's scale), V.
+    pub(super) fn output_volts(&self, code: u16) -> f32 {
+        self.output.volts(code)
     }
 
     /// The result for the output at `tick`: ideal converter plus noise,
@@ -70,11 +71,11 @@ impl Adc {
 }
 
 /// A channel's conversion with its factors taken out once:
-/// [`AdcChannel::exact_code`] without recomputing the LSB (a division)
-/// each time, the same arithmetic otherwise.
+/// [`AdcChannel::exact_code`] and [`AdcChannel::to_volts`] without
+/// recomputing the LSB (a division) each time, the same arithmetic
+/// otherwise.
 #[derive(Clone, Copy, Debug)]
 struct Converter {
-    channel: AdcChannel,
     ratio: f64,
     offset_v: f64,
     lsb_v: f64,
@@ -84,7 +85,6 @@ struct Converter {
 impl Converter {
     fn new(channel: AdcChannel) -> Self {
         Self {
-            channel,
             ratio: f64::from(channel.ratio()),
             offset_v: f64::from(channel.offset_v()),
             lsb_v: channel.lsb_pin_v(),
@@ -95,6 +95,11 @@ impl Converter {
     /// The exact (unrounded) code for a signal voltage.
     fn exact_code(&self, signal_v: f64) -> f64 {
         (signal_v * self.ratio + self.offset_v) / self.lsb_v
+    }
+
+    /// The signal voltage a code stands for.
+    fn volts(&self, code: u16) -> f32 {
+        ((f64::from(code) * self.lsb_v - self.offset_v) / self.ratio) as f32
     }
 
     /// A rounded code, held within the rails.
@@ -198,11 +203,11 @@ impl Comparator {
 
     /// The level for output `v` with the DAC at `dac_code`; true when it
     /// changed (an edge interrupt follows).
-    pub(super) fn settle(&mut self, v: f64, dac_code: u16, adc: &AdcChannel) -> bool {
+    pub(super) fn settle(&mut self, v: f64, dac_code: u16, adc: &Adc) -> bool {
         let level = match self.source {
             ComparatorSource::None => return false,
             ComparatorSource::Dac => {
-                self.threshold_v = f64::from(adc.to_volts(dac_code));
+                self.threshold_v = f64::from(adc.output_volts(dac_code));
                 v > self.threshold_v
             }
             ComparatorSource::Schmitt { lower_v, upper_v } => {
@@ -238,6 +243,9 @@ mod tests {
         let converter = Converter::new(channel);
         for v in [-1.0, 0.0, 1.234_567, 4.98, 5.02, 11.0] {
             assert_eq!(converter.exact_code(v), channel.exact_code(v), "{v}");
+        }
+        for code in 0..=channel.full_scale_code() {
+            assert_eq!(converter.volts(code).to_bits(), channel.to_volts(code).to_bits(), "{code}");
         }
     }
 

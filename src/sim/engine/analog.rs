@@ -245,7 +245,7 @@ impl<F: Firmware> Engine<F> {
         let (x, ahead) = self.state_at_tick();
         let v = self.plant.v_out_of(&x, ahead);
         let watched = self.comparator.watch();
-        if self.comparator.settle(v, dac, self.adc.output_channel()) {
+        if self.comparator.settle(v, dac, &self.adc) {
             self.schedule_edge_interrupt(self.seconds(self.tick), self.tick);
         }
         if self.comparator.watch() != watched {
