@@ -38,6 +38,10 @@ pub trait Firmware {
 
     /// For the record: the firmware's estimate of the inductor current at
     /// `now`, A. Default: none.
+    ///
+    /// It must be a function of `now` and of the state the handlers above
+    /// leave: the simulator reads it once at a tick and reuses that reading
+    /// until a handler runs there.
     fn estimated_current_a(&self, now: Instant) -> Option<f64> {
         let _ = now;
         None

@@ -479,8 +479,9 @@ impl Trajectory<'_> {
 
     /// An affine function of the state and time followed along the
     /// trajectory, as a function of the time since its start.
-    // In line always: the refinement of a crossing and a panel's turn take
-    // it once each, from values their callers hold in registers.
+    // In line always: a crossing's refinement, a panel's turn and a
+    // segment's root take it once each, from values their callers hold in
+    // registers.
     #[inline(always)]
     pub fn follow(&self, f: &Affine) -> Followed<'_> {
         let (x0, tau0) = (&self.x0, self.tau0);

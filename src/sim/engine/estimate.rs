@@ -30,7 +30,8 @@ pub(super) enum TickEstimate {
     /// Not given at this tick yet.
     NotGiven,
     /// Given before the tick's handlers, none run since: the estimate at
-    /// the tick still, A.
+    /// the tick still, A (the firmware's estimate depends on its handlers'
+    /// state and the time alone: see `Firmware::estimated_current_a`).
     Holds(f64),
     /// Given, and a handler has run since.
     Moved,
@@ -42,7 +43,9 @@ impl<F: Firmware> Engine<F> {
         self.firmware.estimated_current_a(at).unwrap_or(f64::NAN)
     }
 
-    /// The firmware's estimate at the tick.
+    /// The firmware's estimate at the tick: the value held since
+    /// [`knot_before`](Self::knot_before) while no handler has run there,
+    /// else asked of the firmware.
     pub(super) fn estimate_now(&self) -> f64 {
         match self.tick_estimate {
             TickEstimate::Holds(e) => e,

@@ -95,8 +95,9 @@ impl Schedule {
         schedule
     }
 
-    /// Stop every `period` ticks from now on (tick 0), `period` > 0.
+    /// Stop at every multiple of `period` ticks (> 0), counted from tick 0.
     pub fn probe_every(&mut self, period: u64) {
+        debug_assert!(period > 0, "a probe period of zero ticks");
         self.probe = Some((period, period));
         self.find_next_rare_tick();
     }
@@ -144,7 +145,7 @@ impl Schedule {
     }
 
     /// Whether a probe stop is due by `tick`; it is taken, the next one
-    /// set a period after the tick.
+    /// set at the next multiple of the period after the tick.
     pub fn take_probe(&mut self, tick: u64) -> bool {
         let Some((period, next)) = self.probe.as_mut().filter(|(_, next)| *next <= tick) else {
             return false;
