@@ -157,9 +157,11 @@ impl ComparatorSource {
 /// The analog comparator.
 #[derive(Clone, Copy, Debug)]
 pub(super) struct Comparator {
-    pub(super) source: ComparatorSource,
+    source: ComparatorSource,
     /// Output level now (DAC: signal above threshold; Schmitt: "on" request).
-    pub(super) level: bool,
+    /// Private, as the source and threshold: each change must refresh
+    /// `watch`.
+    level: bool,
     /// DAC threshold in output volts (DAC wiring).
     threshold_v: f64,
     /// The crossing watched for now, kept with the level and threshold it
@@ -174,6 +176,11 @@ impl Comparator {
         let mut comparator = Self { source, level: false, threshold_v: 0.0, watch: None };
         comparator.watch = comparator.watched();
         comparator
+    }
+
+    /// Its output level now.
+    pub(super) fn level(&self) -> bool {
+        self.level
     }
 
     /// Whether there is one.

@@ -129,7 +129,7 @@ impl<F: Firmware> Engine<F> {
                     Some(end) if same_level => end,
                     _ => self.plant.ahead(t),
                 };
-                self.peripherals.set_comparator(self.comparator.level);
+                self.peripherals.set_comparator(self.comparator.level());
                 self.schedule_edge_interrupt(self.t_s() + t, self.plant_tick);
                 if let Some(edge) = self.schedule.edge {
                     target = target.min(edge.at);
@@ -253,7 +253,7 @@ impl<F: Firmware> Engine<F> {
             self.scanned = Ahead { t: ahead, x };
             self.found = None;
         }
-        self.peripherals.set_comparator(self.comparator.level);
+        self.peripherals.set_comparator(self.comparator.level());
     }
 
     /// The comparator's output changed at `at_s` (in the tick `tick`): its
@@ -265,7 +265,7 @@ impl<F: Firmware> Engine<F> {
         if self.schedule.edge.is_some() {
             self.cpu.merge(Handler::Comparator);
         }
-        self.schedule.edge = Some(EdgeIrq { at, level: self.comparator.level });
+        self.schedule.edge = Some(EdgeIrq { at, level: self.comparator.level() });
     }
 
     pub(super) fn profile_breakpoints(&mut self) {
