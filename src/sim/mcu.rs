@@ -185,8 +185,6 @@ impl Comparator {
 
     /// Whether there is one.
     pub(super) fn exists(&self) -> bool {
-        // A match on the variant: fewer instructions than the derived
-        // comparison, as compiled.
         !matches!(self.source, ComparatorSource::None)
     }
 

@@ -38,12 +38,12 @@ pub struct Event {
 }
 
 /// How far ahead of the plant one scan looks at least (further when the
-/// loop's next event is further, up to [`SCAN_OF_FASTEST`]), as a fraction of the fastest
-/// response's time constant `1/ρ` (`ρ` the larger eigenvalue magnitude of
-/// the present mode; about 100 µs for the demo stage, see
-/// [`super::PANEL_OF_FASTEST`], so a scan looks about 6 µs ahead): an event
-/// found beyond the next one costs no second scan, and a step this short
-/// keeps to the flow's shortest power series.
+/// loop's next event is further, up to [`SCAN_OF_FASTEST`]), as a
+/// fraction of the fastest response's time constant `1/ρ` (`ρ` the larger
+/// eigenvalue magnitude of the present mode; about 100 µs for the demo
+/// stage, see [`super::PANEL_OF_FASTEST`], so a scan looks about 6 µs
+/// ahead): an event found beyond the next one costs no second scan, and a
+/// step this short keeps to the flow's shortest power series.
 pub const LOOKAHEAD_OF_FASTEST: f64 = 1.0 / 16.0;
 
 /// The longest interval one scan tests as a whole, as a fraction of the
