@@ -159,8 +159,8 @@ mod tests {
     use super::CoreLoss;
 
     /// Steinmetz's equation as written, `k·f^α·B̂^β·V` with
-    /// `B̂ = L·Δi/(2·N·A)` (C. P. Steinmetz, 1892; the form of any
-    /// magnetics handbook).
+    /// `B̂ = L·Δi/(2·N·A)` (C. P. Steinmetz, "On the law of hysteresis",
+    /// 1892).
     fn written(c: &CoreLoss, l_h: f64, delta_i_a: f64, f_hz: f64) -> f64 {
         let b_peak = l_h * delta_i_a / (2.0 * c.turns * c.area_m2);
         c.k * f_hz.powf(c.alpha) * b_peak.powf(c.beta) * c.volume_m3
@@ -169,26 +169,20 @@ mod tests {
     #[test]
     fn the_core_loss_is_steinmetzs_equation_to_its_last_bits() {
         // The shipped demo's core (coefficients from memory, demo values).
-        let core = CoreLoss {
-            k: 4.0,
-            alpha: 1.4,
-            beta: 2.6,
-            turns: 20.0,
-            area_m2: 20e-6,
-            volume_m3: 1.5e-6,
-        };
+        let demo = crate::sim::Scenario::default_demo().plant;
+        let (core, l_h) = (demo.core.expect("the demo has a core"), demo.l_h);
         for (delta_i_a, f_hz) in [(1.2, 35e3), (3.9, 21e3), (0.01, 140e3), (2.0, 1.0)] {
             let (got, want) =
-                (core.power_w(47e-6, delta_i_a, f_hz), written(&core, 47e-6, delta_i_a, f_hz));
+                (core.power_w(l_h, delta_i_a, f_hz), written(&core, l_h, delta_i_a, f_hz));
             assert!(
                 (got - want).abs() <= 1e-13 * want,
                 "{delta_i_a} A, {f_hz} Hz: {got} against {want}"
             );
         }
         // No ripple: 0^β, whatever β.
-        for beta in [2.6, 0.0] {
+        for beta in [core.beta, 0.0] {
             let c = CoreLoss { beta, ..core };
-            assert_eq!(c.power_w(47e-6, 0.0, 35e3), written(&c, 47e-6, 0.0, 35e3), "β = {beta}");
+            assert_eq!(c.power_w(l_h, 0.0, 35e3), written(&c, l_h, 0.0, 35e3), "β = {beta}");
         }
     }
 }
