@@ -42,7 +42,6 @@ impl CoreLoss {
     /// Core loss power for a cycle of frequency `f_hz` with peak-to-peak
     /// ripple `delta_i_a` in inductance `l_h`.
     ///
-    ///
     /// `f^α·B̂^β` as one exponential of the two logarithms: the loop takes
     /// it once a switching cycle, where two `powf` cost more (the result
     /// differs from theirs in its last bits only). A flux that is not
@@ -167,7 +166,7 @@ mod tests {
     }
 
     #[test]
-    fn the_core_loss_is_steinmetzs_equation_to_its_last_bits() {
+    fn the_core_loss_is_steinmetzs_equation_within_rounding() {
         // The shipped demo's core (coefficients from memory, demo values).
         let demo = crate::sim::Scenario::default_demo().plant;
         let (core, l_h) = (demo.core.expect("the demo has a core"), demo.l_h);
