@@ -36,34 +36,6 @@ impl<F: Firmware> Engine<F> {
         self.seconds(tick - self.plant_tick) - self.frac
     }
 
-    /// Look ahead of the plant up to `target` (see
-    /// [`watch_until`](Self::watch_until)), stopping first at a handler's
-    /// end that changed nothing before it, as the loop did when it stopped
-    /// there: a scan split elsewhere rounds its states differently, and
-    /// the record must not change in its last bits. Returns the tick the
-    /// loop goes to.
-    pub(super) fn look_ahead(&mut self, target: u64) -> u64 {
-        // A stop is set at a handler's start for its end, and taken or
-        // passed by the time the loop reaches it.
-        debug_assert!(self.scan_stop.is_none_or(|stop| stop > self.tick));
-        let Some(stop) = self.scan_stop.filter(|&stop| stop <= target) else {
-            return self.watch_until(target);
-        };
-        if stop == target {
-            self.scan_stop = None;
-            return self.watch_until(target);
-        }
-        let reached = self.watch_until(stop);
-        if reached < stop {
-            return reached;
-        }
-        self.scan_stop = None;
-        // A crossing found on the way may have brought its interrupt
-        // before `target`.
-        let target = self.next_event();
-        self.watch_until(target)
-    }
-
     /// Look ahead of the plant up to `target` for a comparator crossing, a
     /// DCM zero or a band edge, moving the plant to each DCM zero or band
     /// edge found (a crossing changes the comparator, not the plant); returns

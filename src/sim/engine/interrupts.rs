@@ -88,8 +88,7 @@ impl<F: Firmware> Engine<F> {
     /// and the compare armed for the same tick (the same instant, counted
     /// from a later tick). Interrupts waiting for the core wake the loop at
     /// the end anyway
-    /// ([`next_but_sample`](super::schedule::Schedule::next_but_sample));
-    /// the look-ahead still stops there ([`look_ahead`](Self::look_ahead)).
+    /// ([`next_but_sample`](super::schedule::Schedule::next_but_sample)).
     /// A handler that takes no time, its end the tick, is done with the
     /// same way.
     fn handler_ran(&mut self, end: u64) {
@@ -98,9 +97,6 @@ impl<F: Firmware> Engine<F> {
             && self.schedule.compare.is_none_or(|t| t > end)
         {
             self.peripherals.commit();
-            if end > self.tick && self.comparator.exists() {
-                self.scan_stop = Some(end);
-            }
         } else if end <= self.tick {
             self.peripherals.commit();
             self.after_handler();

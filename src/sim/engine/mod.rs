@@ -156,10 +156,6 @@ struct Engine<F> {
     cpu: Cpu,
     /// A fast handler's outputs take effect at this tick (when it ends).
     effects_at: Option<u64>,
-    /// The end of a handler whose writes changed nothing, where the
-    /// look-ahead stops although the loop does not (see
-    /// [`look_ahead`](Self::look_ahead)).
-    scan_stop: Option<u64>,
     /// Set when a handler's outputs are first followed, and kept: from
     /// then on the gate, compare and comparator are what the peripherals
     /// last set, as each later write is followed. False before, for a
@@ -204,7 +200,7 @@ pub fn run_firmware_with<F: Firmware>(
         let target = others.min(engine.schedule.next_sample);
         engine.tick = if engine.comparator.exists() {
             // A comparator may fire inside the interval: look ahead first.
-            engine.look_ahead(target)
+            engine.watch_until(target)
         } else {
             target
         };
@@ -322,7 +318,6 @@ impl<F: Firmware> Engine<F> {
             recorder,
             cpu,
             effects_at: None,
-            scan_stop: None,
             outputs_followed: false,
         })
     }
@@ -340,11 +335,6 @@ impl<F: Firmware> Engine<F> {
             cpu: self.cpu.usage(self.schedule.end as f64 * self.tick_s),
             recorder: self.recorder.finished(),
         }
-    }
-
-    /// The next tick something happens.
-    fn next_event(&self) -> u64 {
-        self.next_but_sample().min(self.schedule.next_sample)
     }
 
     /// The next tick something other than an ADC sampling instant happens
