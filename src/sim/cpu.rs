@@ -196,15 +196,10 @@ pub struct Cpu {
     costs: Option<Costs>,
     /// Each handler's cost in timer ticks (ceiling).
     ticks: [u64; 4],
-    /// Each handler's cycles, zero when no core is named: read once per
-    /// handler run, without asking for the costs each time.
-    cycles: [f64; 4],
     /// The fast handlers' core is busy until this tick.
     busy_until: u64,
     /// The housekeeping tick in progress ends at this tick.
     housekeeping_until: Option<u64>,
-    /// Cycles spent, per handler.
-    spent: [f64; 4],
     /// Calls, and merged (overrun) events, per handler.
     calls: [u64; 4],
     merged: [u64; 4],
@@ -220,10 +215,8 @@ impl Cpu {
         Self {
             costs,
             ticks,
-            cycles: costs.map_or([0.0; 4], |c| c.cycles),
             busy_until: 0,
             housekeeping_until: None,
-            spent: [0.0; 4],
             calls: [0; 4],
             merged: [0; 4],
         }
@@ -279,9 +272,7 @@ impl Cpu {
     }
 
     fn account(&mut self, handler: Handler) {
-        let i = handler.index();
-        self.calls[i] += 1;
-        self.spent[i] += self.cycles[i];
+        self.calls[handler.index()] += 1;
     }
 
     /// What the run cost the CPU over `simulated_s`.
@@ -289,8 +280,9 @@ impl Cpu {
         let c = self.costs?;
         let available = c.cpu_clock_hz * simulated_s;
         // Demanded, not served: merged events count too, so a core too slow
-        // for its handlers shows above 100 %.
-        let demanded = |i: usize| self.spent[i] + self.merged[i] as f64 * c.cycles[i];
+        // for its handlers shows above 100 %. Each run of a handler costs
+        // the same cycles.
+        let demanded = |i: usize| (self.calls[i] + self.merged[i]) as f64 * c.cycles[i];
         let share = |i: usize| if available > 0.0 { demanded(i) / available } else { f64::NAN };
         let handlers = Handler::ALL
             .iter()
