@@ -19,7 +19,8 @@
 //! The first run also reads the committed instruction counts once (a few
 //! hundred thousand instructions): one run's count is the difference
 //! between three runs and one, halved. Unlike wall time, the count does
-//! not swing with the machine's load.
+//! not swing with the machine's load. `bash benches/instructions.sh` does
+//! this for the two configurations `benches/simulator.rs` times.
 
 use ripplectl::sim::{self, Scenario};
 
