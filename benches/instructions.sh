@@ -16,7 +16,7 @@ cd "$(dirname "$0")/.."
 command -v valgrind >/dev/null ||
     { echo "valgrind not found (Debian: apt-get install valgrind)" >&2; exit 1; }
 cargo build -q --release --example repeat_runs
-bin=target/release/examples/repeat_runs
+bin=${CARGO_TARGET_DIR:-target}/release/examples/repeat_runs
 
 # `count SCENARIO RUNS`: "<instructions> <switching cycles>" over RUNS runs.
 count() {
