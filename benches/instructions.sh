@@ -4,8 +4,7 @@
 # valgrind's callgrind (Debian's `valgrind`) on `examples/repeat_runs.rs`,
 # the loop alone (`run_firmware_with`). Unlike wall time, the count does
 # not swing with the machine's load, so it compares across days and
-# machines of one architecture (within a few hundred instructions a run:
-# the committed counts are looked up in a hash map with a random seed).
+# machines of one architecture, and is the same on every invocation.
 # Printed, never checked: a figure to watch, as the README's Performance
 # section says.
 #

@@ -26,7 +26,7 @@
 pub use super::cores::Core;
 use super::scenario::{HystereticInput, LawParams, Scenario};
 use serde::Serialize;
-use std::collections::HashMap;
+use std::collections::BTreeMap;
 use std::sync::OnceLock;
 
 /// A handler the firmware has.
@@ -92,9 +92,9 @@ fn rows(table: &str) -> impl Iterator<Item = (&str, &str, u32)> {
 /// process: a run looks up four counts, and reading the table's text each
 /// time cost more than a short run's handlers.
 pub fn committed_count(column: &str, op: &str) -> Option<u32> {
-    static TABLE: OnceLock<HashMap<(&str, &str), u32>> = OnceLock::new();
+    static TABLE: OnceLock<BTreeMap<(&str, &str), u32>> = OnceLock::new();
     let table = TABLE.get_or_init(|| {
-        let mut table = HashMap::new();
+        let mut table = BTreeMap::new();
         for (c, o, n) in rows(COUNTS_CSV) {
             // The first row of a pair counts, as in `count`.
             table.entry((c, o)).or_insert(n);
